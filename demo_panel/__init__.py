@@ -1,0 +1,1 @@
+"""The bundled demo panel: an invented scenario of regions, its generator and its planted truth."""

@@ -1,0 +1,1 @@
+"""evidence: statistical evidence on decoupling and convergence."""
