@@ -1,0 +1,6 @@
+"""Tables for people and machines: text, Markdown, LaTeX (booktabs), HTML, CSV, JSON."""
+
+from evidence.tables._render import FORMATS, latex_escape, render_frame
+from evidence.tables.rates import audit_table, rates_table
+
+__all__ = ["FORMATS", "render_frame", "latex_escape", "rates_table", "audit_table"]

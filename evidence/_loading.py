@@ -1,0 +1,249 @@
+"""Reading panel files and tables, detecting the layout, and validating cells.
+
+Every problem becomes a :class:`~evidence.errors.DataError` that names the unit, year, column or
+row concerned; every cell left out (a missing value, an unused column, an excluded unit) is written
+to the audit table instead of being dropped silently.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Sequence
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from evidence._validation import check_columns, format_years, suggest
+from evidence.errors import DataError
+
+__all__ = ["MISSING_MARKERS", "AUDIT_COLUMNS", "read_table", "to_long", "parse_values"]
+
+#: Cell texts read as "missing" (and listed in the audit) rather than rejected as non-numeric.
+MISSING_MARKERS: tuple[str, ...] = ("", "NA", "N/A", "n/a", "na", "NaN", "nan", "..", ".", "-", "null")
+AUDIT_COLUMNS = ["unit", "column", "years", "count", "reason"]
+_YEAR_LABEL = re.compile(r"^\s*\d{4}\s*$")
+_READERS = {".csv": "csv", ".txt": "csv", ".tsv": "tsv", ".parquet": "parquet", ".pq": "parquet",
+            ".xlsx": "excel", ".xlsm": "excel", ".xls": "excel"}
+
+
+def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataFrame, str]:
+    """Read ``source`` (path or DataFrame) as a DataFrame of raw cells; return it with a label."""
+    if isinstance(source, pd.DataFrame):
+        return source.copy(), "DataFrame"
+    if not isinstance(source, (str, Path)):
+        raise DataError(f"cannot read a panel from a {type(source).__name__}; pass a file path "
+                        "(CSV, Parquet, Excel) or a pandas DataFrame.")
+    path = Path(source)
+    if not path.exists():
+        raise DataError(f"file '{path}' does not exist.")
+    if path.is_dir():
+        raise DataError(f"'{path}' is a folder; pass a CSV, Parquet or Excel file.")
+    kind = _READERS.get(path.suffix.lower())
+    if kind is None:
+        allowed = ", ".join(sorted(_READERS))
+        raise DataError(f"file '{path}' has an unknown extension '{path.suffix}'; use one of {allowed}.")
+    try:
+        if kind in ("csv", "tsv"):
+            frame = pd.read_csv(path, dtype=str, keep_default_na=False,
+                                sep="\t" if kind == "tsv" else ",", skipinitialspace=True)
+        elif kind == "parquet":
+            frame = pd.read_parquet(path)
+        else:
+            frame = pd.read_excel(path, sheet_name=0 if sheet is None else sheet, dtype=object)
+    except ImportError as exc:
+        extra = "parquet" if kind == "parquet" else "excel"
+        raise DataError(f"reading '{path.name}' needs an optional library ({exc.name}); install it "
+                        f"with: pip install 'decoupling-evidence[{extra}]'.") from None
+    except pd.errors.EmptyDataError:
+        raise DataError(f"file '{path}' is empty.") from None
+    except (pd.errors.ParserError, UnicodeDecodeError, ValueError, OSError) as exc:
+        first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise DataError(f"file '{path}' could not be read as {kind}: {first}") from None
+    return frame, str(path)
+
+
+def default_names(frame: pd.DataFrame, unit: str | None, time: str | None) -> tuple[str, str]:
+    """Resolve default unit and time column names (see :func:`evidence.load_panel`)."""
+    names = [str(c).strip() for c in frame.columns]
+    if unit is None:
+        unit = "unit" if "unit" in names or not names else names[0]
+    if time is None:
+        time = next((n for n in ("year", "time") if n in names), "year")
+    return unit, time
+
+
+def _clean_names(frame: pd.DataFrame) -> pd.DataFrame:
+    names = [str(c).strip() for c in frame.columns]
+    seen: set[str] = set()
+    for name in names:
+        if name in seen:
+            raise DataError(f"column '{name}' appears more than once in the header; "
+                            "give each column a distinct name.")
+        seen.add(name)
+    out = frame.copy()
+    out.columns = names
+    return out
+
+
+def _year_columns(names: Sequence[str]) -> list[str]:
+    return [n for n in names if _YEAR_LABEL.match(n)]
+
+
+def detect_layout(frame: pd.DataFrame, *, time: str, layout: str) -> str:
+    """Return ``"long"`` or ``"wide"`` for ``layout="auto"``; check a forced layout."""
+    names = list(frame.columns)
+    years = _year_columns(names)
+    if layout == "auto":
+        if time in names:
+            return "long"
+        if len(years) >= 2:
+            return "wide"
+        raise DataError(f"time column '{time}' is not in the data.{suggest(time, names)} "
+                        f"Pass time=NAME for a long table, or give year columns (1990, 1991, ...) "
+                        f"for the year-columns layout.")
+    if layout == "wide" and len(years) < 2:
+        raise DataError("layout='wide' needs at least two year columns named like 1990, 1991; "
+                        f"found columns {', '.join(repr(n) for n in names)}.")
+    return layout
+
+
+def to_long(frame: pd.DataFrame, *, unit: str, time: str, variable: str, layout: str,
+            notes: list[dict[str, Any]]) -> pd.DataFrame:
+    """Return a long table with columns ``unit, time, <variables...>`` (cells still raw)."""
+    if frame.shape[0] == 0 or frame.shape[1] == 0:
+        raise DataError("the table has no rows; nothing to load.")
+    frame = _clean_names(frame)
+    layout = detect_layout(frame, time=time, layout=layout)
+    if layout == "long":
+        check_columns([unit, time], list(frame.columns))
+        return frame
+    check_columns([unit, variable], list(frame.columns))
+    years = _year_columns(list(frame.columns))
+    unused = [c for c in frame.columns if c not in years and c not in (unit, variable)]
+    for name in unused:
+        notes.append({"unit": "", "column": name, "years": "", "count": int(frame.shape[0]),
+                      "reason": "column not used: the year-columns layout reads only year columns"})
+    keys = frame[[unit, variable]].astype(str)
+    dup = keys.duplicated(keep=False)
+    if dup.any():
+        u, v = keys[dup].iloc[0]
+        raise DataError(f"unit '{u}' has more than one row for variable '{v}'; keep one row per "
+                        "unit and variable in the year-columns layout.")
+    if frame[variable].isna().any():
+        row = int(np.flatnonzero(frame[variable].isna().to_numpy())[0]) + 1
+        raise DataError(f"data row {row} has no variable name in column '{variable}'.")
+    melted = frame.melt(id_vars=[unit, variable], value_vars=years, var_name=time, value_name="_v")
+    melted[variable] = melted[variable].astype(str).str.strip()
+    long = melted.pivot(index=[unit, time], columns=variable, values="_v").reset_index()
+    long.columns.name = None
+    return long
+
+
+def parse_units(values: pd.Series, unit: str) -> pd.Series:
+    """Unit labels as stripped strings; an empty label is an error naming the row."""
+    text = values.astype(object).map(lambda v: "" if _is_missing_scalar(v) else str(v).strip())
+    empty = text == ""
+    if empty.any():
+        row = int(np.flatnonzero(empty.to_numpy())[0]) + 1
+        raise DataError(f"data row {row} has no unit label in column '{unit}'; every row needs one.")
+    return text
+
+
+def _is_missing_scalar(value: Any) -> bool:
+    try:
+        return bool(pd.isna(value))
+    except (TypeError, ValueError):
+        return False
+
+
+def parse_years(values: pd.Series, units: pd.Series, *, time: str,
+                year_range: tuple[int, int]) -> pd.Series:
+    """Integer years; non-integer, missing or out-of-range years raise, naming the unit."""
+    raw = values.astype(object)
+    as_text = raw.map(lambda v: "" if _is_missing_scalar(v) else str(v).strip())
+    numbers = pd.to_numeric(as_text.where(as_text != "", None), errors="coerce")
+    bad = numbers.isna() | (numbers != np.round(numbers.fillna(0)))
+    if bad.any():
+        i = int(np.flatnonzero(bad.to_numpy())[0])
+        shown = as_text.iloc[i] or "an empty cell"
+        raise DataError(f"unit '{units.iloc[i]}' has a non-integer year {shown!r} in column "
+                        f"'{time}'; years must be whole numbers such as 1990.")
+    years = numbers.astype("int64")
+    low, high = year_range
+    out = (years < low) | (years > high)
+    if out.any():
+        i = int(np.flatnonzero(out.to_numpy())[0])
+        raise DataError(f"unit '{units.iloc[i]}' has year {years.iloc[i]} in column '{time}', "
+                        f"outside the accepted range {low}:{high}; fix the year or pass "
+                        "year_range=(low, high).")
+    return years
+
+
+def parse_values(column: pd.Series, name: str, units: pd.Series, years: pd.Series,
+                 markers: Sequence[str]) -> pd.Series:
+    """Numeric values; missing markers become NaN, anything else non-numeric raises."""
+    if pd.api.types.is_bool_dtype(column.dtype):
+        raise DataError(f"column '{name}' holds true/false values; a panel variable must be numeric.")
+    if pd.api.types.is_numeric_dtype(column.dtype):
+        numbers = pd.to_numeric(column, errors="coerce").astype(float)
+    else:
+        raw = column.astype(object)
+        text = raw.map(lambda v: "" if _is_missing_scalar(v) else str(v).strip())
+        is_bool = raw.map(lambda v: isinstance(v, (bool, np.bool_)))
+        marker = text.isin(list(markers))
+        numbers = pd.to_numeric(text.where(~marker, None), errors="coerce").astype(float)
+        bad = (numbers.isna() & ~marker) | is_bool
+        if bad.any():
+            i = int(np.flatnonzero(bad.to_numpy())[0])
+            raise DataError(f"column '{name}' has a non-numeric cell {text.iloc[i]!r} at unit "
+                            f"'{units.iloc[i]}', year {years.iloc[i]}; fix the cell or mark it "
+                            "missing (empty, NA or ..).")
+    infinite = np.isinf(numbers.to_numpy())
+    if infinite.any():
+        i = int(np.flatnonzero(infinite)[0])
+        raise DataError(f"column '{name}' has an infinite value at unit '{units.iloc[i]}', year "
+                        f"{years.iloc[i]}; replace it with a finite number or mark it missing.")
+    return numbers
+
+
+def check_duplicates(units: pd.Series, years: pd.Series, *, time: str) -> None:
+    """Duplicated (unit, time) pairs are an error naming the first pair and its rows."""
+    keys = pd.DataFrame({"u": units.to_numpy(), "t": years.to_numpy()})
+    dup = keys.duplicated(keep=False).to_numpy()
+    if dup.any():
+        first = keys[dup].iloc[0]
+        rows = np.flatnonzero(dup & (keys["u"] == first["u"]).to_numpy()
+                              & (keys["t"] == first["t"]).to_numpy()) + 1
+        raise DataError(f"unit '{first['u']}', {time} {first['t']} appears {len(rows)} times "
+                        f"(data rows {', '.join(str(r) for r in rows[:5])}); keep one row per unit "
+                        "and year, or aggregate duplicates before loading.")
+
+
+def missing_notes(frame: pd.DataFrame, columns: Sequence[str]) -> list[dict[str, Any]]:
+    """One audit row per (unit, column) with missing cells, listing the years."""
+    notes: list[dict[str, Any]] = []
+    for name in columns:
+        missing = frame[name].isna()
+        if not missing.any():
+            continue
+        for unit_label, years in frame.loc[missing].groupby(level=0, sort=True).groups.items():
+            year_list = [y for _, y in years]
+            notes.append({"unit": unit_label, "column": name, "years": format_years(year_list),
+                          "count": len(year_list), "reason": "missing value"})
+    return notes
+
+
+def gap_notes(frame: pd.DataFrame) -> list[dict[str, Any]]:
+    """Audit rows for years absent inside a unit's span (no row at all)."""
+    notes: list[dict[str, Any]] = []
+    keys = pd.DataFrame({"u": frame.index.get_level_values(0), "t": frame.index.get_level_values(1)})
+    for unit_label, years in keys.groupby("u", sort=True)["t"]:
+        values = years.to_numpy()
+        span = set(range(int(values.min()), int(values.max()) + 1))
+        absent = sorted(span.difference(values.tolist()))
+        if absent:
+            notes.append({"unit": unit_label, "column": "", "years": format_years(absent),
+                          "count": len(absent), "reason": "gap: no row for these years"})
+    return notes

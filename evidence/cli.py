@@ -1,0 +1,192 @@
+"""The command line: parses options, calls the public API, formats, exits.
+
+Exit codes: 0 success; 2 bad input or usage (one line on stderr, no traceback; ``--debug`` shows
+it); 1 an internal failure.
+"""
+
+from __future__ import annotations
+
+import sys
+import traceback
+from collections.abc import Callable, Sequence
+from pathlib import Path
+
+import click
+
+import evidence as ev
+from evidence._cautions import CAUTION
+from evidence.errors import EvidenceError
+from evidence.tables import FORMATS, audit_table, rates_table, render_frame
+
+__all__ = ["main", "cli"]
+
+PROG = "evidence"
+
+
+def _data_options(func: Callable) -> Callable:
+    func = click.option("--layout", type=click.Choice(["auto", "long", "wide"], case_sensitive=False),
+                        default="auto", show_default=True,
+                        help="long: one row per unit and year; wide: one column per year.")(func)
+    func = click.option("--time", "time_col", default=None,
+                        help="Time column (default: 'year', else 'time').")(func)
+    func = click.option("--unit", "unit_col", default=None,
+                        help="Unit column (default: 'unit', else the first column).")(func)
+    return click.argument("data", type=click.Path(dir_okay=False, path_type=Path))(func)
+
+
+def _format_option(func: Callable) -> Callable:
+    func = click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=Path),
+                        default=None, help="Write to this file instead of the terminal.")(func)
+    return click.option("--format", "fmt", type=click.Choice(FORMATS, case_sensitive=False),
+                        default="text", show_default=True, help="Output format.")(func)
+
+
+def _emit(text: str, output: Path | None) -> None:
+    if output is None:
+        click.echo(text, nl=False)
+        return
+    try:
+        output.write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise ev.DataError(f"cannot write '{output}': {exc.strerror}.") from None
+    click.echo(f"wrote {output}", err=True)
+
+
+def _load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> ev.Panel:
+    return ev.load_panel(data, unit=unit_col, time=time_col, layout=layout)  # type: ignore[arg-type]
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.option("--debug", is_flag=True, help="Show the full traceback of an error.")
+@click.version_option(ev.__version__, prog_name=PROG)
+def cli(debug: bool) -> None:
+    """Statistical evidence on decoupling and convergence, for papers and reports."""
+
+
+@cli.command()
+@click.option("--out", type=click.Path(file_okay=False, path_type=Path),
+              default=Path("evidence-demo"), show_default=True, help="Results folder.")
+def demo(out: Path) -> None:
+    """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
+    progress = _progress_callback("figures")
+    try:
+        result = ev.run_demo(out, progress=progress.update if progress else None)
+    finally:
+        if progress:
+            progress.close()
+    click.echo(f"Demo panel: {len(result['panel'].units)} invented regions, "
+               f"{result['panel'].years[0]}-{result['panel'].years[-1]}.")
+    for pressure, res in result["rates"].items():
+        click.echo("")
+        click.echo(res.summary())
+    click.echo("")
+    click.echo(f"Wrote {len(result['files'])} files to {result['folder']}/ "
+               "(rates tables, audit, figures, README).")
+    click.echo(CAUTION)
+
+
+@cli.command()
+@_data_options
+@click.option("--format", "fmt", type=click.Choice(["text", "markdown", "json"], case_sensitive=False),
+              default="text", show_default=True, help="Output format.")
+@click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=Path), default=None,
+              help="Write to this file instead of the terminal.")
+def inspect(data: Path, unit_col: str | None, time_col: str | None, layout: str, fmt: str,
+            output: Path | None) -> None:
+    """Show a panel's units, years, variables, gaps and audit."""
+    panel = _load(data, unit_col, time_col, layout)
+    years = panel.years
+    facts = [("source", str(data)), ("unit column", panel.unit_name),
+             ("time column", panel.time_name), ("units", str(len(panel.units))),
+             ("years", f"{years[0]}-{years[-1]} ({len(years)})"),
+             ("balanced", "yes" if panel.is_balanced else "no"),
+             ("unit list", ", ".join(panel.units))]
+    if fmt.lower() == "json":
+        import json
+
+        from evidence._json import json_safe
+        payload = {"facts": dict(facts), "variables": json_safe(panel.describe().to_dict("records")),
+                   "audit": json_safe(panel.audit.to_dict("records"))}
+        _emit(json.dumps(payload, indent=2) + "\n", output)
+        return
+    overview = render_frame(_facts_frame(facts), fmt, title="Panel", index=False)
+    variables = render_frame(panel.describe(), fmt, title="Variables", index=False)
+    audit = audit_table(panel.audit, fmt)
+    _emit("\n".join([overview, variables, audit]), output)
+
+
+def _facts_frame(facts: Sequence[tuple[str, str]]):  # noqa: ANN202
+    import pandas as pd
+
+    return pd.DataFrame(facts, columns=["item", "value"])
+
+
+@cli.command("rates")
+@_data_options
+@click.option("--pressure", required=True, help="Pressure column (e.g. emissions).")
+@click.option("--activity", required=True, help="Activity column (e.g. real GDP).")
+@click.option("--window", default=None, help="Years START:END, inclusive (default: common span).")
+@click.option("--hac-lags", type=int, default=None, help="Newey-West lags (default: rule of thumb).")
+@_format_option
+def rates_command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
+                  pressure: str, activity: str, window: str | None, hac_lags: int | None,
+                  fmt: str, output: Path | None) -> None:
+    """Trend growth, Tapio class and OECD decoupling factor per unit."""
+    panel = _load(data, unit_col, time_col, layout)
+    result = ev.rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
+    _emit(rates_table(result, fmt.lower()), output)
+
+
+class _Progress:
+    def __init__(self, label: str) -> None:
+        from rich.progress import Progress
+
+        self._bar = Progress(transient=True)
+        self._task = self._bar.add_task(label, total=None)
+        self._bar.start()
+
+    def update(self, done: int, total: int) -> None:
+        self._bar.update(self._task, completed=done, total=total)
+
+    def close(self) -> None:
+        self._bar.stop()
+
+
+def _progress_callback(label: str) -> _Progress | None:
+    """A progress bar on a terminal; nothing when output is piped or in CI."""
+    return _Progress(label) if sys.stderr.isatty() and sys.stdout.isatty() else None
+
+
+def main(argv: Sequence[str] | None = None) -> int:
+    """Entry point of the ``evidence`` console script; returns the exit code."""
+    args = list(sys.argv[1:] if argv is None else argv)
+    debug = "--debug" in args
+    try:
+        cli.main(args=args, prog_name=PROG, standalone_mode=False)
+    except click.exceptions.Exit as exc:
+        return int(exc.exit_code)
+    except click.exceptions.Abort:
+        click.echo(f"{PROG}: aborted", err=True)
+        return 1
+    except click.UsageError as exc:
+        click.echo(f"{PROG}: usage error: {exc.format_message()} (see '{PROG} --help')", err=True)
+        return 2
+    except click.ClickException as exc:
+        click.echo(f"{PROG}: error: {exc.format_message()}", err=True)
+        return 2
+    except EvidenceError as exc:
+        if debug:
+            traceback.print_exc()
+        click.echo(f"{PROG}: error: {exc}", err=True)
+        return 2
+    except Exception as exc:  # an internal failure: say so in one line
+        if debug:
+            traceback.print_exc()
+        click.echo(f"{PROG}: internal error: {type(exc).__name__}: {exc} "
+                   "(re-run with --debug for the traceback)", err=True)
+        return 1
+    return 0
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

@@ -1,0 +1,273 @@
+"""Result objects shared by every method: :class:`TestResult` for tests, :class:`Estimate` for estimators.
+
+Both are frozen dataclasses. They print a one-line ``repr``, a readable ``summary()``, one tidy
+table (``to_frame()``) and a JSON-safe ``to_dict()``. Tables and reports only format these objects;
+they never recompute a statistic.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from types import MappingProxyType
+from typing import Any
+
+import numpy as np
+import pandas as pd
+from scipy import stats
+
+from evidence._json import json_safe
+
+__all__ = ["TestResult", "Estimate", "format_pvalue", "format_number"]
+
+LEVELS = (0.01, 0.05, 0.10)
+
+
+def format_number(value: float | None, digits: int = 4) -> str:
+    """Format a number with fixed decimals; NaN/None print as ``nan``."""
+    if value is None:
+        return "nan"
+    value = float(value)
+    if math.isnan(value):
+        return "nan"
+    if math.isinf(value):
+        return "inf" if value > 0 else "-inf"
+    return f"{value:.{digits}f}"
+
+
+def format_pvalue(p: float | None) -> str:
+    """Format a p-value: four decimals, ``<0.0001`` below that."""
+    if p is None or (isinstance(p, float) and math.isnan(p)):
+        return "nan"
+    return "<0.0001" if p < 1e-4 else f"{p:.4f}"
+
+
+def _frozen_mapping(value: Mapping[Any, Any] | None) -> Mapping[Any, Any]:
+    return MappingProxyType(dict(value or {}))
+
+
+@dataclass(frozen=True)
+class TestResult:
+    """The outcome of one hypothesis test.
+
+    Attributes
+    ----------
+    test : str
+        Name of the test, e.g. ``"Pesaran CD"``.
+    statistic, pvalue : float
+        The test statistic and its p-value (NaN when the test could not apply).
+    critical_values : mapping
+        Critical values keyed by significance level (0.01, 0.05, 0.10) where known.
+    null, alternative : str
+        The hypotheses in words.
+    nobs : int
+        Observations used.
+    details : mapping
+        Options and by-products (lags, trend, bandwidth, seed, window...).
+    reference : str
+        Citation key of the method (see ``docs/methods``).
+    warnings : tuple of str
+        Cautions that apply to this result (small T, skipped units...).
+    """
+
+    __test__ = False  # not a pytest test class
+
+    test: str
+    statistic: float
+    pvalue: float
+    critical_values: Mapping[float, float] = field(default_factory=dict)
+    null: str = ""
+    alternative: str = ""
+    nobs: int = 0
+    details: Mapping[str, Any] = field(default_factory=dict)
+    reference: str = ""
+    warnings: tuple[str, ...] = ()
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "statistic", float(self.statistic))
+        object.__setattr__(self, "pvalue", float(self.pvalue))
+        object.__setattr__(self, "nobs", int(self.nobs))
+        cv = {float(k): float(v) for k, v in dict(self.critical_values).items()}
+        object.__setattr__(self, "critical_values", _frozen_mapping(cv))
+        object.__setattr__(self, "details", _frozen_mapping(self.details))
+        object.__setattr__(self, "warnings", tuple(str(w) for w in self.warnings))
+
+    @classmethod
+    def inapplicable(cls, test: str, *, reason: str, nobs: int = 0, reference: str = "") -> TestResult:
+        """A result for a test that cannot apply here: NaN statistic and p-value, with the reason."""
+        return cls(test=test, statistic=math.nan, pvalue=math.nan, nobs=nobs,
+                   details={"inapplicable": reason}, reference=reference, warnings=(reason,))
+
+    @property
+    def applicable(self) -> bool:
+        """False when the test could not be computed (see ``warnings`` for why)."""
+        return "inapplicable" not in self.details
+
+    def reject(self, alpha: float = 0.05) -> bool | None:
+        """Whether H0 is rejected at level ``alpha`` (``None`` when the p-value is unknown)."""
+        if math.isnan(self.pvalue):
+            return None
+        return bool(self.pvalue < alpha)
+
+    def __repr__(self) -> str:
+        return (f"TestResult(test={self.test!r}, statistic={format_number(self.statistic)}, "
+                f"pvalue={format_pvalue(self.pvalue)}, nobs={self.nobs})")
+
+    def summary(self) -> str:
+        """A readable block of text: hypotheses, statistic, p-value, critical values, options."""
+        lines = [self.test]
+        if self.null:
+            lines.append(f"  H0: {self.null}")
+        if self.alternative:
+            lines.append(f"  H1: {self.alternative}")
+        lines.append(f"  statistic {format_number(self.statistic)}   p-value "
+                     f"{format_pvalue(self.pvalue)}   nobs {self.nobs}")
+        if self.critical_values:
+            cvs = "  ".join(f"{k:.0%}: {format_number(v, 3)}"
+                            for k, v in sorted(self.critical_values.items()))
+            lines.append(f"  critical values  {cvs}")
+        for key, value in self.details.items():
+            if key != "inapplicable":
+                lines.append(f"  {key}: {value}")
+        if self.reference:
+            lines.append(f"  reference: {self.reference}")
+        lines.extend(f"  warning: {w}" for w in self.warnings)
+        return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """One tidy row: test, statistic, p-value, critical values, nobs."""
+        row: dict[str, Any] = {"test": self.test, "statistic": self.statistic,
+                               "pvalue": self.pvalue, "nobs": self.nobs}
+        for level in LEVELS:
+            row[f"cv_{int(round(level * 100))}"] = self.critical_values.get(level, math.nan)
+        row["null"] = self.null
+        row["warnings"] = "; ".join(self.warnings)
+        return pd.DataFrame([row])
+
+    def to_dict(self) -> dict[str, Any]:
+        """All fields as JSON-safe Python objects."""
+        return json_safe({
+            "test": self.test, "statistic": self.statistic, "pvalue": self.pvalue,
+            "critical_values": {str(k): v for k, v in sorted(self.critical_values.items())},
+            "null": self.null, "alternative": self.alternative, "nobs": self.nobs,
+            "details": dict(self.details), "reference": self.reference,
+            "warnings": list(self.warnings),
+        })
+
+
+def _as_series(values: Any, index: pd.Index, name: str) -> pd.Series:
+    series = pd.Series(np.asarray(values, dtype=float), index=index, name=name)
+    return series
+
+
+@dataclass(frozen=True, eq=False)
+class Estimate:
+    """Coefficients of one estimated model with their covariance.
+
+    Attributes
+    ----------
+    estimator : str
+        Name of the estimator (``"fixed effects"``, ``"CCE mean group"``...).
+    dependent : str
+        The dependent variable.
+    params, std_errors : pandas.Series
+        Coefficients and standard errors, indexed by regressor name.
+    cov : pandas.DataFrame
+        Covariance of the coefficients.
+    cov_type : str
+        How ``cov`` was computed, in words (e.g. ``"Driscoll-Kraay, bandwidth 3"``).
+    nobs : int
+        Observations used.
+    df_resid : float or None
+        Degrees of freedom of the Student t reference distribution; ``None`` for the normal.
+    details, reference, warnings
+        As for :class:`TestResult`.
+    """
+
+    estimator: str
+    dependent: str
+    params: pd.Series
+    std_errors: pd.Series
+    cov: pd.DataFrame
+    cov_type: str
+    nobs: int
+    df_resid: float | None = None
+    details: Mapping[str, Any] = field(default_factory=dict)
+    reference: str = ""
+    warnings: tuple[str, ...] = ()
+
+    def __post_init__(self) -> None:
+        params = pd.Series(self.params, dtype=float).copy()
+        index = params.index
+        object.__setattr__(self, "params", params.rename("params"))
+        object.__setattr__(self, "std_errors", _as_series(self.std_errors, index, "std_errors"))
+        cov = pd.DataFrame(np.asarray(self.cov, dtype=float), index=index, columns=index)
+        object.__setattr__(self, "cov", cov)
+        object.__setattr__(self, "nobs", int(self.nobs))
+        object.__setattr__(self, "details", _frozen_mapping(self.details))
+        object.__setattr__(self, "warnings", tuple(str(w) for w in self.warnings))
+
+    @property
+    def tstats(self) -> pd.Series:
+        """Coefficient divided by its standard error."""
+        return (self.params / self.std_errors).rename("tstats")
+
+    @property
+    def pvalues(self) -> pd.Series:
+        """Two-sided p-values (Student t with ``df_resid`` degrees of freedom, else normal)."""
+        t = np.abs(self.tstats.to_numpy())
+        if self.df_resid is None:
+            p = 2 * stats.norm.sf(t)
+        else:
+            p = 2 * stats.t.sf(t, self.df_resid)
+        return pd.Series(p, index=self.params.index, name="pvalues")
+
+    def conf_int(self, alpha: float = 0.05) -> pd.DataFrame:
+        """Two-sided ``1 - alpha`` confidence intervals, columns ``lower`` and ``upper``."""
+        if self.df_resid is None:
+            q = stats.norm.ppf(1 - alpha / 2)
+        else:
+            q = stats.t.ppf(1 - alpha / 2, self.df_resid)
+        return pd.DataFrame({"lower": self.params - q * self.std_errors,
+                             "upper": self.params + q * self.std_errors})
+
+    def __repr__(self) -> str:
+        coefs = ", ".join(f"{k}={format_number(v)}" for k, v in self.params.items())
+        return f"Estimate(estimator={self.estimator!r}, {coefs}, nobs={self.nobs})"
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per coefficient: estimate, standard error, t, p-value and 95 % interval."""
+        ci = self.conf_int()
+        return pd.DataFrame({"estimate": self.params, "std_error": self.std_errors,
+                             "tstat": self.tstats, "pvalue": self.pvalues,
+                             "lower": ci["lower"], "upper": ci["upper"]})
+
+    def summary(self) -> str:
+        """A readable coefficient table with the estimator, covariance and sample."""
+        lines = [f"{self.estimator}: {self.dependent}",
+                 f"  covariance: {self.cov_type}   nobs {self.nobs}"]
+        frame = self.to_frame()
+        width = max([len(str(k)) for k in frame.index] + [8])
+        lines.append(f"  {'':<{width}} {'estimate':>10} {'std.err':>10} {'t':>8} {'p-value':>9}")
+        for name, row in frame.iterrows():
+            lines.append(f"  {str(name):<{width}} {format_number(row['estimate']):>10} "
+                         f"{format_number(row['std_error']):>10} {format_number(row['tstat'], 2):>8} "
+                         f"{format_pvalue(row['pvalue']):>9}")
+        for key, value in self.details.items():
+            lines.append(f"  {key}: {value}")
+        if self.reference:
+            lines.append(f"  reference: {self.reference}")
+        lines.extend(f"  warning: {w}" for w in self.warnings)
+        return "\n".join(lines)
+
+    def to_dict(self) -> dict[str, Any]:
+        """All fields as JSON-safe Python objects."""
+        return json_safe({
+            "estimator": self.estimator, "dependent": self.dependent,
+            "params": self.params, "std_errors": self.std_errors,
+            "pvalues": self.pvalues, "cov": {str(k): self.cov[k] for k in self.cov.columns},
+            "cov_type": self.cov_type, "nobs": self.nobs, "df_resid": self.df_resid,
+            "details": dict(self.details), "reference": self.reference,
+            "warnings": list(self.warnings),
+        })
