@@ -46,8 +46,12 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
         raise DataError(f"file '{path}' has an unknown extension '{path.suffix}'; use one of {allowed}.")
     try:
         if kind in ("csv", "tsv"):
-            frame = pd.read_csv(path, dtype=str, keep_default_na=False,
-                                sep="\t" if kind == "tsv" else ",", skipinitialspace=True)
+            sep = "\t" if kind == "tsv" else ","
+            frame = pd.read_csv(path, dtype=str, keep_default_na=False, sep=sep,
+                                skipinitialspace=True)
+            header = _csv_header(path, sep)
+            if len(header) == frame.shape[1]:
+                frame.columns = header
         elif kind == "parquet":
             frame = pd.read_parquet(path)
         else:
@@ -62,6 +66,14 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise DataError(f"file '{path}' could not be read as {kind}: {first}") from None
     return frame, str(path)
+
+
+def _csv_header(path: Path, sep: str) -> list[str]:
+    """The header cells as written (pandas renames duplicated names, which must be caught)."""
+    import csv
+
+    with path.open(newline="", encoding="utf-8") as handle:
+        return next(csv.reader(handle, delimiter=sep, skipinitialspace=True), [])
 
 
 def default_names(frame: pd.DataFrame, unit: str | None, time: str | None) -> tuple[str, str]:

@@ -13,14 +13,17 @@ __all__ = ["suggest", "check_choice", "check_columns", "check_window", "check_po
 
 
 def suggest(name: str, candidates: Iterable[str]) -> str:
-    """Return ``" Did you mean 'x'?"`` for the closest candidate, or an empty string."""
+    """Return ``" Did you mean 'x'?"`` for the closest candidates, or an empty string."""
     pool = [str(c) for c in candidates]
+    key = str(name).strip().lower()
     close = difflib.get_close_matches(str(name), pool, n=1, cutoff=0.6)
     if not close:
-        lowered = {c.lower(): c for c in pool}
-        if str(name).lower() in lowered:
-            close = [lowered[str(name).lower()]]
-    return f" Did you mean '{close[0]}'?" if close else ""
+        close = [c for c in pool if c.lower() == key]
+    if not close and len(key) >= 2:
+        close = [c for c in pool if key in c.lower()][:3]
+    if not close:
+        return ""
+    return " Did you mean " + " or ".join(f"'{c}'" for c in close) + "?"
 
 
 def check_choice(parameter: str, value: Any, allowed: Sequence[str]) -> str:

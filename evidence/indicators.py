@@ -51,7 +51,9 @@ def tapio_class(activity_change: Any, pressure_change: Any) -> np.ndarray:
     0.8 <= e <= 1.2 expansive coupling, e > 1.2 expansive negative decoupling. With activity
     falling: e < 0 strong negative decoupling, 0 <= e < 0.8 weak negative decoupling,
     0.8 <= e <= 1.2 recessive coupling, e > 1.2 recessive decoupling. Unchanged activity (or a
-    missing value) gives ``"undefined"``. Band edges 0.8 and 1.2 belong to the coupling band.
+    missing value) gives ``"undefined"``. Band edges 0.8 and 1.2 belong to the coupling band; the
+    elasticity is rounded to 10 decimals before banding so that floating-point noise cannot move
+    a value that is exactly on an edge.
 
     Examples
     --------
@@ -62,7 +64,7 @@ def tapio_class(activity_change: Any, pressure_change: Any) -> np.ndarray:
     pres = np.atleast_1d(np.asarray(pressure_change, dtype=float))
     act, pres = np.broadcast_arrays(act, pres)
     with np.errstate(divide="ignore", invalid="ignore"):
-        e = pres / act
+        e = np.round(pres / act, 10)  # so that 0.08 / 0.10 counts as 0.8, not 0.7999...
     band = np.select([e < 0, e < TAPIO_LOW, e <= TAPIO_HIGH], [0, 1, 2], default=3)
     offset = np.where(act > 0, 0, 4)
     labels = np.asarray(TAPIO_CLASSES, dtype=object)[band + offset]

@@ -8,6 +8,7 @@ input renders to the same bytes.
 from __future__ import annotations
 
 import html
+import textwrap
 import json
 import math
 from collections.abc import Sequence
@@ -84,7 +85,8 @@ def _text(header: list[str], body: list[list[str]], numeric: list[bool], title: 
 
     rule = "-" * (sum(widths) + 2 * (len(widths) - 1))
     out = ([title] if title else []) + [line(header), rule] + [line(r) for r in body] + [rule]
-    out += list(notes)
+    for note in notes:
+        out += textwrap.wrap(note, width=100) or [""]
     return "\n".join(out) + "\n"
 
 

@@ -1,0 +1,121 @@
+"""The command line end to end: outputs, exit codes, one-line errors."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+
+import pytest
+
+import evidence as ev
+from evidence.cli import main
+
+
+@pytest.fixture(scope="module")
+def demo_csv(tmp_path_factory):
+    path = tmp_path_factory.mktemp("demo") / "demo_panel.csv"
+    path.write_text(ev.demo.demo_csv_text(), encoding="utf-8")
+    return path
+
+
+def test_demo_writes_results_folder(tmp_path, capsys):
+    out = tmp_path / "results"
+    assert main(["demo", "--out", str(out)]) == 0
+    names = {p.name for p in out.iterdir()}
+    assert {"rates_ghg_territorial.csv", "rates_ghg_territorial.md", "rates_ghg_consumption.csv",
+            "audit.csv", "audit.md", "README.md", "demo_panel.csv", "figures"} <= names
+    figures = list((out / "figures").glob("*.png"))
+    assert len(figures) == len(ev.demo_panel().units)
+    assert "not a policy verdict" in (out / "README.md").read_text()
+    text = capsys.readouterr().out
+    assert "invented regions" in text and "not a policy verdict" in text
+
+
+def test_rates_prints_every_unit(demo_csv, capsys):
+    assert main(["rates", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp"]) == 0
+    out = capsys.readouterr().out
+    for unit in ev.demo_panel().units:
+        assert unit in out
+    assert "Tapio class" in out
+
+
+@pytest.mark.parametrize("fmt", ["markdown", "latex", "html", "csv", "json"])
+def test_rates_formats(demo_csv, capsys, fmt):
+    code = main(["rates", str(demo_csv), "--pressure", "ghg_consumption", "--activity", "gdp",
+                 "--window", "2000:2020", "--format", fmt])
+    assert code == 0
+    out = capsys.readouterr().out
+    if fmt == "json":
+        assert len(json.loads(out)["rows"]) == 30
+
+
+def test_rates_to_file(demo_csv, tmp_path, capsys):
+    target = tmp_path / "r.csv"
+    assert main(["rates", str(demo_csv), "--pressure", "dmc", "--activity", "gdp",
+                 "--format", "csv", "--output", str(target)]) == 0
+    assert target.read_text().count("\n") == 31
+
+
+def test_inspect(demo_csv, capsys):
+    assert main(["inspect", str(demo_csv)]) == 0
+    out = capsys.readouterr().out
+    assert "1990-2023" in out and "ghg_consumption" in out and "missing value" in out
+    assert main(["inspect", str(demo_csv), "--format", "json"]) == 0
+    payload = json.loads(capsys.readouterr().out)
+    assert payload["facts"]["units"] == "30"
+
+
+@pytest.mark.parametrize(("args", "fragment"), [
+    (["rates", "{csv}", "--pressure", "ghg", "--activity", "gdp"], "Did you mean"),
+    (["rates", "missing.csv", "--pressure", "a", "--activity", "b"], "does not exist"),
+    (["rates", "{csv}", "--pressure", "dmc"], "Missing option '--activity'"),
+    (["rates", "{csv}", "--pressure", "dmc", "--activity", "gdp", "--window", "2020:2000"],
+     "start before its end"),
+    (["rates", "{csv}", "--pressure", "dmc", "--activity", "gdp", "--format", "xml"], "xml"),
+    (["frobnicate"], "No such command"),
+])
+def test_bad_input_exits_2_with_one_line(demo_csv, capsys, args, fragment):
+    args = [a.replace("{csv}", str(demo_csv)) for a in args]
+    assert main(args) == 2
+    err = capsys.readouterr().err
+    assert fragment in err
+    assert len(err.strip().splitlines()) == 1 and "Traceback" not in err
+
+
+def test_malformed_file_exits_2(tmp_path, capsys):
+    bad = tmp_path / "bad.csv"
+    bad.write_text("region,year,gdp,co2\nA,2000,1,2\nA,2000,3,4\nB,2000,1,1\nB,2001,1,1\n")
+    assert main(["rates", str(bad), "--pressure", "co2", "--activity", "gdp"]) == 2
+    err = capsys.readouterr().err
+    assert "unit 'A', year 2000 appears 2 times" in err
+
+
+def test_debug_shows_traceback(tmp_path, capsys):
+    assert main(["--debug", "rates", str(tmp_path / "x.csv"), "--pressure", "a",
+                 "--activity", "b"]) == 2
+    assert "Traceback" in capsys.readouterr().err
+
+
+def test_internal_failure_exits_1(demo_csv, capsys, monkeypatch):
+    def broken(*args, **kwargs):
+        raise RuntimeError("boom")
+
+    monkeypatch.setattr(ev, "rates", broken)
+    assert main(["rates", str(demo_csv), "--pressure", "dmc", "--activity", "gdp"]) == 1
+    err = capsys.readouterr().err
+    assert "internal error" in err and "boom" in err
+
+
+def test_help_and_version(capsys):
+    assert main(["--help"]) == 0
+    assert "demo" in capsys.readouterr().out
+    assert main(["--version"]) == 0
+    assert ev.__version__ in capsys.readouterr().out
+
+
+def test_console_script_runs_as_module(demo_csv):
+    done = subprocess.run([sys.executable, "-m", "evidence.cli", "rates", str(demo_csv),
+                           "--pressure", "nope", "--activity", "gdp"],
+                          capture_output=True, text=True, check=False)
+    assert done.returncode == 2 and done.stderr.startswith("evidence: error:")
