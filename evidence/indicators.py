@@ -31,7 +31,8 @@ from evidence._validation import check_window, format_years
 from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
 
-__all__ = ["TAPIO_CLASSES", "tapio_class", "decoupling_factor", "trend_growth", "newey_west_lags",
+__all__ = ["TAPIO_CLASSES", "tapio_class", "decoupling_factor", "trend_growth",
+           "trend_growth_batch", "newey_west_lags",
            "rates", "RatesResult", "required_rate", "budget_rate", "BudgetResult"]
 
 #: The eight Tapio (2005) classes: (activity grows?, elasticity band) -> label.
@@ -93,32 +94,45 @@ def newey_west_lags(nobs: int) -> int:
     return max(int(math.floor(4.0 * (nobs / 100.0) ** (2.0 / 9.0))), 1 if nobs > 2 else 0)
 
 
-def trend_growth(log_values: np.ndarray, years: np.ndarray, *,
-                 hac_lags: int | None = None) -> tuple[float, float, int]:
-    """Slope of ``log_values`` on ``years`` by OLS with a Newey–West (Bartlett) standard error.
+def trend_growth_batch(log_values: np.ndarray, years: np.ndarray, *,
+                       hac_lags: int | None = None) -> tuple[np.ndarray, np.ndarray, int]:
+    """Trend slopes and Newey–West standard errors of many series observed in the same years.
 
-    The covariance is ``n/(n-2) (X'X)^-1 S (X'X)^-1`` with
+    ``log_values`` is ``(T, N)``: one column per series. For each column, OLS of the values on a
+    constant and the year; the slope's variance is the ``[1, 1]`` element of
+    ``n/(n-2) (X'X)^-1 S (X'X)^-1`` with
     ``S = sum_t u_t u_t' + sum_{l=1}^{L} (1 - l/(L+1)) sum_t (u_t u_{t-l}' + u_{t-l} u_t')`` and
-    ``u_t = x_t e_t``; the factor ``n/(n-2)`` is the small-sample correction (conservative for
-    short windows). This equals statsmodels ``OLS(...).fit(cov_type="HAC", cov_kwds={"maxlags": L,
-    "use_correction": True})``. Returns ``(slope, std_error, lags)``.
+    ``u_t = x_t e_t`` (Bartlett kernel; ``n/(n-2)`` is the small-sample correction). With the year
+    centred, ``X'X`` is diagonal and the slope's variance reduces to
+    ``n/(n-2) S_11 / (sum_t (t - tbar)^2)^2``. This equals statsmodels
+    ``OLS(...).fit(cov_type="HAC", cov_kwds={"maxlags": L, "use_correction": True})``.
+    Returns ``(slopes, std_errors, lags)``.
     """
     y = np.asarray(log_values, dtype=float)
+    if y.ndim == 1:
+        y = y[:, None]
     t = np.asarray(years, dtype=float)
-    n = y.size
+    n = t.size
     lags = newey_west_lags(n) if hac_lags is None else int(hac_lags)
-    x = np.column_stack([np.ones(n), t - t.mean()])
-    xtx_inv = np.linalg.inv(x.T @ x)
-    beta = xtx_inv @ (x.T @ y)
-    resid = y - x @ beta
-    scores = x * resid[:, None]
-    s = scores.T @ scores
+    x = t - t.mean()
+    sxx = float(x @ x)
+    slopes = (x @ y) / sxx
+    resid = y - y.mean(axis=0) - np.outer(x, slopes)
+    v = x[:, None] * resid
+    s11 = np.einsum("ti,ti->i", v, v)
     for lag in range(1, min(lags, n - 1) + 1):
-        weight = 1.0 - lag / (lags + 1.0)
-        gamma = scores[lag:].T @ scores[:-lag]
-        s += weight * (gamma + gamma.T)
-    cov = xtx_inv @ s @ xtx_inv * n / (n - 2)
-    return float(beta[1]), float(math.sqrt(cov[1, 1])), lags
+        s11 += 2.0 * (1.0 - lag / (lags + 1.0)) * np.einsum("ti,ti->i", v[lag:], v[:-lag])
+    var = s11 / sxx**2 * n / (n - 2)
+    return slopes, np.sqrt(var), lags
+
+
+def trend_growth(log_values: np.ndarray, years: np.ndarray, *,
+                 hac_lags: int | None = None) -> tuple[float, float, int]:
+    """Slope of one series on the year with its Newey–West standard error; see
+    :func:`trend_growth_batch`. Returns ``(slope, std_error, lags)``."""
+    slopes, ses, lags = trend_growth_batch(np.asarray(log_values, dtype=float)[:, None], years,
+                                           hac_lags=hac_lags)
+    return float(slopes[0]), float(ses[0]), lags
 
 
 @dataclass(frozen=True, eq=False)
@@ -210,26 +224,30 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
         raise SpecError(f"hac_lags={hac_lags!r} must be a non-negative integer or None.")
     start, end = (check_window(window, panel.years) if window is not None
                   else _default_window(panel, (pressure, activity)))
+    if end - start + 1 < 3:
+        raise SpecError(f"window=({start}, {end}) has {end - start + 1} years; trend growth with a "
+                        "standard error needs at least 3.")
     expected = np.arange(start, end + 1)
-    rows, excluded = [], []
+    wide_p = panel.wide(pressure).reindex(expected)
+    wide_a = panel.wide(activity).reindex(expected)
+    excluded = []
     for unit in panel.units:
-        both = pd.DataFrame({"p": panel.series(unit, pressure), "a": panel.series(unit, activity)})
-        both = both.reindex(expected)
-        lacking = both.index[both.isna().any(axis=1)]
-        if len(lacking):
+        lacking = expected[(wide_p[unit].isna() | wide_a[unit].isna()).to_numpy()]
+        if lacking.size:
             excluded.append({"unit": unit, "reason": f"no value in {format_years(lacking)}"})
-            continue
-        for name, col in (("pressure", "p"), ("activity", "a")):
-            if (both[col] <= 0).any():
-                year = int(both.index[both[col] <= 0][0])
-                column = pressure if name == "pressure" else activity
-                raise DataError(f"column '{column}' is not positive at unit '{unit}', year {year}; "
-                                "growth rates need positive values.")
-        rows.append(_unit_rates(unit, both["p"].to_numpy(), both["a"].to_numpy(), expected, hac_lags))
-    if not rows:
+    keep = [u for u in panel.units if u not in {row["unit"] for row in excluded}]
+    for column, wide in ((pressure, wide_p), (activity, wide_a)):
+        values = wide[keep].to_numpy()
+        if (values <= 0).any():
+            row, col = np.argwhere(values <= 0)[0]
+            raise DataError(f"column '{column}' is not positive at unit '{keep[col]}', year "
+                            f"{expected[row]}; growth rates need positive values.")
+    rows = _rates_table(keep, wide_p[keep].to_numpy(), wide_a[keep].to_numpy(), expected,
+                        hac_lags) if keep else []
+    if not keep:
         raise DataError(f"no unit has complete '{pressure}' and '{activity}' data in "
                         f"{start}:{end}; choose another window.")
-    table = pd.DataFrame(rows).set_index("unit")
+    table = rows.set_index("unit")
     table.index.name = panel.unit_name
     excluded_frame = pd.DataFrame(excluded, columns=["unit", "reason"])
     warnings = []
@@ -245,26 +263,31 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
                                 "basis": panel.basis(pressure) or "not stated"})
 
 
-def _unit_rates(unit: str, p: np.ndarray, a: np.ndarray, years: np.ndarray,
-                hac_lags: int | None) -> dict[str, Any]:
+def _rates_table(units: list[str], p: np.ndarray, a: np.ndarray, years: np.ndarray,
+                 hac_lags: int | None) -> pd.DataFrame:
+    """Indicators for all units at once; ``p`` and ``a`` are ``(T, N)`` and strictly positive."""
     span = float(years[-1] - years[0])
     n = years.size
-    out: dict[str, Any] = {"unit": unit, "start": int(years[0]), "end": int(years[-1]), "years": n}
+    out: dict[str, Any] = {"unit": units, "start": int(years[0]), "end": int(years[-1]), "years": n}
+    lags = 0
     for name, values in (("activity", a), ("pressure", p), ("intensity", p / a)):
-        slope, se, lags = trend_growth(np.log(values), years, hac_lags=hac_lags)
-        out[f"{name}_trend"] = slope
-        out[f"{name}_trend_se"] = se
-        out[f"{name}_trend_pvalue"] = float(2 * stats.t.sf(abs(slope / se), n - 2)) if se > 0 else math.nan
-        out[f"{name}_cagr"] = float((values[-1] / values[0]) ** (1.0 / span) - 1.0)
+        slopes, ses, lags = trend_growth_batch(np.log(values), years, hac_lags=hac_lags)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            tstat = np.where(ses > 0, np.abs(slopes) / ses, np.nan)
+        out[f"{name}_trend"] = slopes
+        out[f"{name}_trend_se"] = ses
+        out[f"{name}_trend_pvalue"] = 2 * stats.t.sf(tstat, n - 2)
+        out[f"{name}_cagr"] = (values[-1] / values[0]) ** (1.0 / span) - 1.0
     out["hac_lags"] = lags
     d_act, d_pres = a[-1] / a[0] - 1.0, p[-1] / p[0] - 1.0
-    out["activity_change"], out["pressure_change"] = float(d_act), float(d_pres)
-    out["tapio_elasticity"] = float(d_pres / d_act) if d_act != 0 else math.nan
-    out["tapio_class"] = str(tapio_class(d_act, d_pres)[0])
-    out["decoupling_factor"] = float(decoupling_factor(p[0], p[-1], a[0], a[-1]))
-    act_trend = out["activity_trend"]
-    out["trend_elasticity"] = out["pressure_trend"] / act_trend if act_trend != 0 else math.nan
-    return out
+    out["activity_change"], out["pressure_change"] = d_act, d_pres
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out["tapio_elasticity"] = np.where(d_act != 0, d_pres / d_act, np.nan)
+        out["tapio_class"] = tapio_class(d_act, d_pres)
+        out["decoupling_factor"] = decoupling_factor(p[0], p[-1], a[0], a[-1])
+        act_trend = out["activity_trend"]
+        out["trend_elasticity"] = np.where(act_trend != 0, out["pressure_trend"] / act_trend, np.nan)
+    return pd.DataFrame(out)
 
 
 def required_rate(activity_growth: Any, pressure_change: Any) -> Any:

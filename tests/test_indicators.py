@@ -13,7 +13,7 @@ from numpy.testing import assert_allclose
 
 import evidence as ev
 from evidence import DataError, SpecError
-from evidence.indicators import TAPIO_CLASSES, newey_west_lags, trend_growth
+from evidence.indicators import TAPIO_CLASSES, newey_west_lags, trend_growth, trend_growth_batch
 
 
 # --------------------------------------------------------------------------- Tapio
@@ -130,6 +130,40 @@ def test_trend_growth_matches_statsmodels_hac(lags):
     assert_allclose(se, fit.bse[1], rtol=1e-8)
 
 
+def _naive_hac_slope(y, years, lags):
+    """Plain-loop oracle: OLS by normal equations, Bartlett-weighted score autocovariances."""
+    n = len(y)
+    X = [[1.0, float(t)] for t in years]
+    xtx = np.zeros((2, 2))
+    xty = np.zeros(2)
+    for row, value in zip(X, y):
+        for i in range(2):
+            xty[i] += row[i] * value
+            for j in range(2):
+                xtx[i, j] += row[i] * row[j]
+    inv = np.linalg.inv(xtx)
+    beta = inv @ xty
+    scores = [np.array(row) * (value - (beta[0] + beta[1] * row[1])) for row, value in zip(X, y)]
+    s = np.zeros((2, 2))
+    for lag in range(0, lags + 1):
+        weight = 1.0 if lag == 0 else 1.0 - lag / (lags + 1.0)
+        for t in range(lag, n):
+            term = np.outer(scores[t], scores[t - lag])
+            s += weight * (term if lag == 0 else term + term.T)
+    cov = inv @ s @ inv * n / (n - 2)
+    return beta[1], np.sqrt(cov[1, 1])
+
+
+def test_batch_trend_growth_matches_loop_oracle():
+    rng = np.random.default_rng(99)
+    years = np.arange(2001, 2021)
+    y = rng.normal(size=(years.size, 6)).cumsum(axis=0) * 0.03 + 0.01 * (years - 2001)[:, None]
+    slopes, ses, lags = trend_growth_batch(y, years, hac_lags=2)
+    for i in range(y.shape[1]):
+        slope, se = _naive_hac_slope(y[:, i], years, 2)
+        assert_allclose([slopes[i], ses[i]], [slope, se], rtol=1e-8)
+
+
 def test_newey_west_rule():
     # Newey & West (1994) rule floor(4 (T/100)^(2/9)): T=34 -> 3, T=100 -> 4 (computed by hand).
     assert newey_west_lags(34) == 3
@@ -192,6 +226,8 @@ def test_rates_errors(long_frame):
         ev.rates(ev.load_panel(frame), "co2", "gdp")
     with pytest.raises(SpecError, match="window"):
         ev.rates(panel, "co2", "gdp", window="2000-2001-2002")
+    with pytest.raises(SpecError, match="at least 3"):
+        ev.rates(panel, "co2", "gdp", window=(2000, 2001))
 
 
 def test_trend_pvalue_is_nan_free_for_exact_trends():
