@@ -249,13 +249,13 @@ def missing_notes(frame: pd.DataFrame, columns: Sequence[str]) -> list[dict[str,
 
 def gap_notes(frame: pd.DataFrame) -> list[dict[str, Any]]:
     """Audit rows for years absent inside a unit's span (no row at all)."""
-    notes: list[dict[str, Any]] = []
     keys = pd.DataFrame({"u": frame.index.get_level_values(0), "t": frame.index.get_level_values(1)})
-    for unit_label, years in keys.groupby("u", sort=True)["t"]:
-        values = years.to_numpy()
-        span = set(range(int(values.min()), int(values.max()) + 1))
-        absent = sorted(span.difference(values.tolist()))
-        if absent:
-            notes.append({"unit": unit_label, "column": "", "years": format_years(absent),
-                          "count": len(absent), "reason": "gap: no row for these years"})
+    spans = keys.groupby("u", sort=True)["t"].agg(["min", "max", "count"])
+    gappy = spans[spans["max"] - spans["min"] + 1 != spans["count"]]
+    notes: list[dict[str, Any]] = []
+    for unit_label, span in gappy.iterrows():
+        present = set(keys.loc[keys["u"] == unit_label, "t"].tolist())
+        absent = [y for y in range(int(span["min"]), int(span["max"]) + 1) if y not in present]
+        notes.append({"unit": unit_label, "column": "", "years": format_years(absent),
+                      "count": len(absent), "reason": "gap: no row for these years"})
     return notes

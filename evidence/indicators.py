@@ -230,12 +230,11 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
     expected = np.arange(start, end + 1)
     wide_p = panel.wide(pressure).reindex(expected)
     wide_a = panel.wide(activity).reindex(expected)
-    excluded = []
-    for unit in panel.units:
-        lacking = expected[(wide_p[unit].isna() | wide_a[unit].isna()).to_numpy()]
-        if lacking.size:
-            excluded.append({"unit": unit, "reason": f"no value in {format_years(lacking)}"})
-    keep = [u for u in panel.units if u not in {row["unit"] for row in excluded}]
+    wide_p, wide_a = wide_p.reindex(columns=list(panel.units)), wide_a.reindex(columns=list(panel.units))
+    lacking = (wide_p.isna() | wide_a.isna()).to_numpy()
+    excluded = [{"unit": unit, "reason": f"no value in {format_years(expected[lacking[:, j]])}"}
+                for j, unit in enumerate(panel.units) if lacking[:, j].any()]
+    keep = [unit for j, unit in enumerate(panel.units) if not lacking[:, j].any()]
     for column, wide in ((pressure, wide_p), (activity, wide_a)):
         values = wide[keep].to_numpy()
         if (values <= 0).any():
