@@ -205,6 +205,29 @@ class Panel:
         scaled = 100.0 * values / base.reindex(units).to_numpy()
         return self._with(name or f"{column}_index{base_year}", scaled)
 
+    def compound_rate(self, column: str, window: Window | str | None = None) -> pd.Series:
+        """Compound annual growth rate per unit over a window: ``(x_end / x_start)^(1/(end-start)) - 1``.
+
+        A unit without a positive value in both end years gets NaN (and stays in the result).
+
+        Examples
+        --------
+        >>> import pandas as pd
+        >>> frame = pd.DataFrame({"unit": ["A", "A", "A"], "year": [2000, 2001, 2002],
+        ...                       "gdp": [100.0, 110.0, 121.0]})
+        >>> round(float(load_panel(frame).compound_rate("gdp").loc["A"]), 6)
+        0.1
+        """
+        self.require(column)
+        start, end = (check_window(window, self.years) if window is not None
+                      else (self.years[0], self.years[-1]))
+        wide = self.wide(column).reindex([start, end])
+        first, last = wide.loc[start], wide.loc[end]
+        valid = (first > 0) & (last > 0)
+        rate = (last / first.where(valid)) ** (1.0 / (end - start)) - 1.0
+        rate.name = f"{column}_cagr_{start}_{end}"
+        return rate.reindex(list(self.units))
+
     # -------------------------------------------------------------- internal
     def _with(self, name: str, values: pd.Series) -> Panel:
         frame = self._frame.copy()

@@ -237,3 +237,11 @@ def test_malformed_csv_text_only_raises_data_error(tmp_path_factory, text):
         ev.load_panel(path)
     except DataError:
         pass
+
+
+def test_compound_rate_matches_hand_computation(long_frame):
+    panel = ev.load_panel(long_frame)
+    rate = panel.compound_rate("gdp", (1995, 2020))
+    alda = long_frame[long_frame.region == "Alda"].set_index("year").gdp
+    assert rate.loc["Alda"] == pytest.approx((alda[2020] / alda[1995]) ** (1 / 25) - 1, rel=1e-12)
+    assert list(rate.index) == list(panel.units)
