@@ -8,52 +8,21 @@ from __future__ import annotations
 
 import sys
 import traceback
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from pathlib import Path
 
 import click
 
 import evidence as ev
 from evidence._cautions import CAUTION
+from evidence._commands import add_commands
+from evidence._commands._common import data_options, emit, format_options, load, progress_bar
 from evidence.errors import EvidenceError
-from evidence.tables import FORMATS, audit_table, rates_table, render_frame
+from evidence.tables import audit_table, rates_table, render_frame
 
 __all__ = ["main", "cli"]
 
 PROG = "evidence"
-
-
-def _data_options(func: Callable) -> Callable:
-    func = click.option("--layout", type=click.Choice(["auto", "long", "wide"], case_sensitive=False),
-                        default="auto", show_default=True,
-                        help="long: one row per unit and year; wide: one column per year.")(func)
-    func = click.option("--time", "time_col", default=None,
-                        help="Time column (default: 'year', else 'time').")(func)
-    func = click.option("--unit", "unit_col", default=None,
-                        help="Unit column (default: 'unit', else the first column).")(func)
-    return click.argument("data", type=click.Path(dir_okay=False, path_type=Path))(func)
-
-
-def _format_option(func: Callable) -> Callable:
-    func = click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=Path),
-                        default=None, help="Write to this file instead of the terminal.")(func)
-    return click.option("--format", "fmt", type=click.Choice(FORMATS, case_sensitive=False),
-                        default="text", show_default=True, help="Output format.")(func)
-
-
-def _emit(text: str, output: Path | None) -> None:
-    if output is None:
-        click.echo(text, nl=False)
-        return
-    try:
-        output.write_text(text, encoding="utf-8")
-    except OSError as exc:
-        raise ev.DataError(f"cannot write '{output}': {exc.strerror}.") from None
-    click.echo(f"wrote {output}", err=True)
-
-
-def _load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> ev.Panel:
-    return ev.load_panel(data, unit=unit_col, time=time_col, layout=layout)  # type: ignore[arg-type]
 
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
@@ -68,7 +37,7 @@ def cli(debug: bool) -> None:
               default=Path("evidence-demo"), show_default=True, help="Results folder.")
 def demo(out: Path) -> None:
     """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
-    progress = _progress_callback("figures")
+    progress = progress_bar("figures")
     try:
         result = ev.run_demo(out, progress=progress.update if progress else None)
     finally:
@@ -86,7 +55,7 @@ def demo(out: Path) -> None:
 
 
 @cli.command()
-@_data_options
+@data_options
 @click.option("--format", "fmt", type=click.Choice(["text", "markdown", "json"], case_sensitive=False),
               default="text", show_default=True, help="Output format.")
 @click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=Path), default=None,
@@ -94,7 +63,7 @@ def demo(out: Path) -> None:
 def inspect(data: Path, unit_col: str | None, time_col: str | None, layout: str, fmt: str,
             output: Path | None) -> None:
     """Show a panel's units, years, variables, gaps and audit."""
-    panel = _load(data, unit_col, time_col, layout)
+    panel = load(data, unit_col, time_col, layout)
     years = panel.years
     facts = [("source", str(data)), ("unit column", panel.unit_name),
              ("time column", panel.time_name), ("units", str(len(panel.units))),
@@ -107,12 +76,12 @@ def inspect(data: Path, unit_col: str | None, time_col: str | None, layout: str,
         from evidence._json import json_safe
         payload = {"facts": dict(facts), "variables": json_safe(panel.describe().to_dict("records")),
                    "audit": json_safe(panel.audit.to_dict("records"))}
-        _emit(json.dumps(payload, indent=2) + "\n", output)
+        emit(json.dumps(payload, indent=2) + "\n", output)
         return
     overview = render_frame(_facts_frame(facts), fmt, title="Panel", index=False)
     variables = render_frame(panel.describe(), fmt, title="Variables", index=False)
     audit = audit_table(panel.audit, fmt)
-    _emit("\n".join([overview, variables, audit]), output)
+    emit("\n".join([overview, variables, audit]), output)
 
 
 def _facts_frame(facts: Sequence[tuple[str, str]]):  # noqa: ANN202
@@ -122,39 +91,22 @@ def _facts_frame(facts: Sequence[tuple[str, str]]):  # noqa: ANN202
 
 
 @cli.command("rates")
-@_data_options
+@data_options
 @click.option("--pressure", required=True, help="Pressure column (e.g. emissions).")
 @click.option("--activity", required=True, help="Activity column (e.g. real GDP).")
 @click.option("--window", default=None, help="Years START:END, inclusive (default: common span).")
 @click.option("--hac-lags", type=int, default=None, help="Newey-West lags (default: rule of thumb).")
-@_format_option
+@format_options
 def rates_command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
                   pressure: str, activity: str, window: str | None, hac_lags: int | None,
                   fmt: str, output: Path | None) -> None:
     """Trend growth, Tapio class and OECD decoupling factor per unit."""
-    panel = _load(data, unit_col, time_col, layout)
+    panel = load(data, unit_col, time_col, layout)
     result = ev.rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
-    _emit(rates_table(result, fmt.lower()), output)
+    emit(rates_table(result, fmt.lower()), output)
 
 
-class _Progress:
-    def __init__(self, label: str) -> None:
-        from rich.progress import Progress
-
-        self._bar = Progress(transient=True)
-        self._task = self._bar.add_task(label, total=None)
-        self._bar.start()
-
-    def update(self, done: int, total: int) -> None:
-        self._bar.update(self._task, completed=done, total=total)
-
-    def close(self) -> None:
-        self._bar.stop()
-
-
-def _progress_callback(label: str) -> _Progress | None:
-    """A progress bar on a terminal; nothing when output is piped or in CI."""
-    return _Progress(label) if sys.stderr.isatty() and sys.stdout.isatty() else None
+add_commands(cli)
 
 
 def main(argv: Sequence[str] | None = None) -> int:

@@ -1,0 +1,71 @@
+"""Pieces shared by the command-line commands: data and format options, output, progress."""
+
+from __future__ import annotations
+
+import sys
+from collections.abc import Callable
+from pathlib import Path
+
+import click
+
+import evidence as ev
+from evidence.tables import FORMATS
+
+__all__ = ["data_options", "format_options", "emit", "load", "progress_bar"]
+
+
+def data_options(func: Callable) -> Callable:
+    """Add the DATA argument and --unit, --time, --layout options."""
+    func = click.option("--layout", type=click.Choice(["auto", "long", "wide"], case_sensitive=False),
+                        default="auto", show_default=True,
+                        help="long: one row per unit and year; wide: one column per year.")(func)
+    func = click.option("--time", "time_col", default=None,
+                        help="Time column (default: 'year', else 'time').")(func)
+    func = click.option("--unit", "unit_col", default=None,
+                        help="Unit column (default: 'unit', else the first column).")(func)
+    return click.argument("data", type=click.Path(dir_okay=False, path_type=Path))(func)
+
+
+def format_options(func: Callable) -> Callable:
+    """Add --format (every table format) and --output."""
+    func = click.option("--output", "-o", type=click.Path(dir_okay=False, path_type=Path),
+                        default=None, help="Write to this file instead of the terminal.")(func)
+    return click.option("--format", "fmt", type=click.Choice(FORMATS, case_sensitive=False),
+                        default="text", show_default=True, help="Output format.")(func)
+
+
+def emit(text: str, output: Path | None) -> None:
+    """Print ``text``, or write it to ``output`` and say so on stderr."""
+    if output is None:
+        click.echo(text, nl=False)
+        return
+    try:
+        output.write_text(text, encoding="utf-8")
+    except OSError as exc:
+        raise ev.DataError(f"cannot write '{output}': {exc.strerror}.") from None
+    click.echo(f"wrote {output}", err=True)
+
+
+def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> ev.Panel:
+    """Load the panel named on the command line."""
+    return ev.load_panel(data, unit=unit_col, time=time_col, layout=layout)  # type: ignore[arg-type]
+
+
+class _Progress:
+    def __init__(self, label: str) -> None:
+        from rich.progress import Progress
+
+        self._bar = Progress(transient=True)
+        self._task = self._bar.add_task(label, total=None)
+        self._bar.start()
+
+    def update(self, done: int, total: int) -> None:
+        self._bar.update(self._task, completed=done, total=total)
+
+    def close(self) -> None:
+        self._bar.stop()
+
+
+def progress_bar(label: str) -> _Progress | None:
+    """A progress bar on a terminal; nothing when output is piped or in CI."""
+    return _Progress(label) if sys.stderr.isatty() and sys.stdout.isatty() else None

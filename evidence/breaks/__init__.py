@@ -1,0 +1,1 @@
+"""Structural breaks: Bai–Perron partitions, break tests, break-date intervals, panel screening."""

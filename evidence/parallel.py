@@ -1,0 +1,184 @@
+"""One executor interface for work that splits into independent tasks.
+
+Screening many series, simulating critical values and bootstraps go through :func:`get_executor`.
+Three backends: ``serial`` (default), ``processes`` (a local process pool) and ``dask`` (a
+``distributed.Client`` on a local cluster or at a scheduler address). Results come back in task
+order, and each task carries its own seed (:func:`task_seeds`), so the output is identical whichever
+backend runs it.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Sequence
+from concurrent.futures import ProcessPoolExecutor
+from typing import Any, Protocol, TypeVar
+
+import numpy as np
+
+from evidence._typing import Seed
+from evidence._validation import check_choice
+from evidence.errors import SpecError
+
+__all__ = ["BACKENDS", "Executor", "SerialExecutor", "ProcessExecutor", "DaskExecutor",
+           "get_executor", "task_seeds", "run_tasks"]
+
+BACKENDS = ("serial", "processes", "dask")
+T = TypeVar("T")
+R = TypeVar("R")
+Progress = Callable[[int, int], None]
+
+
+class Executor(Protocol):
+    """Runs ``func`` on each task and returns the results in task order."""
+
+    name: str
+
+    def map(self, func: Callable[[T], R], tasks: Sequence[T], *,
+            progress: Progress | None = None) -> list[R]: ...
+
+    def close(self) -> None: ...
+
+
+class SerialExecutor:
+    """Runs tasks one after another in this process."""
+
+    name = "serial"
+
+    def map(self, func: Callable[[T], R], tasks: Sequence[T], *,
+            progress: Progress | None = None) -> list[R]:
+        out = []
+        for i, task in enumerate(tasks, start=1):
+            out.append(func(task))
+            if progress is not None:
+                progress(i, len(tasks))
+        return out
+
+    def close(self) -> None:
+        """Nothing to release."""
+
+    def __enter__(self) -> SerialExecutor:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+
+class ProcessExecutor:
+    """Runs tasks in a pool of local processes (``jobs`` workers; default: the CPU count)."""
+
+    name = "processes"
+
+    def __init__(self, jobs: int | None = None) -> None:
+        self.jobs = jobs or os.cpu_count() or 1
+        self._pool = ProcessPoolExecutor(max_workers=self.jobs)
+
+    def map(self, func: Callable[[T], R], tasks: Sequence[T], *,
+            progress: Progress | None = None) -> list[R]:
+        futures = [self._pool.submit(func, task) for task in tasks]
+        out = []
+        for i, future in enumerate(futures, start=1):
+            out.append(future.result())
+            if progress is not None:
+                progress(i, len(futures))
+        return out
+
+    def close(self) -> None:
+        """Shut the pool down."""
+        self._pool.shutdown(wait=True)
+
+    def __enter__(self) -> ProcessExecutor:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+
+class DaskExecutor:
+    """Runs tasks on Dask distributed: a new local cluster, or the scheduler at ``scheduler``."""
+
+    name = "dask"
+
+    def __init__(self, jobs: int | None = None, scheduler: str | None = None, *,
+                 processes: bool = True) -> None:
+        try:
+            from dask.distributed import Client, LocalCluster
+        except ImportError:
+            raise SpecError("backend='dask' needs dask.distributed; install it with: "
+                            "pip install 'decoupling-evidence[scale]'.") from None
+        self._cluster = None
+        if scheduler:
+            self._client = Client(scheduler)
+        else:
+            self._cluster = LocalCluster(n_workers=jobs or os.cpu_count() or 1,
+                                         threads_per_worker=1, processes=processes,
+                                         dashboard_address=None)
+            self._client = Client(self._cluster)
+
+    def map(self, func: Callable[[T], R], tasks: Sequence[T], *,
+            progress: Progress | None = None) -> list[R]:
+        futures = self._client.map(func, list(tasks), pure=False)
+        out = []
+        for i, future in enumerate(futures, start=1):
+            out.append(future.result())
+            if progress is not None:
+                progress(i, len(futures))
+        return out
+
+    def close(self) -> None:
+        """Close the client and, if this executor started it, the local cluster."""
+        self._client.close()
+        if self._cluster is not None:
+            self._cluster.close()
+
+    def __enter__(self) -> DaskExecutor:
+        return self
+
+    def __exit__(self, *exc: object) -> None:
+        self.close()
+
+
+def get_executor(backend: str = "serial", *, jobs: int | None = None,
+                 scheduler: str | None = None) -> SerialExecutor | ProcessExecutor | DaskExecutor:
+    """Make an executor: ``serial``, ``processes`` (``jobs`` workers) or ``dask``.
+
+    With ``dask``, ``scheduler`` is the address of a running scheduler (``tcp://host:8786``);
+    without it a local cluster of ``jobs`` workers is started. Use as a context manager so the
+    workers are released.
+    """
+    backend = check_choice("backend", backend, BACKENDS)
+    if jobs is not None and (isinstance(jobs, bool) or not isinstance(jobs, int) or jobs < 1):
+        raise SpecError(f"jobs={jobs!r} must be a positive integer.")
+    if scheduler is not None and backend != "dask":
+        raise SpecError("scheduler= is only used with backend='dask'.")
+    if backend == "serial":
+        return SerialExecutor()
+    if backend == "processes":
+        return ProcessExecutor(jobs)
+    return DaskExecutor(jobs, scheduler)
+
+
+def task_seeds(seed: Seed, n: int) -> list[np.random.SeedSequence]:
+    """Independent seeds for ``n`` tasks, derived from ``seed`` (so any backend gives one answer).
+
+    ``seed`` may be an int, a ``numpy.random.Generator`` (its bit generator's seed sequence is
+    used) or ``None`` (fresh entropy; record the result's seed to reproduce it).
+    """
+    if isinstance(seed, np.random.Generator):
+        root = seed.bit_generator.seed_seq  # type: ignore[attr-defined]
+    elif seed is None or isinstance(seed, (int, np.integer)):
+        root = np.random.SeedSequence(None if seed is None else int(seed))
+    else:
+        raise SpecError(f"seed={seed!r} must be an int, a numpy Generator or None.")
+    return list(root.spawn(n))
+
+
+def run_tasks(func: Callable[[Any], R], tasks: Sequence[Any], *, backend: str = "serial",
+              jobs: int | None = None, scheduler: str | None = None,
+              progress: Progress | None = None) -> list[R]:
+    """Run ``func`` over ``tasks`` on a fresh executor of the given backend and close it."""
+    executor = get_executor(backend, jobs=jobs, scheduler=scheduler)
+    try:
+        return executor.map(func, tasks, progress=progress)
+    finally:
+        executor.close()

@@ -1,0 +1,1 @@
+"""Unit-root, stationarity and cross-sectional dependence tests, single-series and panel."""
