@@ -4,6 +4,15 @@ The public API, re-exported; see ``docs/`` for the user guide and the methods re
 """
 
 from evidence.demo import demo_panel, demo_truth, run_demo
+from evidence.elasticity import (
+    EKCResult,
+    ElasticityPath,
+    decoupling_tests,
+    ekc,
+    elasticity,
+    slope_homogeneity_test,
+    time_varying_elasticity,
+)
 from evidence.errors import DataError, EstimationError, EvidenceError, SpecError
 from evidence.indicators import (
     BudgetResult,
@@ -16,12 +25,15 @@ from evidence.indicators import (
 )
 from evidence.panel import Panel, load_panel
 from evidence.results import Estimate, TestResult
+from evidence.tables import regression_table, test_table
 
 __version__ = "0.1.0"
 
 __all__ = [
     "BudgetResult",
     "DataError",
+    "EKCResult",
+    "ElasticityPath",
     "Estimate",
     "EstimationError",
     "EvidenceError",
@@ -31,11 +43,18 @@ __all__ = [
     "TestResult",
     "budget_rate",
     "decoupling_factor",
+    "decoupling_tests",
     "demo_panel",
     "demo_truth",
+    "ekc",
+    "elasticity",
     "load_panel",
     "rates",
+    "regression_table",
     "required_rate",
     "run_demo",
+    "slope_homogeneity_test",
     "tapio_class",
+    "test_table",
+    "time_varying_elasticity",
 ]

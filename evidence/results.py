@@ -43,6 +43,15 @@ def format_pvalue(p: float | None) -> str:
     return "<0.0001" if p < 1e-4 else f"{p:.4f}"
 
 
+def _printable(value: Any) -> bool:
+    """Whether a details entry is short enough to print in a summary (tables stay in to_dict)."""
+    if isinstance(value, (str, bool, int, float, np.integer, np.floating)) or value is None:
+        return len(str(value)) <= 120
+    if isinstance(value, (tuple, list)):
+        return len(value) <= 12 and all(_printable(v) for v in value)
+    return False
+
+
 def _frozen_mapping(value: Mapping[Any, Any] | None) -> Mapping[Any, Any]:
     return MappingProxyType(dict(value or {}))
 
@@ -128,7 +137,7 @@ class TestResult:
                             for k, v in sorted(self.critical_values.items()))
             lines.append(f"  critical values  {cvs}")
         for key, value in self.details.items():
-            if key != "inapplicable":
+            if key != "inapplicable" and _printable(value):
                 lines.append(f"  {key}: {value}")
         if self.reference:
             lines.append(f"  reference: {self.reference}")
@@ -255,7 +264,8 @@ class Estimate:
                          f"{format_number(row['std_error']):>10} {format_number(row['tstat'], 2):>8} "
                          f"{format_pvalue(row['pvalue']):>9}")
         for key, value in self.details.items():
-            lines.append(f"  {key}: {value}")
+            if _printable(value):
+                lines.append(f"  {key}: {value}")
         if self.reference:
             lines.append(f"  reference: {self.reference}")
         lines.extend(f"  warning: {w}" for w in self.warnings)

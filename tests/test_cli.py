@@ -119,3 +119,17 @@ def test_console_script_runs_as_module(demo_csv):
                            "--pressure", "nope", "--activity", "gdp"],
                           capture_output=True, text=True, check=False)
     assert done.returncode == 2 and done.stderr.startswith("evidence: error:")
+
+
+def test_elasticity_command(demo_csv, capsys):
+    code = main(["elasticity", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
+                 "--estimator", "fe,twfe,mg,ccemg,amg", "--ekc", "--population", "population"])
+    assert code == 0
+    out = capsys.readouterr().out
+    assert "(5)" in out and "CCE mean group" in out and "Lind-Mehlum" in out
+    assert main(["elasticity", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
+                 "--estimator", "fe", "--format", "json"]) == 0
+    assert len(json.loads(capsys.readouterr().out)["tables"]) == 2
+    assert main(["elasticity", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
+                 "--estimator", "ols"]) == 2
+    assert "estimator='ols'" in capsys.readouterr().err

@@ -2,5 +2,7 @@
 
 from evidence.tables._render import FORMATS, latex_escape, render_frame
 from evidence.tables.rates import audit_table, rates_table
+from evidence.tables.regression import regression_table, test_table
 
-__all__ = ["FORMATS", "render_frame", "latex_escape", "rates_table", "audit_table"]
+__all__ = ["FORMATS", "render_frame", "latex_escape", "rates_table", "audit_table",
+           "regression_table", "test_table"]
