@@ -192,6 +192,9 @@ class Estimate:
         Degrees of freedom of the Student t reference distribution; ``None`` for the normal.
     details, reference, warnings
         As for :class:`TestResult`.
+    resid : pandas.Series or None
+        Residuals indexed by (unit, time) where the estimator provides them (for fixed effects,
+        the idiosyncratic residuals net of the estimated effects). Not part of ``to_dict()``.
     """
 
     estimator: str
@@ -205,6 +208,7 @@ class Estimate:
     details: Mapping[str, Any] = field(default_factory=dict)
     reference: str = ""
     warnings: tuple[str, ...] = ()
+    resid: pd.Series | None = None
 
     def __post_init__(self) -> None:
         params = pd.Series(self.params, dtype=float).copy()
@@ -216,6 +220,8 @@ class Estimate:
         object.__setattr__(self, "nobs", int(self.nobs))
         object.__setattr__(self, "details", _frozen_mapping(self.details))
         object.__setattr__(self, "warnings", tuple(str(w) for w in self.warnings))
+        if self.resid is not None:
+            object.__setattr__(self, "resid", pd.Series(self.resid, dtype=float, name="resid").copy())
 
     @property
     def tstats(self) -> pd.Series:

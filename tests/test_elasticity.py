@@ -212,3 +212,19 @@ def test_bad_input(grunfeld):
         elasticity(panel, "invest", "value", estimator="mg", cov="robust")
     with pytest.raises(SpecError, match="'amg', 'ccemg'"):
         elasticity(panel, "invest", "value", estimator="gmm")
+
+
+def test_residuals_are_returned(grunfeld, tmp_path):
+    fe = elasticity(grunfeld, "invest", "value", controls=["capital"], log=False)
+    frame = grunfeld.frame
+    # within residuals: y - X b - a_i with a_i the unit mean of y - X b (hand computation)
+    raw = frame["invest"] - frame[["value", "capital"]] @ fe.params.to_numpy()
+    expected = raw - raw.groupby(level=0).transform("mean")
+    assert_allclose(fe.resid.to_numpy(), expected.to_numpy(), atol=1e-8)
+    mg = elasticity(grunfeld, "invest", "value", log=False, estimator="mg")
+    g = frame.loc["IBM"]
+    fit = sm.OLS(g["invest"], sm.add_constant(g["value"])).fit()
+    assert_allclose(mg.resid.loc["IBM"].to_numpy(), fit.resid.to_numpy(), atol=1e-8)
+    path = time_varying_elasticity(grunfeld, "invest", "value", width=8, log=False)
+    path.plot(tmp_path / "path.png")
+    assert (tmp_path / "path.png").stat().st_size > 1000

@@ -99,7 +99,7 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
     return Estimate(estimator=est.estimator, dependent=est.dependent, params=est.params,
                     std_errors=est.std_errors, cov=est.cov, cov_type=est.cov_type, nobs=est.nobs,
                     df_resid=est.df_resid, details=details, reference=est.reference,
-                    warnings=est.warnings)
+                    warnings=est.warnings, resid=est.resid)
 
 
 def _one_sided(est: Estimate, name: str, value: float, label: str, null: str,

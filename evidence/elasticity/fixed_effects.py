@@ -88,4 +88,4 @@ def fit_fixed_effects(design: Design, *, estimator: str = "fe", cov: str = "dris
                     cov=res.cov.to_numpy(), cov_type=label, nobs=int(res.nobs),
                     df_resid=float(res.df_resid), details=details,
                     reference="driscollkraay1998" if cov == "driscoll_kraay" else "",
-                    warnings=tuple(warn))
+                    warnings=tuple(warn), resid=res.idiosyncratic.iloc[:, 0])

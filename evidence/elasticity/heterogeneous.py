@@ -36,10 +36,12 @@ _REFS = {"mg": "pesaransmith1995", "ccemg": "pesaran2006", "ccep": "pesaran2006"
          "amg": "eberhardtteal2010; bondeberhardt2013"}
 
 
-def unit_ols(y: np.ndarray, x: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def unit_ols(y: np.ndarray, x: np.ndarray,
+             d: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Slopes on ``x`` from OLS of ``y`` on ``[x, d]`` (``d``: deterministic and factor proxies).
 
-    Returns the slopes and ``X' M_d X`` (the partialled cross-product), by the Frisch–Waugh route.
+    Returns the slopes, ``X' M_d X`` (the partialled cross-product, by the Frisch–Waugh route) and
+    the residuals.
     """
     if d.shape[1]:
         q, _ = np.linalg.qr(d)
@@ -50,7 +52,8 @@ def unit_ols(y: np.ndarray, x: np.ndarray, d: np.ndarray) -> tuple[np.ndarray, n
     xx = x_tilde.T @ x_tilde
     if np.linalg.matrix_rank(xx) < xx.shape[0]:
         raise np.linalg.LinAlgError("singular")
-    return np.linalg.solve(xx, x_tilde.T @ y_tilde), xx
+    slopes = np.linalg.solve(xx, x_tilde.T @ y_tilde)
+    return slopes, xx, y_tilde - x_tilde @ slopes
 
 
 def cross_section_means(design: Design) -> pd.DataFrame:
@@ -106,7 +109,7 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
         extra = cross_section_means(design)
     elif estimator == "amg":
         extra = amg_common_process(design).to_frame()
-    slopes, cross, used, skipped = [], [], [], []
+    slopes, cross, used, skipped, resid = [], [], [], [], []
     for unit, years, y_i, x_i in unit_blocks(design):
         d_i = _deterministics(years.astype(float), trend)
         if extra is not None:
@@ -116,11 +119,13 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
                                                     f"{k + d_i.shape[1]} for this estimator"})
             continue
         try:
-            b_i, xx_i = unit_ols(y_i, x_i, d_i)
+            b_i, xx_i, e_i = unit_ols(y_i, x_i, d_i)
         except np.linalg.LinAlgError:
             skipped.append({"unit": unit, "reason": "regressors collinear within the unit"})
             continue
         slopes.append(b_i)
+        resid.append(pd.Series(e_i, index=pd.MultiIndex.from_arrays(
+            [[unit] * y_i.size, years], names=design.y.index.names)))
         cross.append(xx_i / y_i.size)
         used.append(unit)
     n = len(used)
@@ -149,7 +154,8 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
     return Estimate(estimator=_LABELS[estimator], dependent=design.dependent,
                     params=pd.Series(mg, index=names), std_errors=np.sqrt(np.diag(cov)),
                     cov=cov, cov_type=cov_label, nobs=int(counts.sum()),
-                    df_resid=None, details=details, reference=_REFS[estimator], warnings=tuple(warn))
+                    df_resid=None, details=details, reference=_REFS[estimator], warnings=tuple(warn),
+                    resid=pd.concat(resid))
 
 
 def _cce_pooled(design: Design, extra: pd.DataFrame | None, trend: str, used: list[str],
