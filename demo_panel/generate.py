@@ -58,11 +58,11 @@ COLUMNS = {
 }
 
 # Club paths of log per-capita territorial GHG (t CO2e per person).
-CLUB_LEVEL_2023 = {1: 12.5, 2: 7.0, 3: 3.6}
+CLUB_LEVEL_2023 = {1: 12.5, 2: 7.0, 3: 2.4}
 HIGH_SLOPE_AFTER = -0.013  # club 1 per-capita slope after a region's break
 SLOPE_CHANGE = -0.035  # change of the intensity slope at the break
 MIDDLE_SLOPE = 0.004  # club 2 per-capita slope
-LOW_SLOPE = 0.009  # club 3 per-capita slope (= its per-capita GDP growth)
+LOW_SLOPE = 0.003  # club 3 per-capita slope (= its per-capita GDP growth); parallel to club 2
 OFFSHORING_DECAY = 0.12  # geometric decay of the offshorers' excess
 
 NOISE_RHO = 0.5
