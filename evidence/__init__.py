@@ -3,6 +3,17 @@
 The public API, re-exported; see ``docs/`` for the user guide and the methods reference.
 """
 
+from evidence.convergence import (
+    BetaResult,
+    ClubResult,
+    GammaResult,
+    SigmaResult,
+    beta_convergence,
+    club_convergence,
+    gamma_convergence,
+    log_t_test,
+    sigma_convergence,
+)
 from evidence.demo import demo_panel, demo_truth, run_demo
 from evidence.elasticity import (
     EKCResult,
@@ -30,29 +41,38 @@ from evidence.tables import regression_table, test_table
 __version__ = "0.1.0"
 
 __all__ = [
+    "BetaResult",
     "BudgetResult",
+    "ClubResult",
     "DataError",
     "EKCResult",
     "ElasticityPath",
     "Estimate",
     "EstimationError",
     "EvidenceError",
+    "GammaResult",
     "Panel",
     "RatesResult",
+    "SigmaResult",
     "SpecError",
     "TestResult",
+    "beta_convergence",
     "budget_rate",
+    "club_convergence",
     "decoupling_factor",
     "decoupling_tests",
     "demo_panel",
     "demo_truth",
     "ekc",
     "elasticity",
+    "gamma_convergence",
     "load_panel",
+    "log_t_test",
     "rates",
     "regression_table",
     "required_rate",
     "run_demo",
+    "sigma_convergence",
     "slope_homogeneity_test",
     "tapio_class",
     "test_table",

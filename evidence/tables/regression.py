@@ -84,6 +84,9 @@ def regression_table(estimates: Sequence[Estimate], fmt: str = "text", *, stat: 
         index += [term, ""]
     index += ["estimator", "dependent", "covariance", "N", "units", "years (mean)", "R2 within"]
     table = pd.DataFrame(columns, index=pd.Index(index, name=""))
+    n_terms = 2 * len(terms)
+    empty = [i for i in range(n_terms, len(index)) if (table.iloc[i] == "").all()]
+    table = table.iloc[[i for i in range(len(index)) if i not in empty]]
     return render_frame(table, fmt, title=title, notes=all_notes, digits=digits)
 
 

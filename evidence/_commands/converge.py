@@ -1,0 +1,77 @@
+"""``evidence converge``: beta, sigma, gamma, stochastic and club convergence of one column."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import click
+import pandas as pd
+
+import evidence as ev
+from evidence._commands._common import data_options, emit, format_options, load
+from evidence.tables import regression_table, render_frame, test_table
+
+__all__ = ["command"]
+
+METHODS = ("beta", "sigma", "gamma", "stochastic", "clubs")
+
+
+@click.command("converge")
+@data_options
+@click.option("--column", required=True, help="Column to test (e.g. emissions).")
+@click.option("--population", default=None, help="Population column: use the per-capita column.")
+@click.option("--method", "methods", default="beta,sigma,gamma,stochastic,clubs",
+              show_default=True, help="Comma-separated: beta, sigma, gamma, stochastic, clubs.")
+@click.option("--window", default=None, help="Years START:END, inclusive.")
+@format_options
+def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
+            population: str | None, methods: str, window: str | None, fmt: str,
+            output: Path | None) -> None:
+    """Convergence of a column across units (per capita with --population)."""
+    panel = load(data, unit_col, time_col, layout)
+    if population:
+        panel = panel.with_per_capita(column, population)
+        column = f"{column}_per_capita"
+    chosen = [m.strip().lower() for m in methods.split(",") if m.strip()]
+    unknown = [m for m in chosen if m not in METHODS]
+    if unknown:
+        raise ev.SpecError(f"--method {unknown[0]!r} is not a method; use "
+                           f"{', '.join(sorted(METHODS))}.")
+    fmt = fmt.lower()
+    parts = []
+    if "beta" in chosen:
+        beta = ev.beta_convergence(panel, column, window=window)
+        parts.append(regression_table([beta.estimate], fmt, title=f"Beta convergence of {column}",
+                                      notes=[f"Speed of convergence {beta.speed:.4f} a year "
+                                             f"(s.e. {beta.speed_se:.4f}); half-life "
+                                             f"{beta.half_life:.1f} years."]))
+        parts.append(test_table([beta.test], fmt, title="Beta convergence test"))
+    if "sigma" in chosen:
+        sigma = ev.sigma_convergence(panel, column, window=window)
+        parts.append(render_frame(sigma.path.to_frame(), fmt, title=f"Dispersion of log {column}",
+                                  digits=4))
+        parts.append(test_table([sigma.trend_test, *sigma.first_last_tests], fmt,
+                                title="Sigma convergence tests"))
+    if "gamma" in chosen:
+        gamma = ev.gamma_convergence(panel, column, window=window)
+        parts.append(test_table([gamma.test], fmt, title="Gamma convergence (rank concordance)",
+                                notes=[f"Kendall index, last vs first year: "
+                                       f"{gamma.path.iloc[-1]:.4f}"]))
+    if "stochastic" in chosen and hasattr(ev, "stochastic_convergence"):
+        stoch = ev.stochastic_convergence(panel, column, window=window)
+        parts.append(render_frame(stoch.table, fmt, title="Stochastic convergence by unit",
+                                  digits=3))
+    if "clubs" in chosen:
+        clubs = ev.club_convergence(panel, column, window=window)
+        members = clubs.membership().reset_index()
+        tests = pd.DataFrame([{"club": i, "units": len(c), "log_t": t.statistic, "b": t.details["b"]}
+                              for i, (c, t) in enumerate(zip(clubs.clubs, clubs.tests), start=1)])
+        parts.append(render_frame(tests, fmt, index=False, digits=3,
+                                  title=f"Phillips-Sul clubs (overall log t "
+                                        f"{clubs.overall.statistic:.3f}; 5 % critical value -1.65)"))
+        parts.append(render_frame(members, fmt, index=False, title="Club membership (0: divergent)"))
+    if fmt == "json":
+        emit(json.dumps({"tables": [json.loads(part) for part in parts]}, indent=2) + "\n", output)
+    else:
+        emit("\n".join(parts), output)

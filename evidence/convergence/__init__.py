@@ -1,0 +1,15 @@
+"""Convergence across units: beta, sigma, gamma, stochastic and club convergence."""
+
+from evidence.convergence.beta import BetaResult, beta_convergence, speed_of_convergence
+from evidence.convergence.clubs import ClubResult, club_convergence, log_t_test
+from evidence.convergence.sigma import (
+    GammaResult,
+    SigmaResult,
+    carree_klomp_tests,
+    gamma_convergence,
+    sigma_convergence,
+)
+
+__all__ = ["BetaResult", "ClubResult", "GammaResult", "SigmaResult", "beta_convergence",
+           "carree_klomp_tests", "club_convergence", "gamma_convergence", "log_t_test",
+           "sigma_convergence", "speed_of_convergence"]
