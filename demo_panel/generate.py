@@ -77,7 +77,7 @@ RANGES = {
     "pop_growth": ((0.0, 0.003), (0.006, 0.011), (0.009, 0.012), (0.0, 0.002)),
     "pop0": ((400.0, 20000.0),) * 4,  # thousand persons in 1990
     "gdp_growth": ((0.026, 0.032), (0.016, 0.024),
-                   (LOW_SLOPE - 0.0015, LOW_SLOPE + 0.0015), (0.016, 0.024)),
+                   (LOW_SLOPE - 0.0012, LOW_SLOPE - 0.0003), (0.016, 0.024)),
     "gdp0": ((22000, 34000), (12000, 24000), (3000, 8000), (24000, 36000)),
     "rate": ((0.07, 0.12),) * 4,  # decay rate of the transition
     "fall": ((0.028, 0.048),) * 4,  # GDP fall in the recession year

@@ -1,0 +1,131 @@
+"""The grade on constructed series with known answers, and on the demo panel's planted truth."""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+import pytest
+from statsmodels.stats.multitest import multipletests
+
+import evidence as ev
+from evidence import DataError, SpecError
+from evidence.grading import Criteria, grade
+from evidence.tables import grade_table
+
+YEARS = np.arange(1991, 2021)  # 30 years
+
+
+def _frame(units: dict[str, tuple[np.ndarray, np.ndarray]], cons: dict | None = None) -> pd.DataFrame:
+    rows = []
+    for unit, (gdp, ghg) in units.items():
+        for k, year in enumerate(YEARS):
+            row = {"unit": unit, "year": int(year), "gdp": gdp[k], "ghg": ghg[k]}
+            if cons is not None:
+                row["ghg_cons"] = cons[unit][k]
+            rows.append(row)
+    return pd.DataFrame(rows)
+
+
+def _path(growth: np.ndarray, seed: int, sd: float = 0.004) -> np.ndarray:
+    rng = np.random.default_rng(seed)
+    return 100 * np.exp(np.cumsum(growth) + rng.normal(0, sd, growth.size))
+
+
+def _constant(rate: float) -> np.ndarray:
+    return np.full(YEARS.size, rate)
+
+
+def _known_units() -> dict[str, tuple[np.ndarray, np.ndarray]]:
+    # constructed in the test: the answers are planted
+    recession = np.isin(YEARS, [1995, 2002, 2009, 2015])
+    gdp_rec = np.where(recession, -0.03, 0.025)
+    return {
+        "sustained": (_path(_constant(0.03), 1), _path(_constant(-0.02), 2)),
+        "relative": (_path(_constant(0.03), 3), _path(_constant(0.012), 4)),
+        "coupled": (_path(_constant(0.03), 5), _path(_constant(0.031), 6)),
+        "recession_only": (_path(gdp_rec, 7), _path(np.where(recession, -0.08, 0.004), 8)),
+    }
+
+
+def test_each_axis_on_constructed_series():
+    units = _known_units()
+    cons = {u: ghg for u, (_, ghg) in units.items()}
+    cons["sustained"] = _path(_constant(0.01), 9)  # territorial-only decliner
+    panel = ev.load_panel(_frame(units, cons), basis={"ghg": "territorial", "ghg_cons": "consumption"})
+    res = grade(panel, ["ghg"], "gdp", consumption={"ghg": "ghg_cons"},
+                criteria=Criteria(required_rate=0.01))
+    table = res.table.set_index("unit")
+    assert table.loc["sustained", "rung"] == "target-consistent"
+    assert "basis-gap" in table.loc["sustained", "flags"]
+    assert table.loc["sustained", "consumption_direction"] == "relative"
+    assert table.loc["sustained", "sufficiency"] == "sufficient"
+    assert table.loc["relative", "rung"] == "relative"
+    assert table.loc["coupled", "rung"] == "coupled"
+    rec = table.loc["recession_only"]
+    assert rec["pressure_trend"] < 0 and not rec["survives_recession"]
+    assert "recession" in rec["flags"]
+    assert table.loc["sustained", "longest_run"] >= 10 and table.loc["sustained", "subwindow_share"] == 1.0
+    assert all("short-window" not in f for f in table["flags"])
+    json.dumps(res.to_dict(), allow_nan=False)
+
+
+def test_required_rate_not_met_and_budget():
+    units = {"sustained": _known_units()["sustained"]}
+    panel = ev.load_panel(_frame(units))
+    slow = grade(panel, ["ghg"], "gdp", criteria=Criteria(required_rate=0.05))
+    assert slow.table.iloc[0]["rung"] == "absolute-sustained"
+    assert slow.table.iloc[0]["sufficiency"] == "insufficient"
+    end = panel.series("sustained", "ghg").iloc[-1]
+    budget = grade(panel, ["ghg"], "gdp", criteria=Criteria(budgets={"sustained": 1e6 * end}))
+    # budget_rate identity: r = E0 / (B + E0)
+    assert budget.table.iloc[0]["required_change"] == pytest.approx(-1 / (1e6 + 1))
+
+
+def test_short_window_flag_and_adjustment():
+    panel = ev.load_panel(_frame(_known_units()))
+    res = grade(panel, ["ghg"], "gdp", window=(2001, 2020), criteria=Criteria(adjust="holm"))
+    assert all("short-window" in f for f in res.table["flags"])
+    raw = res.table["p_relative"].to_numpy()
+    # Reference library: statsmodels multipletests with Holm's method
+    np.testing.assert_allclose(res.table["p_relative_adj"], multipletests(raw, method="holm")[1])
+    assert "Decoupling grade" in grade_table(res)
+    assert "<script>" not in grade_table(res, "html")
+
+
+def test_demo_truth_recovered_for_every_planted_class():
+    panel, truth = ev.demo_panel(), ev.demo_truth()["regions"]  # planted by the generator
+    full = grade(panel, ["ghg_territorial"], "gdp", breaks=False).table.set_index("unit")
+    for unit, info in truth.items():
+        if info["type"] == "relative":
+            assert full.loc[unit, "rung"] == "relative", unit
+        elif info["type"] == "coupled":
+            assert full.loc[unit, "rung"] == "coupled", unit
+        elif info["type"] == "absolute":
+            res = grade(panel.select([unit]), ["ghg_territorial"], "gdp",
+                        window=(info["break_year"] + 1, 2023))
+            assert res.table.iloc[0]["rung"] in ("absolute-significant", "absolute-sustained"), unit
+        else:  # offshoring: territorial falls, consumption keeps rising
+            res = grade(panel.select([unit]), ["ghg_territorial"], "gdp",
+                        window=(info["offshoring_onset"] + 1, 2023),
+                        consumption={"ghg_territorial": "ghg_consumption"})
+            row = res.table.iloc[0]
+            assert row["rung"].startswith("absolute") and "basis-gap" in row["flags"], unit
+
+
+def test_latest_break_found_on_demo_decoupler():
+    panel = ev.demo_panel()
+    res = grade(panel.select(["Aldwyr"]), ["ghg_territorial"], "gdp", window=(2000, 2023))
+    planted = ev.demo_truth()["regions"]["Aldwyr"]["break_year"]
+    assert abs(res.table.iloc[0]["latest_break"] - planted) <= 1
+
+
+def test_bad_input():
+    panel = ev.load_panel(_frame(_known_units()))
+    with pytest.raises(DataError, match="Did you mean 'ghg'"):
+        grade(panel, ["ghgg"], "gdp")
+    with pytest.raises(SpecError, match="adjust"):
+        Criteria(adjust="bonferroni")
+    with pytest.raises(SpecError, match="required_rate"):
+        Criteria(required_rate=5)
