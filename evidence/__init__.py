@@ -14,6 +14,7 @@ from evidence.convergence import (
     log_t_test,
     sigma_convergence,
 )
+from evidence.decomposition import LMDIResult, kaya, lmdi
 from evidence.demo import demo_panel, demo_truth, run_demo
 from evidence.elasticity import (
     EKCResult,
@@ -25,6 +26,7 @@ from evidence.elasticity import (
     time_varying_elasticity,
 )
 from evidence.errors import DataError, EstimationError, EvidenceError, SpecError
+from evidence.grading import Criteria, GradeResult, grade
 from evidence.indicators import (
     BudgetResult,
     RatesResult,
@@ -36,7 +38,9 @@ from evidence.indicators import (
 )
 from evidence.panel import Panel, load_panel
 from evidence.results import Estimate, TestResult
-from evidence.tables import regression_table, test_table
+from evidence.tables import grade_table, regression_table, test_table
+
+from evidence.study import run_study  # noqa: E402  (the runner uses the names above)
 
 __version__ = "0.1.0"
 
@@ -44,6 +48,7 @@ __all__ = [
     "BetaResult",
     "BudgetResult",
     "ClubResult",
+    "Criteria",
     "DataError",
     "EKCResult",
     "ElasticityPath",
@@ -51,6 +56,8 @@ __all__ = [
     "EstimationError",
     "EvidenceError",
     "GammaResult",
+    "GradeResult",
+    "LMDIResult",
     "Panel",
     "RatesResult",
     "SigmaResult",
@@ -66,12 +73,17 @@ __all__ = [
     "ekc",
     "elasticity",
     "gamma_convergence",
+    "grade",
+    "grade_table",
+    "kaya",
+    "lmdi",
     "load_panel",
     "log_t_test",
     "rates",
     "regression_table",
     "required_rate",
     "run_demo",
+    "run_study",
     "sigma_convergence",
     "slope_homogeneity_test",
     "tapio_class",

@@ -37,20 +37,44 @@ def cli(debug: bool) -> None:
               default=Path("evidence-demo"), show_default=True, help="Results folder.")
 def demo(out: Path) -> None:
     """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
-    progress = progress_bar("figures")
+    progress = progress_bar("analyses")
     try:
         result = ev.run_demo(out, progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
-    click.echo(f"Demo panel: {len(result['panel'].units)} invented regions, "
-               f"{result['panel'].years[0]}-{result['panel'].years[-1]}.")
-    for pressure, res in result["rates"].items():
+    panel, study = result["panel"], result["study"]
+    click.echo(f"Demo panel: {len(panel.units)} invented regions, "
+               f"{panel.years[0]}-{panel.years[-1]}.")
+    if study.grade is not None:
         click.echo("")
-        click.echo(res.summary())
+        click.echo(study.grade.summary())
+    for name, reason in study.results.get("not_run", {}).items():
+        click.echo(f"not run: {name}: {reason}")
     click.echo("")
-    click.echo(f"Wrote {len(result['files'])} files to {result['folder']}/ "
-               "(rates tables, audit, figures, README).")
+    click.echo(f"Wrote {len(result['files'])} files to {result['folder']}/: report.html, "
+               "tables/, figures/, results.json, manifest.json, and the demo data and study file.")
+    click.echo(CAUTION)
+
+
+@cli.command()
+@click.argument("spec", type=click.Path(dir_okay=False, path_type=Path))
+@click.option("--out", type=click.Path(file_okay=False, path_type=Path),
+              default=Path("results"), show_default=True, help="Results folder.")
+def study(spec: Path, out: Path) -> None:
+    """Run a study file (TOML): report, tables, figures, results.json, manifest."""
+    progress = progress_bar("analyses")
+    try:
+        result = ev.run_study(spec, out, progress=progress.update if progress else None)
+    finally:
+        if progress:
+            progress.close()
+    if result.grade is not None:
+        click.echo(result.grade.summary())
+    for name, reason in result.results.get("not_run", {}).items():
+        click.echo(f"not run: {name}: {reason}")
+    click.echo(f"Wrote {len(result.files)} files to {result.folder}/ (report.html, tables/, "
+               "figures/, results.json, manifest.json).")
     click.echo(CAUTION)
 
 

@@ -23,13 +23,30 @@ def test_demo_writes_results_folder(tmp_path, capsys):
     out = tmp_path / "results"
     assert main(["demo", "--out", str(out)]) == 0
     names = {p.name for p in out.iterdir()}
-    assert {"rates_ghg_territorial.csv", "rates_ghg_territorial.md", "rates_ghg_consumption.csv",
-            "audit.csv", "audit.md", "README.md", "demo_panel.csv", "figures"} <= names
-    figures = list((out / "figures").glob("*.png"))
+    assert {"report.html", "results.json", "manifest.json", "tables", "figures", "demo_panel.csv",
+            "demo_study.toml"} <= names
+    tables = {p.name for p in (out / "tables").iterdir()}
+    assert {"grade.md", "grade.tex", "grade.csv", "rates_ghg_territorial.csv",
+            "rates_ghg_consumption.md", "audit.md"} <= tables
+    figures = list((out / "figures").glob("indexed_*.png"))
     assert len(figures) == len(ev.demo_panel().units)
-    assert "not a policy verdict" in (out / "README.md").read_text()
+    assert "not a policy verdict" in (out / "report.html").read_text()
     text = capsys.readouterr().out
     assert "invented regions" in text and "not a policy verdict" in text
+    assert "Decoupling grade" in text
+
+
+def test_study_command(tmp_path, capsys):
+    (tmp_path / "demo_panel.csv").write_text(ev.demo.demo_csv_text())
+    spec = ev.demo.demo_study_text().replace('formats = ["markdown", "latex", "html", "csv", "json"]',
+                                             'formats = ["csv"]').replace("figures = true",
+                                                                          "figures = false")
+    (tmp_path / "s.toml").write_text(spec)
+    assert main(["study", str(tmp_path / "s.toml"), "--out", str(tmp_path / "r")]) == 0
+    assert (tmp_path / "r" / "tables" / "grade.csv").exists()
+    (tmp_path / "bad.toml").write_text(spec.replace("[criteria]", "[criterion]"))
+    assert main(["study", str(tmp_path / "bad.toml")]) == 2
+    assert "unknown table [criterion]" in capsys.readouterr().err
 
 
 def test_rates_prints_every_unit(demo_csv, capsys):
