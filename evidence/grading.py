@@ -39,7 +39,9 @@ class Criteria:
     ``episode_years`` (5) and ``sustained_years`` (10) follow the thresholds used in the
     literature (at least five years of decline counted as an episode in press analyses; at least
     ten years for sustained reductions, Lamb et al. 2022). ``short_window`` (30) flags windows in
-    which unit-root and trend tests have low power. ``required_rate`` is an annual decline (0.05
+    which unit-root and trend tests have low power. ``interval`` is how the interval of the
+    observed annual change is computed: ``"hac"`` (Newey–West, Student t) or ``"bootstrap"``
+    (moving-block bootstrap of arch, ``bootstrap_reps`` replications, ``seed``). ``required_rate`` is an annual decline (0.05
     = 5 % a year) or ``None``; ``budgets`` maps units to a remaining cumulative budget (pressure
     units, from the year after the window) — both normative choices the user states.
     """
@@ -56,8 +58,13 @@ class Criteria:
     trim: float = 0.15
     required_rate: float | None = None
     budgets: Mapping[str, float] | None = None
+    interval: str = "hac"
+    bootstrap_reps: int = 999
+    seed: int = 20261202
 
     def __post_init__(self) -> None:
+        object.__setattr__(self, "interval", check_choice("interval", self.interval,
+                                                          ("hac", "bootstrap")))
         object.__setattr__(self, "adjust", check_choice("adjust", self.adjust, ("bh", "holm", "none")))
         if not 0 < self.alpha < 0.5:
             raise SpecError(f"alpha={self.alpha!r} must be between 0 and 0.5.")
@@ -156,7 +163,11 @@ def _unit_axes(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray, crit: Cr
                {"latest_break": None, "latest_regime_slope": math.nan})
     change, low, high = axes.change_interval(rec["pressure_trend"], rec["pressure_trend_se"],
                                              rec["df"], crit.alpha)
-    rec.update(observed_change=change, observed_change_lower=low, observed_change_upper=high)
+    if crit.interval == "bootstrap":
+        low, high = axes.bootstrap_change_interval(log_p, years, crit.alpha,
+                                                   reps=crit.bootstrap_reps, seed=crit.seed)
+    rec.update(observed_change=change, observed_change_lower=low, observed_change_upper=high,
+               interval=crit.interval)
     return rec
 
 

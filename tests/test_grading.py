@@ -129,3 +129,25 @@ def test_bad_input():
         Criteria(adjust="bonferroni")
     with pytest.raises(SpecError, match="required_rate"):
         Criteria(required_rate=5)
+
+
+def test_bootstrap_interval_equals_arch():
+    from arch.bootstrap import MovingBlockBootstrap
+
+    units = {"sustained": _known_units()["sustained"]}
+    panel = ev.load_panel(_frame(units))
+    res = grade(panel, ["ghg"], "gdp", breaks=False,
+                criteria=Criteria(interval="bootstrap", bootstrap_reps=199, seed=7))
+    row = res.table.iloc[0]
+    log_p = np.log(panel.series("sustained", "ghg").to_numpy())
+
+    def slope(t, y):
+        tc = t - t.mean()
+        return np.array([np.expm1(tc @ (y - y.mean()) / (tc @ tc))])
+
+    # Reference library: arch's moving-block bootstrap, same block (round(30^(1/3)) = 3) and seed
+    ref = MovingBlockBootstrap(3, YEARS.astype(float), log_p, seed=7).conf_int(
+        slope, reps=199, method="percentile", size=0.95)
+    assert row["observed_change_lower"] == pytest.approx(ref[0, 0])
+    assert row["observed_change_upper"] == pytest.approx(ref[1, 0])
+    assert row["observed_change_lower"] < row["observed_change"] < row["observed_change_upper"]

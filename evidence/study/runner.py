@@ -78,7 +78,7 @@ def _versions() -> dict[str, str]:
 
 
 def _criteria(spec: StudySpec) -> ev.Criteria:
-    return ev.Criteria(**{**spec.criteria,
+    return ev.Criteria(**{**spec.criteria, "seed": spec.seed,
                           **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
 
 
@@ -133,7 +133,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
                        criteria=_criteria(spec), consumption=consumption)
         grade_holder["result"] = res
         results["grade"] = res.to_dict()
-        fragment = writer.table("grade", lambda f: grade_table(res, f))
+        fragment = writer.table("grade", lambda f: grade_table(res, f, notes=notes))
         figures = []
         if spec.figures:
             for unit in panel.units:
@@ -143,6 +143,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
                 shown = [*pressures, *consumption.values()]
                 figures.append(writer.figure(figs.indexed_figure(
                     panel, unit, spec.activity, shown, tuple(win), breaks), f"indexed_{_slug(unit)}"))
+                _intensity_figure(writer, panel, unit, pressures[0], spec, tuple(win), results)
                 rec = res.records.get(f"{unit}|{pressures[0]}")
                 if rec is not None:
                     writer.figure(figs.heatmap_figure(
@@ -158,7 +159,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         for p in [*pressures, *consumption.values()]:
             res = ev.rates(panel, p, spec.activity, window=spec.window)
             results.setdefault("rates", {})[p] = res.to_dict()
-            fragments.append(writer.table(f"rates_{p}", lambda f, r=res: rates_table(r, f)))
+            fragments.append(writer.table(f"rates_{p}", lambda f, r=res: rates_table(r, f, notes=notes)))
         return Section("Decoupling indicators", tuple(fragments))
 
     def do_elasticity() -> Section:
@@ -244,7 +245,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         if analyses.get(name):
             step(name, runners[name])
     sections.append(Section("Audit: data not used", (writer.table(
-        "audit", lambda f: audit_table(panel.audit, f)),)))
+        "audit", lambda f: audit_table(panel.audit, f, notes=notes)),)))
     return _finish(spec, folder, writer, results, sections, started, clock, grade_holder)
 
 
@@ -265,6 +266,21 @@ def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, A
     files = (*writer.files, report, folder / "results.json", folder / "manifest.json")
     return StudyResult(folder=folder, files=tuple(files), results=results,
                        grade=grade_holder.get("result"))
+
+
+def _intensity_figure(writer: _Writer, panel: ev.Panel, unit: str, pressure: str, spec: StudySpec,
+                      window: tuple[int, int], results: dict[str, Any]) -> None:
+    """Log intensity of one unit with its fitted trend regimes and break-date intervals."""
+    column = f"{pressure}_per_{spec.activity}"
+    work = panel.with_intensity(pressure, spec.activity).with_log(column)
+    series = work.series(unit, f"log_{column}").loc[window[0]:window[1]].dropna()
+    options = {k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}
+    try:
+        found = ev.find_breaks(series, model="trend", **options)
+    except EvidenceError as exc:
+        results.setdefault("figures_not_drawn", {})[f"intensity {unit}"] = str(exc)
+        return
+    writer.figure(found.plot(), f"intensity_{_slug(unit)}")
 
 
 def _slug(text: str) -> str:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 
 import pandas as pd
 
@@ -32,10 +33,11 @@ def _break_label(result: GradeResult, unit: str, pressure: str) -> str:
     return f"{rec['latest_break']} ({trend})"
 
 
-def grade_table(result: GradeResult, fmt: str = "text") -> str:
+def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] = ()) -> str:
     """The grade table; CSV and JSON carry every column at full precision."""
     crit = result.criteria
-    notes = [
+    extra = list(notes)
+    notes = [*extra,
         f"Direction: one-sided tests of a falling pressure trend (absolute) and a falling "
         f"intensity trend (relative, i.e. elasticity below 1), Newey-West errors; p-values "
         f"adjusted across units by {crit.adjust.upper() if crit.adjust != 'none' else 'no method'}"

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import pandas as pd
 
 from evidence._cautions import CAUTION
@@ -19,17 +21,18 @@ _PERCENT_COLUMNS = {
 }
 
 
-def rates_table(result: RatesResult, fmt: str = "text") -> str:
+def rates_table(result: RatesResult, fmt: str = "text", *, notes: Sequence[str] = ()) -> str:
     """The per-unit rates as a table; CSV and JSON carry every column at full precision."""
+    all_notes = [*notes, *_notes(result)]
     if fmt.lower() in ("csv", "json"):
-        return render_frame(result.table, fmt, title=_title(result), notes=_notes(result))
+        return render_frame(result.table, fmt, title=_title(result), notes=all_notes)
     shown = pd.DataFrame(index=result.table.index)
     for column, label in _PERCENT_COLUMNS.items():
         shown[label] = 100.0 * result.table[column]
     shown["Tapio e"] = result.table["tapio_elasticity"]
     shown["Tapio class"] = result.table["tapio_class"]
     shown["OECD factor"] = result.table["decoupling_factor"]
-    return render_frame(shown, fmt, title=_title(result), notes=_notes(result), digits=2)
+    return render_frame(shown, fmt, title=_title(result), notes=all_notes, digits=2)
 
 
 def _title(result: RatesResult) -> str:
@@ -53,10 +56,10 @@ def _notes(result: RatesResult) -> list[str]:
     return notes
 
 
-def audit_table(audit: pd.DataFrame, fmt: str = "text") -> str:
+def audit_table(audit: pd.DataFrame, fmt: str = "text", *, notes: Sequence[str] = ()) -> str:
     """The audit of a panel (everything not used, and why)."""
     title = "Audit: data not used, and why"
     if audit.empty:
         return render_frame(pd.DataFrame({"note": ["nothing left out"]}), fmt, title=title,
-                            index=False)
-    return render_frame(audit, fmt, title=title, index=False)
+                            index=False, notes=notes)
+    return render_frame(audit, fmt, title=title, index=False, notes=notes)

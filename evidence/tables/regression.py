@@ -15,7 +15,7 @@ from evidence._validation import check_choice
 from evidence.results import Estimate, TestResult, format_pvalue
 from evidence.tables._render import render_frame
 
-__all__ = ["regression_table", "test_table", "STARS"]
+__all__ = ["regression_table", "test_table", "unit_table", "STARS"]
 
 #: Significance marks: p < 0.01 ***, p < 0.05 **, p < 0.10 *.
 STARS = ((0.01, "***"), (0.05, "**"), (0.10, "*"))
@@ -75,19 +75,34 @@ def regression_table(estimates: Sequence[Estimate], fmt: str = "text", *, stat: 
                 cells += ["", ""]
         d = est.details
         years = d.get("years_mean")
-        cells += [est.estimator, est.dependent, est.cov_type, str(est.nobs),
+        cells += [est.estimator, est.dependent, str(d.get("effects", "")), est.cov_type, str(est.nobs),
                   str(d.get("units", "")), "" if years is None else f"{years:.1f}",
                   "" if d.get("r2_within") is None else f"{d['r2_within']:.{digits}f}"]
         columns[f"({i})"] = cells
     index = []
     for term in terms:
         index += [term, ""]
-    index += ["estimator", "dependent", "covariance", "N", "units", "years (mean)", "R2 within"]
+    index += ["estimator", "dependent", "fixed effects", "covariance", "N", "units", "years (mean)",
+              "R2 within"]
     table = pd.DataFrame(columns, index=pd.Index(index, name=""))
     n_terms = 2 * len(terms)
     empty = [i for i in range(n_terms, len(index)) if (table.iloc[i] == "").all()]
     table = table.iloc[[i for i in range(len(index)) if i not in empty]]
     return render_frame(table, fmt, title=title, notes=all_notes, digits=digits)
+
+
+def unit_table(estimate: Estimate, fmt: str = "text", *, title: str = "",
+               notes: Sequence[str] = ()) -> str:
+    """Unit-level slopes of a mean-group-type estimate, one row per unit (the transposed layout)."""
+    units = estimate.details.get("unit_params")
+    if units is None:
+        raise ValueError(f"the {estimate.estimator} estimate has no unit-level coefficients.")
+    frame = units.copy()
+    mean = pd.DataFrame([estimate.params.to_numpy()], columns=frame.columns,
+                        index=pd.Index([f"{estimate.details.get('mean', 'mean')}"], name=frame.index.name))
+    return render_frame(pd.concat([frame, mean]), fmt,
+                        title=title or f"Unit coefficients, {estimate.estimator}: {estimate.dependent}",
+                        notes=[*notes, CAUTION])
 
 
 def test_table(results: Sequence[TestResult], fmt: str = "text", *, title: str = "",
