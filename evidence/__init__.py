@@ -38,6 +38,26 @@ from evidence.indicators import (
 )
 from evidence.panel import Panel, load_panel
 from evidence.results import Estimate, TestResult
+from evidence.roots import (
+    RootBatteryResult,
+    adf_test,
+    bias_corrected_lm_test,
+    breitung_test,
+    cips_test,
+    dfgls_test,
+    fisher_test,
+    hadri_test,
+    ips_test,
+    kpss_test,
+    lee_strazicich_test,
+    llc_test,
+    lm_test,
+    pesaran_cd_test,
+    pp_test,
+    root_battery,
+    scaled_lm_test,
+    za_test,
+)
 from evidence.tables import grade_table, regression_table, test_table
 
 from evidence.study import run_study  # noqa: E402  (the runner uses the names above)
@@ -45,6 +65,23 @@ from evidence.study import run_study  # noqa: E402  (the runner uses the names a
 __version__ = "0.1.0"
 
 __all__ = [
+    "adf_test",
+    "bias_corrected_lm_test",
+    "breitung_test",
+    "cips_test",
+    "dfgls_test",
+    "fisher_test",
+    "hadri_test",
+    "ips_test",
+    "kpss_test",
+    "lee_strazicich_test",
+    "llc_test",
+    "lm_test",
+    "pesaran_cd_test",
+    "pp_test",
+    "root_battery",
+    "scaled_lm_test",
+    "za_test",
     "BetaResult",
     "BudgetResult",
     "ClubResult",
@@ -60,6 +97,7 @@ __all__ = [
     "LMDIResult",
     "Panel",
     "RatesResult",
+    "RootBatteryResult",
     "SigmaResult",
     "SpecError",
     "TestResult",

@@ -1,0 +1,101 @@
+"""``evidence roots``: the unit-root battery table, or the cross-sectional dependence table."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+import pandas as pd
+
+from evidence._cautions import CAUTION
+from evidence._commands._common import data_options, emit, format_options, load
+from evidence.errors import SpecError
+from evidence.roots import (
+    bias_corrected_lm_test,
+    lm_test,
+    pesaran_cd_test,
+    root_battery,
+    scaled_lm_test,
+)
+from evidence.roots.battery import PANEL_TESTS, SERIES_TESTS
+from evidence.tables import render_frame
+
+__all__ = ["command"]
+
+_RULE = ("Decision at the chosen alpha: I(0) when every unit-root test rejects and no stationarity "
+         "test (KPSS, Hadri) rejects in levels; I(1) when the levels show a unit root by the same "
+         "unanimity and the first differences are stationary; otherwise inconclusive. Cells are "
+         "p-values ('reject'/'no reject' for tests without one).")
+
+
+def _parse_tests(text: str | None) -> tuple[str, ...] | None:
+    if text is None:
+        return None
+    names = tuple(t.strip().lower() for t in text.split(",") if t.strip())
+    if not names:
+        raise SpecError("--tests is empty; give names such as adf,kpss,ips,cips.")
+    return names
+
+
+def _parse_lags(text: str) -> int | str:
+    text = text.strip().lower()
+    if text.isdigit():
+        return int(text)
+    return text
+
+
+def _dependence_frame(panel, column: str, trend: str, min_overlap: int) -> pd.DataFrame:
+    rows = []
+    for func in (pesaran_cd_test, lm_test, scaled_lm_test, bias_corrected_lm_test):
+        res = func(panel, column, trend=trend, min_overlap=min_overlap)
+        rows.append({"test": res.test, "statistic": res.statistic, "pvalue": res.pvalue,
+                     "pairs": res.details.get("pairs", ""),
+                     "mean_abs_correlation": res.details.get("mean_abs_correlation", float("nan")),
+                     "note": "; ".join(res.warnings)})
+    return pd.DataFrame(rows)
+
+
+@click.command("roots")
+@data_options
+@click.option("--column", required=True, help="The column to test.")
+@click.option("--tests", default=None,
+              help="Comma-separated tests: " + ",".join(SERIES_TESTS + PANEL_TESTS)
+              + " (default adf,kpss,ips,cips).")
+@click.option("--trend", type=click.Choice(["n", "c", "ct"], case_sensitive=False), default="c",
+              show_default=True, help="Deterministic terms in levels.")
+@click.option("--lags", default="aic", show_default=True, help="Lags: an integer, aic, bic or t-stat.")
+@click.option("--max-lags", type=int, default=None, help="Largest lag order searched.")
+@click.option("--alpha", type=float, default=0.05, show_default=True, help="Level of the decisions.")
+@click.option("--differences/--no-differences", default=True, show_default=True,
+              help="Also test first differences.")
+@click.option("--log", "take_log", is_flag=True, help="Test the natural log of the column.")
+@click.option("--dependence", is_flag=True,
+              help="Print the cross-sectional dependence table (CD, LM, scaled LM, bias-corrected LM).")
+@click.option("--min-overlap", type=int, default=8, show_default=True,
+              help="With --dependence: fewest shared years for a pair of units.")
+@format_options
+def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
+            tests: str | None, trend: str, lags: str, max_lags: int | None, alpha: float,
+            differences: bool, take_log: bool, dependence: bool, min_overlap: int, fmt: str,
+            output: Path | None) -> None:
+    """Unit-root battery (levels, differences, decision) or cross-sectional dependence table."""
+    panel = load(data, unit_col, time_col, layout)
+    fmt = fmt.lower()
+    if take_log:
+        panel = panel.with_log(column)
+        column = f"log_{column}"
+    if dependence:
+        frame = _dependence_frame(panel, column, "ct" if trend.lower() == "ct" else "c", min_overlap)
+        notes = ["H0 of every test: no cross-sectional correlation. "
+                 "mean_abs_correlation: average |rho_ij| over the pairs used.", CAUTION]
+        emit(render_frame(frame, fmt, title=f"Cross-sectional dependence: {column}", notes=notes,
+                          index=False), output)
+        return
+    result = root_battery(panel, column, tests=_parse_tests(tests), trend=trend.lower(),
+                          lags=_parse_lags(lags), max_lags=max_lags, alpha=alpha,
+                          differences=differences)
+    notes = [_RULE] + [f"skipped: {r.unit} {r.series} {r.test}: {r.reason}"
+                       for r in result.skipped.itertuples()] + [CAUTION]
+    frame = result.to_frame() if fmt in ("csv", "json") else result.decision_table()
+    emit(render_frame(frame, fmt, title=f"Unit-root battery: {column} (trend '{result.trend}', "
+                      f"alpha {result.alpha:g})", notes=notes, index=False), output)

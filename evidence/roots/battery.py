@@ -1,0 +1,292 @@
+"""The unit-root battery: levels and first differences, several tests, one decision per series.
+
+Decision rule (at level ``alpha``, default 5 %), for a unit (or for the panel, from the panel
+tests): tests whose null is a unit root (ADF, PP, DF-GLS, Zivot–Andrews, Lee–Strazicich, IPS,
+LLC, Fisher, Breitung, CIPS) "reject" when p < alpha (Lee–Strazicich, which has no p-value: when
+the statistic is below the critical value at alpha); tests whose null is stationarity (KPSS,
+Hadri) "reject" when p < alpha. A series is
+
+* **stationary** in a transform when every unit-root test rejects and no stationarity test does;
+* **non-stationary** when no unit-root test rejects and every stationarity test rejects (or none
+  was run).
+
+The decision is ``I(0)`` when the levels are stationary; ``I(1)`` when the levels are
+non-stationary and the first differences stationary; ``I(1) or higher`` when the levels are
+non-stationary and differences were not tested; otherwise ``inconclusive`` (the tests
+disagree, or the differences are not clearly stationary). Tests that could not apply are left
+out of the rule and named in the ``note`` column. Differences are tested with a constant when
+the levels have a constant or a trend ("c" or "ct"), without one when the levels have none.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+import pandas as pd
+
+from evidence._json import json_safe
+from evidence._typing import Trend
+from evidence._validation import check_choice
+from evidence.errors import DataError, EvidenceError, SpecError
+from evidence.panel import Panel, load_panel
+from evidence.results import TestResult, format_pvalue
+from evidence.roots import panel as panel_tests
+from evidence.roots import series as series_tests
+from evidence.roots._common import check_alpha, check_trend
+
+__all__ = ["root_battery", "RootBatteryResult", "SERIES_TESTS", "PANEL_TESTS", "STATIONARITY_NULL"]
+
+SERIES_TESTS = ("adf", "pp", "kpss", "dfgls", "za", "ls")
+PANEL_TESTS = ("ips", "llc", "fisher", "breitung", "hadri", "cips")
+#: Tests whose null hypothesis is stationarity (their rejection points to a unit root).
+STATIONARITY_NULL = ("kpss", "hadri")
+DEFAULT_SERIES = ("adf", "kpss")
+DEFAULT_PANEL = ("adf", "kpss", "ips", "cips")
+PANEL_ROW = "(panel)"
+
+
+@dataclass(frozen=True, eq=False)
+class RootBatteryResult:
+    """The battery's results: one row per unit, transform and test, and one decision per unit.
+
+    ``table`` (long): unit, series ("level"/"difference"), test, statistic, pvalue, cv (at
+    ``alpha``), lags, reject, note. ``decisions``: unit, decision, reason. ``skipped``: unit,
+    series, test, reason for every test that raised on bad data.
+    """
+
+    table: pd.DataFrame
+    decisions: pd.DataFrame
+    skipped: pd.DataFrame
+    column: str | None
+    tests: tuple[str, ...]
+    trend: str
+    alpha: float
+    differences: bool
+    reference: str = "see docs/methods/roots.md"
+    warnings: tuple[str, ...] = ()
+    details: dict[str, Any] = field(default_factory=dict)
+
+    def to_frame(self) -> pd.DataFrame:
+        """The long table with each unit's decision."""
+        return self.table.merge(self.decisions[["unit", "decision"]], on="unit", how="left")
+
+    def decision_table(self) -> pd.DataFrame:
+        """One row per unit: the p-value of each test in levels (and differences), the decision."""
+        t = self.table.copy()
+        t["cell"] = [format_pvalue(p) if not math.isnan(p) else
+                     ("reject" if r is True else "no reject" if r is False else "")
+                     for p, r in zip(t["pvalue"], t["reject"])]
+        t["key"] = t["test"] + " " + np.where(t["series"] == "level", "level", "diff")
+        wide = t.pivot_table(index="unit", columns="key", values="cell", aggfunc="first", sort=False)
+        order = [f"{test} {s}" for test in self.tests for s in ("level", "diff")
+                 if f"{test} {s}" in wide.columns]
+        wide = wide[order].reset_index()
+        return wide.merge(self.decisions, on="unit", how="left").fillna("")
+
+    def summary(self) -> str:
+        """Counts of decisions and what was skipped."""
+        lines = [f"Unit-root battery: {self.column or 'series'}, tests {', '.join(self.tests)}, "
+                 f"trend '{self.trend}', alpha {self.alpha:g}"]
+        for label, n in self.decisions["decision"].value_counts().sort_index().items():
+            lines.append(f"  {label}: {n}")
+        lines += [f"  skipped: {r.unit} {r.series} {r.test} ({r.reason})"
+                  for r in self.skipped.itertuples()]
+        lines += [f"  warning: {w}" for w in self.warnings]
+        return "\n".join(lines)
+
+    def to_dict(self) -> dict[str, Any]:
+        """JSON-safe contents."""
+        return json_safe({"column": self.column, "tests": list(self.tests), "trend": self.trend,
+                          "alpha": self.alpha, "differences": self.differences,
+                          "table": self.table, "decisions": self.decisions,
+                          "skipped": self.skipped, "warnings": list(self.warnings),
+                          "reference": self.reference, "details": self.details})
+
+
+def _reject(test: str, res: TestResult, alpha: float) -> bool | None:
+    if not res.applicable:
+        return None
+    if not math.isnan(res.pvalue):
+        return bool(res.pvalue < alpha)
+    cv = res.critical_values.get(round(alpha, 2))
+    if cv is None:
+        return None
+    return bool(res.statistic < cv)
+
+
+def _series_test(test: str, y: pd.Series, trend: str, lags: Any, max_lags: Any) -> TestResult:
+    if test == "adf":
+        return series_tests.adf_test(y, trend=trend, lags=lags, max_lags=max_lags)
+    if test == "pp":
+        return series_tests.pp_test(y, trend=trend)
+    if test == "kpss":
+        return series_tests.kpss_test(y, trend="ct" if trend == "ct" else "c")
+    if test == "dfgls":
+        return series_tests.dfgls_test(y, trend="ct" if trend == "ct" else "c", lags=lags,
+                                       max_lags=max_lags)
+    if test == "za":
+        return series_tests.za_test(y, model="both" if trend == "ct" else "level", lags=lags,
+                                    max_lags=max_lags)
+    return series_tests.lee_strazicich_test(y, model="both" if trend == "ct" else "level")
+
+
+def _panel_test(test: str, panel: Panel, column: str, trend: str, lags: Any, max_lags: Any) -> TestResult:
+    lag_int = lags if isinstance(lags, int) else 0
+    if test == "ips":
+        return panel_tests.ips_test(panel, column, trend="ct" if trend == "ct" else "c", lags=lags,
+                                    max_lags=8 if max_lags is None else max_lags)
+    if test == "llc":
+        return panel_tests.llc_test(panel, column, trend=trend, lags=lags, max_lags=max_lags)
+    if test == "fisher":
+        return panel_tests.fisher_test(panel, column, trend=trend, lags=lags, max_lags=max_lags)
+    if test == "breitung":
+        return panel_tests.breitung_test(panel, column, trend=trend, lags=lag_int)
+    if test == "hadri":
+        return panel_tests.hadri_test(panel, column, trend="ct" if trend == "ct" else "c")
+    return panel_tests.cips_test(panel, column, trend=trend, lags=lag_int)
+
+
+def _row(unit: str, series: str, test: str, res: TestResult, alpha: float) -> dict[str, Any]:
+    lags = res.details.get("lags", res.details.get("bandwidth", ""))
+    if isinstance(lags, (list, tuple)):
+        lags = f"{min(lags)}-{max(lags)}" if lags else ""
+    return {"unit": unit, "series": series, "test": test, "statistic": res.statistic,
+            "pvalue": res.pvalue, "cv": res.critical_values.get(round(alpha, 2), math.nan),
+            "lags": str(lags), "reject": _reject(test, res, alpha),
+            "note": "; ".join(res.warnings)}
+
+
+def _stationary(rows: list[dict[str, Any]]) -> tuple[bool, bool]:
+    used = [r for r in rows if r["reject"] is not None]
+    root = [r["reject"] for r in used if r["test"] not in STATIONARITY_NULL]
+    stat = [r["reject"] for r in used if r["test"] in STATIONARITY_NULL]
+    if not used:
+        return False, False
+    stationary = bool(root or stat) and all(root) and not any(stat)
+    nonstationary = (not any(root)) and (all(stat) if stat else bool(root))
+    return stationary, nonstationary
+
+
+def _decide(rows: list[dict[str, Any]], differences: bool) -> tuple[str, str]:
+    lev = [r for r in rows if r["series"] == "level"]
+    dif = [r for r in rows if r["series"] == "difference"]
+    lev_s, lev_n = _stationary(lev)
+    if lev_s:
+        return "I(0)", "levels: every test points to stationarity"
+    if not lev_n:
+        return "inconclusive", "levels: the tests disagree"
+    if not differences:
+        return "I(1) or higher", "levels: every test points to a unit root; differences not tested"
+    dif_s, _ = _stationary(dif)
+    if dif_s:
+        return "I(1)", "levels: unit root; differences: stationary"
+    return "inconclusive", "levels: unit root; differences: not clearly stationary"
+
+
+def _differenced_panel(panel: Panel, column: str) -> Panel:
+    wide = panel.wide(column)
+    diff = wide.diff()
+    diff.loc[:, :] = np.where(wide.notna() & wide.shift(1).notna(), diff, np.nan)
+    long = diff.stack(future_stack=True).rename(column).reset_index()
+    long.columns = ["time", "unit", column]
+    return load_panel(long[["unit", "time", column]], unit="unit", time="time")
+
+
+def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None, *,
+                 tests: tuple[str, ...] | None = None, trend: Trend = "c",
+                 lags: int | str = "aic", max_lags: int | None = None, alpha: float = 0.05,
+                 differences: bool = True) -> RootBatteryResult:
+    """Run unit-root and stationarity tests on levels and first differences, and decide.
+
+    Parameters
+    ----------
+    data : Panel, pandas.Series or 1-D array
+        A series, or a panel (with ``column``): each unit is tested, and panel tests are run
+        on the whole column.
+    tests : tuple of str, optional
+        From ``SERIES_TESTS`` ("adf", "pp", "kpss", "dfgls", "za", "ls") and, for a panel,
+        ``PANEL_TESTS`` ("ips", "llc", "fisher", "breitung", "hadri", "cips"). Default
+        ("adf", "kpss") for a series, ("adf", "kpss", "ips", "cips") for a panel.
+    trend : {"n", "c", "ct"}
+        Deterministic terms in levels (KPSS, DF-GLS, IPS and Hadri use "c" for "n").
+    lags, max_lags
+        Lag choice of the ADF-type tests.
+    alpha : float
+        Level of every decision.
+    differences : bool
+        Also test first differences (needed to call a series I(1)).
+
+    Returns
+    -------
+    RootBatteryResult
+        See the module docstring for the decision rule.
+    """
+    trend = check_trend(trend)
+    alpha = check_alpha(alpha)
+    is_panel = isinstance(data, Panel)
+    if is_panel:
+        if column is None:
+            raise SpecError("column= is needed with a Panel (the variable to test).")
+        data.require(column)
+    chosen = tuple(tests) if tests is not None else (DEFAULT_PANEL if is_panel else DEFAULT_SERIES)
+    allowed = SERIES_TESTS + (PANEL_TESTS if is_panel else ())
+    chosen = tuple(check_choice("tests", t, allowed) for t in chosen)
+    if not chosen:
+        raise SpecError("tests=() is empty; name at least one test, e.g. ('adf', 'kpss').")
+    diff_trend = "n" if trend == "n" else "c"
+    rows: list[dict[str, Any]] = []
+    skipped: list[dict[str, str]] = []
+    if is_panel:
+        units = [(u, data.series(u, column).rename(f"{u}: {column}")) for u in data.units]
+    else:
+        y = data if isinstance(data, pd.Series) else pd.Series(np.asarray(data, dtype=float))
+        units = [(str(y.name) if y.name is not None else "series", y)]
+    for unit, y in units:
+        for series, values, tr in (("level", y, trend), ("difference", y.diff(), diff_trend)):
+            if series == "difference" and not differences:
+                continue
+            for test in (t for t in chosen if t in SERIES_TESTS):
+                try:
+                    rows.append(_row(unit, series, test, _series_test(test, values, tr, lags,
+                                                                       max_lags), alpha))
+                except DataError as exc:
+                    skipped.append({"unit": unit, "series": series, "test": test, "reason": str(exc)})
+    if is_panel and any(t in PANEL_TESTS for t in chosen):
+        dpanel: Panel | EvidenceError | None = None
+        if differences:
+            try:
+                dpanel = _differenced_panel(data, column)
+            except EvidenceError as exc:
+                dpanel = exc
+        for series, pan, tr in (("level", data, trend), ("difference", dpanel, diff_trend)):
+            if pan is None:
+                continue
+            for test in (t for t in chosen if t in PANEL_TESTS):
+                try:
+                    if isinstance(pan, EvidenceError):
+                        raise pan
+                    rows.append(_row(PANEL_ROW, series, test,
+                                     _panel_test(test, pan, column, tr, lags, max_lags), alpha))
+                except EvidenceError as exc:
+                    rows.append({"unit": PANEL_ROW, "series": series, "test": test,
+                                 "statistic": math.nan, "pvalue": math.nan, "cv": math.nan,
+                                 "lags": "", "reject": None, "note": f"not run: {exc}"})
+    table = pd.DataFrame(rows, columns=["unit", "series", "test", "statistic", "pvalue", "cv",
+                                        "lags", "reject", "note"])
+    decisions = []
+    for unit in dict.fromkeys([u for u, _ in units] + list(table["unit"])):
+        sub = table[table["unit"] == unit].to_dict("records")
+        label, reason = _decide(sub, differences) if sub else ("inconclusive", "no test could run")
+        decisions.append({"unit": unit, "decision": label, "reason": reason})
+    skipped_frame = pd.DataFrame(skipped, columns=["unit", "series", "test", "reason"])
+    warn = []
+    if len(skipped_frame):
+        warn.append(f"{len(skipped_frame)} test(s) skipped for bad data; see 'skipped'.")
+    return RootBatteryResult(table=table, decisions=pd.DataFrame(decisions, columns=["unit", "decision", "reason"]),
+                             skipped=skipped_frame, column=column, tests=chosen, trend=trend,
+                             alpha=alpha, differences=differences, warnings=tuple(warn),
+                             details={"difference_trend": diff_trend, "lags": lags,
+                                      "max_lags": max_lags})
