@@ -8,11 +8,13 @@ from evidence.convergence import (
     ClubResult,
     GammaResult,
     SigmaResult,
+    StochasticResult,
     beta_convergence,
     club_convergence,
     gamma_convergence,
     log_t_test,
     sigma_convergence,
+    stochastic_convergence,
 )
 from evidence.decomposition import LMDIResult, kaya, lmdi
 from evidence.demo import demo_panel, demo_truth, run_demo
@@ -100,6 +102,7 @@ __all__ = [
     "RootBatteryResult",
     "SigmaResult",
     "SpecError",
+    "StochasticResult",
     "TestResult",
     "beta_convergence",
     "budget_rate",
@@ -123,6 +126,7 @@ __all__ = [
     "run_demo",
     "run_study",
     "sigma_convergence",
+    "stochastic_convergence",
     "slope_homogeneity_test",
     "tapio_class",
     "test_table",

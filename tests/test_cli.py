@@ -150,3 +150,11 @@ def test_elasticity_command(demo_csv, capsys):
     assert main(["elasticity", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
                  "--estimator", "ols"]) == 2
     assert "estimator='ols'" in capsys.readouterr().err
+
+
+def test_converge_command(demo_csv, capsys):
+    assert main(["converge", str(demo_csv), "--column", "ghg_territorial", "--population",
+                 "population"]) == 0
+    out = capsys.readouterr().out
+    assert "Phillips-Sul clubs" in out and "Stochastic convergence" in out and "Beta" in out
+    assert main(["converge", str(demo_csv), "--column", "ghg_territorial", "--method", "cubs"]) == 2

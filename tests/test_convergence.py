@@ -236,3 +236,40 @@ def test_club_errors():
     small = _frame_from(_ps_panel(3, (1.0,))).assign(y=0.5)
     with pytest.raises(DataError, match="not positive"):
         log_t_test(ev.load_panel(small), "y", smoothing=None)
+
+
+# ------------------------------------------------------------------------------ stochastic
+def _relative_frame(seed: int, rho: float, n: int = 8, t: int = 60) -> pd.DataFrame:
+    rng = np.random.default_rng(seed)
+    common = np.cumsum(rng.normal(0, 0.02, t))  # a shared stochastic trend (cancels in relatives)
+    rows = []
+    for i in range(n):
+        r = np.zeros(t)
+        for k in range(1, t):
+            r[k] = rho * r[k - 1] + rng.normal(0, 0.05)
+        for k in range(t):
+            rows.append({"unit": f"u{i}", "year": 1960 + k, "y": math.exp(2 + common[k] + r[k])})
+    return pd.DataFrame(rows)
+
+
+def test_relative_series_by_hand():
+    from evidence.convergence import relative_series
+
+    frame = _relative_frame(0, 0.5)
+    work = relative_series(ev.load_panel(frame), "y")
+    wide = frame.pivot(index="year", columns="unit", values="y")
+    expected = np.log(wide.div(wide.mean(axis=1), axis=0))
+    got = work.wide("relative_y")
+    assert_allclose(got.to_numpy(), expected.to_numpy(), rtol=1e-12)
+
+
+def test_stochastic_convergence_verdicts():
+    from evidence.convergence import stochastic_convergence
+
+    stationary = stochastic_convergence(ev.load_panel(_relative_frame(1, 0.3)), "y",
+                                        panel_tests=("ips",))
+    walk = stochastic_convergence(ev.load_panel(_relative_frame(2, 1.0)), "y", panel_tests=("ips",))
+    conv = (stationary.table["verdict"] == "converging").mean()
+    not_conv = (walk.table["verdict"] == "not converging").mean()
+    assert conv >= 0.6 and not_conv >= 0.6
+    assert stationary.table.set_index("unit").loc["(panel)", "verdict"] == "converging"

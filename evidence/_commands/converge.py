@@ -58,10 +58,10 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
         parts.append(test_table([gamma.test], fmt, title="Gamma convergence (rank concordance)",
                                 notes=[f"Kendall index, last vs first year: "
                                        f"{gamma.path.iloc[-1]:.4f}"]))
-    if "stochastic" in chosen and hasattr(ev, "stochastic_convergence"):
+    if "stochastic" in chosen:
         stoch = ev.stochastic_convergence(panel, column, window=window)
-        parts.append(render_frame(stoch.table, fmt, title="Stochastic convergence by unit",
-                                  digits=3))
+        parts.append(render_frame(stoch.table, fmt, title="Stochastic convergence by unit "
+                                  "(log relative to the cross-section mean)", index=False))
     if "clubs" in chosen:
         clubs = ev.club_convergence(panel, column, window=window)
         members = clubs.membership().reset_index()

@@ -211,6 +211,11 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
             results["sigma_convergence"] = sigma.to_dict()
             fragments.append(writer.table("sigma_convergence", lambda f: test_table(
                 [sigma.trend_test, *sigma.first_last_tests], f, title="Sigma convergence")))
+        if "stochastic" in chosen:
+            stoch = ev.stochastic_convergence(work, column, window=spec.window)
+            results["stochastic_convergence"] = stoch.to_dict()
+            fragments.append(writer.table("stochastic_convergence", lambda f: render_frame(
+                stoch.table, f, index=False, title=f"Stochastic convergence of {column}")))
         if "clubs" in chosen:
             clubs = ev.club_convergence(work, column, window=spec.window)
             results["clubs"] = clubs.to_dict()
