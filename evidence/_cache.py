@@ -3,7 +3,9 @@
 Entries are NumPy ``.npz`` files read with ``allow_pickle=False``, named by a hash of the
 parameters that produced them (JSON, sorted keys) and written atomically. The folder is
 ``$EVIDENCE_CACHE_DIR`` or ``$XDG_CACHE_HOME/evidence`` (default ``~/.cache/evidence``); set
-``EVIDENCE_CACHE_DIR=off`` to disable caching.
+``EVIDENCE_CACHE_DIR=off`` to disable caching. Entries that ship with the package (in
+``evidence/_nulls/``, made by ``python -m evidence._make_nulls``) are read when the cache has none,
+so the common null distributions need no simulation on a new machine.
 """
 
 from __future__ import annotations
@@ -36,12 +38,18 @@ def cache_key(name: str, params: Mapping[str, Any]) -> str:
     return f"{name}-{hashlib.sha256(text.encode()).hexdigest()[:20]}"
 
 
+SHIPPED = Path(__file__).resolve().parent / "_nulls"
+
+
 def load_cached(name: str, params: Mapping[str, Any]) -> dict[str, np.ndarray] | None:
-    """The arrays stored for ``(name, params)``, or ``None`` if absent or unreadable."""
+    """The arrays stored for ``(name, params)`` (user cache, then shipped), or ``None``."""
     folder = cache_dir()
     if folder is None:
         return None
-    path = folder / f"{cache_key(name, params)}.npz"
+    key = f"{cache_key(name, params)}.npz"
+    path = folder / key
+    if not path.exists():
+        path = SHIPPED / key
     if not path.exists():
         return None
     try:

@@ -1,0 +1,89 @@
+"""``evidence breaks``: screen every unit of a panel column for structural breaks."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+import pandas as pd
+
+import evidence.breaks as eb
+from evidence._cautions import CAUTION
+from evidence._commands._common import data_options, emit, format_options, load, progress_bar
+from evidence.breaks.result import CONVENTION
+from evidence.tables import render_frame
+
+__all__ = ["command"]
+
+
+def _years(values: tuple) -> str:
+    return ", ".join(str(v) for v in values)
+
+
+def _intervals(lower: tuple, upper: tuple) -> str:
+    return "; ".join(f"{lo}-{hi}" for lo, hi in zip(lower, upper))
+
+
+@click.command("breaks")
+@data_options
+@click.option("--column", required=True, help="Column to screen (e.g. an emission intensity).")
+@click.option("--per", "per", default=None,
+              help="Divide the column by this one first (e.g. --per gdp for an intensity).")
+@click.option("--log", "take_log", is_flag=True, help="Take the natural log (after --per).")
+@click.option("--model", type=click.Choice(["trend", "level"], case_sensitive=False), default="trend",
+              show_default=True, help="Intercept and slope per regime, or a mean per regime.")
+@click.option("--max-breaks", type=int, default=5, show_default=True, help="Largest number of breaks.")
+@click.option("--trim", type=float, default=0.15, show_default=True,
+              help="Minimum regime length as a fraction of the years.")
+@click.option("--select", type=click.Choice(["bic", "lwz"], case_sensitive=False), default="bic",
+              show_default=True, help="Criterion choosing the number of breaks.")
+@click.option("--adjust", type=click.Choice(["bh", "holm"], case_sensitive=False), default="bh",
+              show_default=True, help="Multiple-testing adjustment across units.")
+@click.option("--backend", type=click.Choice(["serial", "processes", "dask"], case_sensitive=False),
+              default="serial", show_default=True, help="Where the units are computed.")
+@click.option("--jobs", type=int, default=None, help="Workers for processes/dask.")
+@click.option("--scheduler", default=None, help="Dask scheduler address (tcp://host:8786).")
+@format_options
+def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
+            per: str | None, take_log: bool, model: str, max_breaks: int, trim: float, select: str,
+            adjust: str, backend: str, jobs: int | None, scheduler: str | None, fmt: str,
+            output: Path | None) -> None:
+    """Break years of COLUMN for every unit (Bai-Perron), with intervals and adjusted p-values."""
+    panel = load(data, unit_col, time_col, layout)
+    name = column
+    if per:
+        name = f"{column}/{per}"
+        panel = panel.with_intensity(column, per, name=name)
+    if take_log:
+        panel = panel.with_log(name, name=f"log({name})")
+        name = f"log({name})"
+    bar = progress_bar("screening")
+    try:
+        result = eb.screen_breaks(panel, name, model=model.lower(), max_breaks=max_breaks, trim=trim,
+                                  select=select.lower(), adjust=adjust.lower(), backend=backend.lower(),
+                                  jobs=jobs, scheduler=scheduler,
+                                  progress=bar.update if bar else None)
+    finally:
+        if bar:
+            bar.close()
+    tab = result.table
+    frame = pd.DataFrame({
+        "unit": tab.index, "years": [f"{a}-{b}" for a, b in zip(tab["first_year"], tab["last_year"])],
+        "breaks": tab["n_breaks"].to_numpy(),
+        "break years": [_years(v) for v in tab["break_years"]],
+        "95% intervals": [_intervals(lo, hi) for lo, hi in zip(tab["lower"], tab["upper"])],
+        "supF p": tab["pvalue"].to_numpy(), "adjusted p": tab["pvalue_adjusted"].to_numpy()})
+    notes = [CONVENTION,
+             f"{model.lower()} model, trim {trim}, up to {max_breaks} breaks, number chosen by "
+             f"{select.upper()}. supF p: UDmax test of no break against 1 to {max_breaks} breaks, "
+             f"p-value from the simulated limiting distribution; adjusted p: "
+             f"{'Benjamini-Hochberg' if adjust.lower() == 'bh' else 'Holm'} across units.",
+             f"Break clustering across units: {result.clustering.statistic:.0f} units within "
+             f"+-1 year, permutation p = {result.clustering.pvalue:.4f}.",
+             f"Units skipped: {len(result.audit)}" + (" (see the audit below)." if len(result.audit) else "."),
+             *result.details.get("warnings", []), CAUTION]
+    text = render_frame(frame, fmt.lower(), title=f"Structural breaks in {name}", notes=notes,
+                        index=False)
+    if len(result.audit) and fmt.lower() not in ("csv", "json"):
+        text += "\n" + render_frame(result.audit, fmt.lower(), title="Skipped units", index=False)
+    emit(text, output)

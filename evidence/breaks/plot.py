@@ -1,0 +1,35 @@
+"""Figure of a :class:`BreakResult`: the series, the fitted regimes and the break-date intervals."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+__all__ = ["plot_breaks"]
+
+
+def plot_breaks(result: Any, *, path: str | Path | None = None):  # noqa: ANN201
+    """Plot the series, fitted regimes and interval bands; save a PNG when ``path`` is given."""
+    import matplotlib
+
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    fig, ax = plt.subplots(figsize=(6.4, 3.6), dpi=100)
+    ax.plot(result.data.index, result.data.to_numpy(), ".", color="0.35", label=result.series)
+    bounds = [int(result.data.index[0]) - 1, *result.break_years, int(result.data.index[-1])]
+    for start, end in zip(bounds[:-1], bounds[1:]):
+        part = result.fitted.loc[start + 1:end]
+        ax.plot(part.index, part.to_numpy(), "-", color="C0", linewidth=1.6)
+    for row in result.intervals.itertuples(index=False):
+        ax.axvspan(row.lower + 0.5, row.upper + 0.5, color="C1", alpha=0.18, linewidth=0)
+        ax.axvline(row.break_year + 0.5, color="C1", linestyle="--", linewidth=0.9)
+    conf = int(round((1 - result.alpha) * 100))
+    ax.set_title(f"{result.series}: {result.n_breaks} break(s), {conf}% intervals shaded")
+    ax.set_xlabel("year (dashed line: after the break year, the last year of the old regime)",
+                  fontsize=8)
+    fig.tight_layout()
+    if path is not None:
+        fig.savefig(path, metadata={"Software": None})
+    plt.close(fig)
+    return fig
