@@ -14,6 +14,24 @@ from evidence.breaks import (
     ols_cusum_test,
     screen_breaks,
 )
+from evidence.cointegration import (
+    JohansenResult,
+    KaoResult,
+    PedroniResult,
+    TestGroupResult,
+    WesterlundResult,
+    ardl_bounds_test,
+    cointegrating_regression,
+    dumitrescu_hurlin_test,
+    engle_granger_test,
+    hausman_test,
+    johansen_test,
+    kao_test,
+    long_run,
+    pedroni_test,
+    phillips_ouliaris_test,
+    westerlund_test,
+)
 from evidence.convergence import (
     BetaResult,
     ClubResult,
@@ -78,6 +96,22 @@ from evidence.study import run_study  # noqa: E402  (the runner uses the names a
 __version__ = "0.1.0"
 
 __all__ = [
+    "JohansenResult",
+    "KaoResult",
+    "PedroniResult",
+    "TestGroupResult",
+    "WesterlundResult",
+    "ardl_bounds_test",
+    "cointegrating_regression",
+    "dumitrescu_hurlin_test",
+    "engle_granger_test",
+    "hausman_test",
+    "johansen_test",
+    "kao_test",
+    "long_run",
+    "pedroni_test",
+    "phillips_ouliaris_test",
+    "westerlund_test",
     "adf_test",
     "bias_corrected_lm_test",
     "breitung_test",
