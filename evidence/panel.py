@@ -151,20 +151,20 @@ class Panel:
         """Add ``log_<column>``; a zero or negative value raises naming unit and year."""
         self.require(column)
         values = self._frame[column]
-        _check_positive(values, column, self.time_name)
+        check_positive(values, column, self.time_name)
         return self._with(name or f"log_{column}", np.log(values))
 
     def with_per_capita(self, column: str, population: str, *, name: str | None = None) -> Panel:
         """Add ``<column>_per_capita`` = column / population (population must be positive)."""
         self.require(column, population)
-        _check_positive(self._frame[population], population, self.time_name, purpose="a divisor")
+        check_positive(self._frame[population], population, self.time_name, purpose="a divisor")
         return self._with(name or f"{column}_per_capita",
                           self._frame[column] / self._frame[population])
 
     def with_intensity(self, pressure: str, activity: str, *, name: str | None = None) -> Panel:
         """Add ``<pressure>_per_<activity>``, the intensity pressure / activity."""
         self.require(pressure, activity)
-        _check_positive(self._frame[activity], activity, self.time_name, purpose="a divisor")
+        check_positive(self._frame[activity], activity, self.time_name, purpose="a divisor")
         return self._with(name or f"{pressure}_per_{activity}",
                           self._frame[pressure] / self._frame[activity])
 
@@ -178,7 +178,7 @@ class Panel:
         kind = check_choice("kind", kind, ("log", "percent"))
         values = self._frame[column]
         if kind == "log":
-            _check_positive(values, column, self.time_name)
+            check_positive(values, column, self.time_name)
         previous = values.groupby(level=0).shift(1)
         times = pd.Series(self._frame.index.get_level_values(1), index=self._frame.index)
         consecutive = (times - times.groupby(level=0).shift(1)) == 1
@@ -240,7 +240,7 @@ class Panel:
         return Panel(frame.copy(), audit=self._audit, meta=self._meta)
 
 
-def _check_positive(values: pd.Series, column: str, time_name: str, *, purpose: str = "a log") -> None:
+def check_positive(values: pd.Series, column: str, time_name: str, *, purpose: str = "a log") -> None:
     bad = values <= 0
     if bad.any():
         unit, year = bad[bad].index[0]

@@ -11,7 +11,7 @@ import pandas as pd
 from evidence._typing import Window
 from evidence._validation import check_window, format_years
 from evidence.errors import DataError
-from evidence.panel import Panel
+from evidence.panel import Panel, check_positive
 
 __all__ = ["Design", "build_design", "unit_blocks"]
 
@@ -53,13 +53,7 @@ def build_design(panel: Panel, pressure: str, activity: str, *, controls: Sequen
     frame = panel.frame[[pressure, activity, *controls]]
     if log:
         for column in (pressure, activity):
-            values = frame[column]
-            bad = values <= 0
-            if bad.any():
-                unit, year = bad[bad].index[0]
-                raise DataError(f"column '{column}' is {values.loc[(unit, year)]:g} at unit "
-                                f"'{unit}', year {year}; the log needs positive values. Fix or "
-                                "remove the cell, or mark it missing.")
+            check_positive(frame[column], column, panel.time_name)
         frame = frame.assign(**{pressure: np.log(frame[pressure]),
                                 activity: np.log(frame[activity])})
     frame = frame.rename(columns={pressure: _log_name(pressure, log),

@@ -9,6 +9,7 @@ per unit). Prints both timings, the ratio, and checks the numbers agree. Not in 
 from __future__ import annotations
 
 import sys
+from pathlib import Path
 import time
 
 import numpy as np
@@ -17,14 +18,9 @@ import statsmodels.api as sm
 from evidence.cointegration._residual_math import static_residuals
 from evidence.cointegration.causality import unit_wald
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _timing import best_of  # noqa: E402
 
-def _best_of(func, repeat: int = 3) -> float:
-    best = float("inf")
-    for _ in range(repeat):
-        start = time.perf_counter()
-        func()
-        best = min(best, time.perf_counter() - start)
-    return best
 
 
 def main(n_units: int = 500, n_years: int = 40) -> None:
@@ -41,7 +37,7 @@ def main(n_units: int = 500, n_years: int = 40) -> None:
         return np.array(out)
 
     assert np.allclose(unit_wald(y, x, lags), wald_reference(), rtol=1e-8)
-    ours, ref = _best_of(lambda: unit_wald(y, x, lags)), _best_of(wald_reference)
+    ours, ref = best_of(lambda: unit_wald(y, x, lags)), best_of(wald_reference)
     print(f"Dumitrescu-Hurlin unit Wald, N={n_units}, T={n_years}: ours {ours * 1e3:.1f} ms, "
           f"statsmodels loop {ref * 1e3:.1f} ms, ratio {ref / ours:.1f}x")
 
@@ -51,7 +47,7 @@ def main(n_units: int = 500, n_years: int = 40) -> None:
         return np.array([sm.OLS(yl[i], sm.add_constant(xl[i])).fit().resid for i in range(n_units)])
 
     assert np.allclose(static_residuals(yl, xl, "c")[0], resid_reference(), atol=1e-8)
-    ours, ref = _best_of(lambda: static_residuals(yl, xl, "c")), _best_of(resid_reference)
+    ours, ref = best_of(lambda: static_residuals(yl, xl, "c")), best_of(resid_reference)
     print(f"Pedroni first-stage residuals, N={n_units}, T={n_years}: ours {ours * 1e3:.1f} ms, "
           f"statsmodels loop {ref * 1e3:.1f} ms, ratio {ref / ours:.1f}x")
 

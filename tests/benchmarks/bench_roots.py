@@ -7,6 +7,9 @@ part of the default test run.
 
 from __future__ import annotations
 
+import sys
+from pathlib import Path
+
 import time
 
 import numpy as np
@@ -19,14 +22,9 @@ from evidence.roots._lm_breaks import break_grid, lm_statistics
 from evidence.roots._panel_math import adf_tstats
 from evidence.roots.dependence import pesaran_cd_test
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _timing import best_of  # noqa: E402
 
-def _best_of(func, repeat: int = 3) -> float:
-    best = float("inf")
-    for _ in range(repeat):
-        start = time.perf_counter()
-        func()
-        best = min(best, time.perf_counter() - start)
-    return best
 
 
 def _report(name: str, ref_name: str, t_ref: float, t_ours: float) -> None:
@@ -42,7 +40,7 @@ def bench_adf(n: int = 2000, t: int = 34) -> None:
     ours = lambda: adf_tstats(y, "c", 2)  # noqa: E731
     np.testing.assert_allclose(ours(), ref(), rtol=1e-9)
     _report(f"ADF t-statistics, {n} series x {t} years, 2 lags", "arch ADF loop",
-            _best_of(ref, 1), _best_of(ours))
+            best_of(ref, 1), best_of(ours))
 
 
 def bench_cadf(n: int = 200, t: int = 34) -> None:
@@ -60,7 +58,7 @@ def bench_cadf(n: int = 200, t: int = 34) -> None:
     ours = lambda: cadf_tstats(y, "c", 1)  # noqa: E731
     np.testing.assert_allclose(ours(), ref(), rtol=1e-9)
     _report(f"CADF t-statistics, {n} units x {t} years, 1 lag", "statsmodels OLS loop",
-            _best_of(ref, 1), _best_of(ours))
+            best_of(ref, 1), best_of(ours))
 
 
 def bench_cd(n: int = 100, t: int = 34) -> None:
@@ -80,7 +78,7 @@ def bench_cd(n: int = 100, t: int = 34) -> None:
     ours = lambda: pesaran_cd_test(resid).statistic  # noqa: E731
     np.testing.assert_allclose(ours(), ref(), rtol=1e-9)
     _report(f"Pesaran CD, {n} units x {t} years, unbalanced", "numpy loop over pairs",
-            _best_of(ref, 1), _best_of(ours))
+            best_of(ref, 1), best_of(ours))
 
 
 def bench_lee_strazicich(t: int = 60) -> None:
@@ -104,7 +102,7 @@ def bench_lee_strazicich(t: int = 60) -> None:
     ours = lambda: lm_statistics(y, dates, "level", 1)[0]  # noqa: E731
     np.testing.assert_allclose(ours(), ref(), rtol=1e-8)
     _report(f"Lee-Strazicich grid, two breaks, T={t} ({len(dates)} date pairs, 1 lag)",
-            "statsmodels OLS loop", _best_of(ref, 1), _best_of(ours))
+            "statsmodels OLS loop", best_of(ref, 1), best_of(ours))
 
 
 if __name__ == "__main__":

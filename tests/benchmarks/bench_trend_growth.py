@@ -7,6 +7,7 @@ also checks that the numbers agree. Not part of the default test run.
 from __future__ import annotations
 
 import sys
+from pathlib import Path
 import time
 
 import numpy as np
@@ -14,14 +15,9 @@ import statsmodels.api as sm
 
 from evidence.indicators import newey_west_lags, trend_growth_batch
 
+sys.path.insert(0, str(Path(__file__).resolve().parent))
+from _timing import best_of  # noqa: E402
 
-def _best_of(func, repeat: int = 3) -> float:
-    best = float("inf")
-    for _ in range(repeat):
-        start = time.perf_counter()
-        func()
-        best = min(best, time.perf_counter() - start)
-    return best
 
 
 def main(n_series: int = 2000, n_years: int = 34) -> None:
@@ -39,7 +35,7 @@ def main(n_series: int = 2000, n_years: int = 34) -> None:
         return trend_growth_batch(y, years, hac_lags=lags)[1]
 
     np.testing.assert_allclose(ours(), reference(), rtol=1e-8)
-    t_ref, t_ours = _best_of(reference, 1), _best_of(ours, 5)
+    t_ref, t_ours = best_of(reference, 1), best_of(ours, 5)
     print(f"trend growth + Newey-West s.e., {n_series} series x {n_years} years")
     print(f"  statsmodels OLS loop : {t_ref * 1e3:9.1f} ms")
     print(f"  evidence batch       : {t_ours * 1e3:9.1f} ms")
