@@ -11,7 +11,7 @@ from scipy import stats
 from evidence.indicators import trend_growth_batch
 
 __all__ = ["trend_tests", "decline_runs", "subwindow_shares", "without_years", "hp_trend_slopes",
-           "change_interval", "mean_change_test"]
+           "change_interval", "bootstrap_change_interval"]
 
 
 def trend_tests(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray,
@@ -88,37 +88,27 @@ def subwindow_shares(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray, *,
     return (held / total if total else math.nan), matrix
 
 
-def mean_change_test(changes: np.ndarray) -> float:
-    """One-sided p-value of H0: mean annual change >= 0 (Newey–West standard error of the mean)."""
-    n = changes.size
-    e = changes - changes.mean()
-    lags = min(max(int(4 * (n / 100.0) ** (2.0 / 9.0)), 1), n - 1)
-    var = e @ e / n
-    for lag in range(1, lags + 1):
-        var += 2.0 * (1.0 - lag / (lags + 1.0)) * (e[lag:] @ e[:-lag]) / n
-    se = np.sqrt(var / n)
-    if se == 0:
-        return 0.0 if changes.mean() < 0 else 1.0
-    return float(stats.t.cdf(changes.mean() / se, n - 1))
-
-
 def without_years(log_p: np.ndarray, log_a: np.ndarray, drop: np.ndarray, *,
-                  claim: str, alpha: float) -> bool | None:
-    """Whether the claim holds on the annual changes of the years not in ``drop``.
+                  claim: str) -> tuple[bool | None, float]:
+    """Whether the decline survives leaving out the annual changes of the years in ``drop``.
 
     The changes of the dropped years (e.g. recession years, in which activity fell) are left out
     and the mean annual change of the pressure (absolute claim; activity must still grow on
-    average) or of the intensity (relative claim) is tested below zero. Working on changes, not
-    levels, removes the steps that recessions leave in the level. ``None``: fewer than 5 years
-    left.
+    average) or of the intensity (relative claim) over the other years must stay negative.
+    Working on changes, not levels, removes the steps that recessions leave in the level; the
+    comparison is of point estimates (a decline made only of recession years fails it), so it
+    does not depend on the power of a test on fewer years. Returns the verdict (``None`` with
+    fewer than 5 years left) and the mean change over the years kept.
     """
     keep = ~drop[1:]
     if keep.sum() < 5:
-        return None
+        return None, float("nan")
     d_p, d_a = np.diff(log_p)[keep], np.diff(log_a)[keep]
     if claim == "absolute":
-        return mean_change_test(d_p) < alpha and d_a.mean() > 0
-    return mean_change_test(d_p - d_a) < alpha
+        mean = float(d_p.mean())
+        return bool(mean < 0 and d_a.mean() > 0), mean
+    mean = float((d_p - d_a).mean())
+    return bool(mean < 0), mean
 
 
 def bootstrap_change_interval(log_p: np.ndarray, years: np.ndarray, alpha: float, *, reps: int,

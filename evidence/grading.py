@@ -152,8 +152,9 @@ def _unit_axes(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray, crit: Cr
     rec["subwindow_share"], rec["subwindow_matrix"] = share, matrix
     recession = np.concatenate([[False], np.diff(log_a) < 0])
     rec["recession_years"] = [int(y) for y in years[recession]]
-    rec["survives_recession"] = (axes.without_years(log_p, log_a, recession, claim=claim,
-                                                    alpha=crit.alpha) if recession.any() else True)
+    survives, kept_mean = (axes.without_years(log_p, log_a, recession, claim=claim)
+                           if recession.any() else (True, float(np.mean(np.diff(log_p)))))
+    rec["survives_recession"], rec["mean_change_without_recessions"] = survives, kept_mean
     trend_p, trend_a = axes.hp_trend_slopes(log_p, log_a, crit.smoothing)
     smooth = axes.trend_tests(trend_p, trend_a, years)
     rec["survives_filter"] = bool(smooth["pressure_trend"] < 0 < smooth["activity_trend"]) \
