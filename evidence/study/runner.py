@@ -12,7 +12,7 @@ import json
 import platform
 import time
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime, timezone
 from importlib import metadata
 from pathlib import Path
@@ -167,7 +167,8 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         for p in pressures:
             fits = [ev.elasticity(panel, p, spec.activity, estimator=e, window=spec.window)
                     for e in analyses["elasticity"]]
-            tests = [t for fit in fits for t in ev.decoupling_tests(fit)]
+            tests = [replace(t, test=f"({i}) {t.test}") for i, fit in enumerate(fits, start=1)
+                     for t in ev.decoupling_tests(fit)]
             results.setdefault("elasticity", {})[p] = [f.to_dict() for f in fits]
             fragments.append(writer.table(f"elasticity_{p}", lambda f, fs=fits, pp=p: regression_table(
                 fs, f, title=f"Elasticity of {pp} with respect to {spec.activity}", notes=notes)))
@@ -177,18 +178,22 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
 
     def do_roots() -> Section:
         fragments = []
+        base = panel.window(spec.window) if spec.window else panel
         for column in [*pressures, spec.activity]:
-            work = panel.with_log(column)
+            work = base.with_log(column)
             res = ev.root_battery(work, f"log_{column}", tests=tuple(analyses["roots"]))
             results.setdefault("roots", {})[column] = res.to_dict()
             fragments.append(writer.table(f"roots_{column}", lambda f, r=res: render_frame(
-                r.to_frame(), f, title=f"Unit-root battery, log {column}", index=False)))
+                r.to_frame() if f in ("csv", "json") else r.decision_table(), f,
+                title=f"Unit-root battery, log {column} (p-values; decision at 5 %)",
+                index=False, notes=notes)))
         return Section("Unit roots", tuple(fragments))
 
     def do_dependence() -> Section:
         tests = []
+        base = panel.window(spec.window) if spec.window else panel
         for column in pressures:
-            tests.append(ev.pesaran_cd_test(panel.with_log(column), f"log_{column}"))
+            tests.append(ev.pesaran_cd_test(base.with_log(column), f"log_{column}"))
         results["dependence"] = [t.to_dict() for t in tests]
         return Section("Cross-sectional dependence", (writer.table(
             "dependence", lambda f: test_table(tests, f, title="Pesaran CD test")),))
