@@ -131,3 +131,17 @@ def test_demo_study_runs(tmp_path):
     for unit, info in truth.items():  # planted by the generator
         if info["type"] == "relative":
             assert table.loc[unit, "rung"] == "relative"
+
+
+def test_word_tables(tmp_path):
+    docx = pytest.importorskip("docx")
+    _panel_csv(tmp_path)
+    (tmp_path / "study.toml").write_text(MINIMAL + '\n[output]\nformats = ["docx"]\nfigures = false\n'
+                                         '[analyses]\nelasticity = ["fe"]\nconvergence = []\n'
+                                         'decomposition = false\n')
+    run_study(tmp_path / "study.toml", tmp_path / "out")
+    document = docx.Document(str(tmp_path / "out" / "tables" / "grade.docx"))
+    table = document.tables[0]
+    assert table.cell(0, 0).text == "unit" and table.cell(1, 0).text == "Alda"
+    html = (tmp_path / "out" / "report.html").read_text()
+    assert "Decoupling grade" in html

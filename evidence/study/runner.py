@@ -24,6 +24,7 @@ from evidence.errors import DataError, EvidenceError
 from evidence.study import figures as figs
 from evidence.study.report import Section, render_report
 from evidence.study.spec import StudySpec, read_spec
+from evidence.tables._docx import html_to_docx
 from evidence.tables import (audit_table, grade_table, rates_table, regression_table,
                              render_frame, test_table)
 
@@ -31,7 +32,7 @@ __all__ = ["StudyResult", "run_study"]
 
 _DEPENDENCIES = ("numpy", "scipy", "pandas", "statsmodels", "linearmodels", "arch", "matplotlib")
 _EXT = {"text": "txt", "markdown": "md", "latex": "tex", "html": "html", "csv": "csv",
-        "json": "json"}
+        "json": "json", "docx": "docx"}
 
 
 @dataclass(frozen=True)
@@ -53,7 +54,10 @@ class _Writer:
     def table(self, name: str, render: Callable[[str], str]) -> str:
         for fmt in self.formats:
             path = self.folder / "tables" / f"{name}.{_EXT[fmt]}"
-            path.write_text(render(fmt), encoding="utf-8")
+            if fmt == "docx":
+                html_to_docx(render("html"), path)
+            else:
+                path.write_text(render(fmt), encoding="utf-8")
             self.files.append(path)
         return render("html")
 

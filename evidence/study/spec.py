@@ -36,7 +36,7 @@ SCHEMA: dict[str, dict[str, tuple[Any, bool]]] = {
                  "decomposition": (bool, False)},
     "output": {"formats": (list, False), "figures": (bool, False), "seed": (int, False)},
 }
-TABLE_FORMATS = ("text", "markdown", "latex", "html", "csv", "json")
+TABLE_FORMATS = ("text", "markdown", "latex", "html", "csv", "json", "docx")
 
 
 @dataclass(frozen=True)
