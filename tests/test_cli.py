@@ -158,3 +158,18 @@ def test_converge_command(demo_csv, capsys):
     out = capsys.readouterr().out
     assert "Phillips-Sul clubs" in out and "Stochastic convergence" in out and "Beta" in out
     assert main(["converge", str(demo_csv), "--column", "ghg_territorial", "--method", "cubs"]) == 2
+
+
+def test_grade_and_decompose_commands(demo_csv, capsys):
+    assert main(["grade", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
+                 "--consumption", "ghg_territorial=ghg_consumption", "--window", "1995:2023",
+                 "--required-rate", "0.05", "--no-breaks"]) == 0
+    out = capsys.readouterr().out
+    assert "Decoupling grade" in out and "basis-gap" in out
+    assert main(["decompose", str(demo_csv), "--emissions", "ghg_territorial", "--population",
+                 "population", "--activity", "gdp", "--energy", "energy", "--window", "2000:2020",
+                 "--format", "csv"]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    assert lines[0].startswith("region,start,end,change,population,affluence") and "total" in lines[-1]
+    assert main(["grade", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
+                 "--consumption", "ghg_consumption"]) == 2

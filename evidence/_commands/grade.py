@@ -1,0 +1,50 @@
+"""``evidence grade``: the four-axis grade of decoupling evidence for every unit."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import click
+
+import evidence as ev
+from evidence._commands._common import data_options, emit, format_options, load
+from evidence.tables import grade_table
+
+__all__ = ["command"]
+
+
+def _pairs(text: str | None) -> dict[str, str]:
+    out = {}
+    for part in (text or "").split(","):
+        if part.strip():
+            if "=" not in part:
+                raise ev.SpecError(f"--consumption {part.strip()!r} must be TERRITORIAL=CONSUMPTION.")
+            key, value = part.split("=", 1)
+            out[key.strip()] = value.strip()
+    return out
+
+
+@click.command("grade")
+@data_options
+@click.option("--pressure", required=True, help="Pressure column(s), comma-separated.")
+@click.option("--activity", required=True, help="Activity column (real GDP).")
+@click.option("--consumption", default=None,
+              help="Consumption-basis twins: TERRITORIAL=CONSUMPTION[,...].")
+@click.option("--window", default=None, help="Years START:END, inclusive.")
+@click.option("--required-rate", type=float, default=None,
+              help="Required annual decline, e.g. 0.05 (a normative choice).")
+@click.option("--adjust", type=click.Choice(["bh", "holm", "none"], case_sensitive=False),
+              default="bh", show_default=True, help="Multiple-testing adjustment across units.")
+@click.option("--no-breaks", is_flag=True, help="Skip the break search (faster on large panels).")
+@format_options
+def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, pressure: str,
+            activity: str, consumption: str | None, window: str | None,
+            required_rate: float | None, adjust: str, no_breaks: bool, fmt: str,
+            output: Path | None) -> None:
+    """Grade the evidence of decoupling: direction, duration, robustness, sufficiency."""
+    panel = load(data, unit_col, time_col, layout)
+    pressures = [p.strip() for p in pressure.split(",") if p.strip()]
+    criteria = ev.Criteria(required_rate=required_rate, adjust=adjust.lower())
+    result = ev.grade(panel, pressures, activity, window=window, criteria=criteria,
+                      consumption=_pairs(consumption), breaks=not no_breaks)
+    emit(grade_table(result, fmt.lower()), output)
