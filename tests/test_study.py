@@ -51,7 +51,7 @@ def test_minimal_spec_defaults(tmp_path):
     ("[window]\nstart = 2000\n", "needs the key 'end'"),
     ("[criteria]\nalpah = 0.1\n", "unknown key [criteria] alpah (line"),
     ("[criteria]\nalpha = \"five\"\n", "must be a float"),
-    ("[output]\nformats = [\"docx\"]\n", "'docx' is not a table format"),
+    ("[output]\nformats = [\"pdf\"]\n", "'pdf' is not a table format"),
     ("[breaks]\nmax_breaks = true\n", "must be a int"),
 ])
 def test_malformed_specs(extra, fragment):
