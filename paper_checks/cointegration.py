@@ -4,8 +4,8 @@ Run: ``python paper_checks/cointegration.py``. Three parts:
 
 1. The adjustment terms shipped in ``evidence/cointegration/_pedroni_tables.py`` against Pedroni
    (1999), OBES 61(S1), Table 2, and the moments in ``_westerlund_tables.py`` against Westerlund
-   (2007), OBES 69(6), Table 1 (values as collected in shared/reference_values.md sections 6.1 and
-   6.2, transcribed from the xtpedroni and xtwest programmes).
+   (2007), OBES 69(6), Table 1 (as tabulated in published implementations; see the modules'
+   docstrings).
 2. Pedroni's means reproduced by simulating the package's unstandardised statistics (N = 50,
    T = 500, no kernel correction, 200 draws, seed 2026): a check of our formulas, not of the table.
 3. Westerlund's means reproduced the same way (N = 20, T = 500, no lags, 200 draws).

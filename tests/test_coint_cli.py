@@ -1,4 +1,8 @@
-"""``evidence coint`` end to end on the demo panel: one report, formats, one-line errors."""
+"""``evidence coint`` end to end on the demo panel: one report, formats, one-line errors.
+
+Behaviour checks only: the statistics themselves are checked against published values and
+reference libraries in the other ``test_coint_*`` files.
+"""
 
 from __future__ import annotations
 

@@ -1,4 +1,7 @@
-"""The built wheel carries the demo data, so the demo works after a non-editable install."""
+"""The built wheel carries the demo data, so the demo works after a non-editable install.
+
+Behaviour checks only (no statistic is computed here).
+"""
 
 from __future__ import annotations
 

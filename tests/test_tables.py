@@ -1,4 +1,8 @@
-"""Table rendering: escaping of data-derived text, reproducible bytes, every format."""
+"""Table rendering: escaping of data-derived text, reproducible bytes, every format.
+
+Behaviour checks only: tables format numbers they are given and compute none; the values in the
+tables are checked where they are computed.
+"""
 
 from __future__ import annotations
 

@@ -4,11 +4,9 @@ Provenance
 ----------
 Bai, J. & Perron, P. (1998), Econometrica 66(1), 47–78, Tables I–II, and the extended tables of
 Bai, J. & Perron, P. (2003), "Critical values for multiple structural change tests", Econometrics
-Journal 6(1), 72–78 (paper and table attribution from memory). The numbers were read from the
-data tables that accompany the authors' published code as distributed in a general structural-break
-library (files ``supF/cv_{1,2,3}.csv``, ``Dmax/cv_{1,2,3}.csv``, ``supF_next/cv_{1,2,3}.csv``, trimming
-0.05, 0.10, 0.15) and collected, with that provenance, in the project's shared reference-values
-file, section 1.2; this module was generated from that file by a script, not typed by hand.
+Journal 6(1), 72–78 (paper and table attribution from memory), as distributed in the data tables
+that accompany the authors' published code (trimming 0.05, 0.10, 0.15); not re-read from the
+printed papers.
 
 Keys are ``(trim, q, level)``: trimming fraction, number of regressors whose coefficients change,
 and significance level (0.10, 0.05, 0.025, 0.01). ``SUPF`` values are indexed by k = 1, 2, ...

@@ -2,14 +2,13 @@
 
 Provenance: Pedroni, P. (1999). Critical values for cointegration tests in heterogeneous panels
 with multiple regressors. Oxford Bulletin of Economics and Statistics 61(S1), 653–670, Table 2
-(the table number is from memory). The numbers were transcribed from the programme of the Stata
-command ``xtpedroni`` (Neal 2014, Stata Journal 14(3)), which states that it copies Pedroni's table;
-the rows for one regressor are rounded there to two decimals. Pedroni's no-deterministics case is
-not included.
+(the table number is from memory), as tabulated in a published implementation (Neal 2014, Stata
+Journal 14(3)) that copies Pedroni's table, where the rows for one regressor are rounded to two
+decimals; not re-read from the printed paper. Pedroni's no-deterministics case is not included.
 
 ``MOMENTS[trend][m]`` holds, for ``m`` regressors (1 to 7), the asymptotic mean ``mu`` and variance
 ``v`` of each statistic, in the order of ``STATISTICS``. The panel ADF statistic uses the panel PP
-terms and the group ADF statistic the group PP terms (as in Pedroni 1999 and ``xtpedroni``).
+terms and the group ADF statistic the group PP terms (as in Pedroni 1999).
 Standardised statistic: ``(X_NT - mu sqrt(N)) / sqrt(v)``.
 """
 

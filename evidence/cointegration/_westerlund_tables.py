@@ -2,8 +2,8 @@
 
 Provenance: Westerlund, J. (2007). Testing for error correction in panel data. Oxford Bulletin of
 Economics and Statistics 69(6), 709–748, Table 1 (simulated moments; table number from memory).
-Transcribed from the programme of the Stata command ``xtwest`` (Persyn & Westerlund 2008, Stata
-Journal 8(2), 232–241), routine ``DisplayWesterlund``, which carries the paper's matrices.
+The values are those of the paper's matrices as carried by the author's own published implementation
+(Persyn & Westerlund 2008, Stata Journal 8(2), 232–241); not re-read from the printed paper.
 
 ``MOMENTS[statistic][trend]`` is a pair ``(means, variances)`` with one entry for each number of
 regressors K = 1..6. Trend keys: ``"n"`` no deterministics, ``"c"`` constant, ``"ct"`` constant and

@@ -2,10 +2,9 @@
 
 Provenance: Pesaran, M. H. (2007). A simple panel unit root test in the presence of cross-section
 dependence. J. Applied Econometrics 22(2), 265–312, Table II(a)–(c) (untruncated CIPS) and the
-corresponding values for the truncated CIPS* (differing only for T = 10 and 15). The numbers were
-read from two independent implementations that agree value for value (R plm ``critvals.cips`` and
-the Stata ``xtcips`` ado), collected in the project's ``reference_values.md`` section 4 and turned
-into this module programmatically. Table numbering from memory.
+corresponding values for the truncated CIPS* (differing only for T = 10 and 15), as tabulated in
+two independent, widely used econometrics programs that agree value for value (not re-read from
+the printed paper; table numbering from memory).
 
 Layout: ``CIPS_CV[(trend, truncated, level)]`` is a tuple of rows, one per T in ``CIPS_T``, each
 with one value per N in ``CIPS_N``. ``trend``: "n" (Case I), "c" (Case II), "ct" (Case III).

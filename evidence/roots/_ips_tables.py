@@ -1,9 +1,7 @@
 """Tables of Im, Pesaran & Shin (2003) and Levin, Lin & Chu (2002).
 
-Provenance: the numbers were read from the internal tables of the R package plm 2.6.2
-(``adj.ips.wtbar``, ``adj.ips.zbar.means/vars``, ``critval.ips.tbar``, ``adj.levinlin``) and collected
-with their sources in the project's ``reference_values.md`` (sections 3.1 and 3.2), from which this
-module was generated programmatically (no hand transcription).
+Provenance: the values of the papers' tables named below, as tabulated in widely used panel-data
+software (not re-read from the printed papers; table numbers from memory).
 
 * ``IPS_MEAN`` / ``IPS_VAR``: means and variances of the individual ADF t-statistic t_iT(p) by lag
   order p = 0..8 (rows) and T (columns ``IPS_T``), for "c" (intercept) and "ct" (intercept and
