@@ -94,6 +94,11 @@ class LMDIResult:
                           "window": list(self.window), "details": self.details})
 
 
+def _ratio(end: float, start: float) -> float:
+    """``end / start``; NaN when the start is zero (the additive effects still apply)."""
+    return float(end) / float(start) if start != 0 else float("nan")
+
+
 def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
          window: Window | str | None = None) -> LMDIResult:
     """LMDI-I decomposition of the change in ``pressure`` between the window's end years.
@@ -102,7 +107,7 @@ def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
     to a relative 1e-6; the error names the unit and year otherwise). Each unit is decomposed on
     its own, and the sum over units with the units as sub-categories (row ``"total"``).
     """
-    factors = tuple(factors)
+    factors = (factors,) if isinstance(factors, str) else tuple(factors)
     if len(factors) < 2:
         raise SpecError("factors= needs at least two columns whose product is the pressure.")
     panel.require(pressure, *factors)
@@ -131,12 +136,13 @@ def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
         units.append(unit)
         add, mul = lmdi_effects(starts[-1][:, None], ends[-1][:, None])
         rows_add.append([first[pressure], last[pressure], last[pressure] - first[pressure], *add])
-        rows_mul.append([first[pressure], last[pressure], last[pressure] / first[pressure], *mul])
+        rows_mul.append([first[pressure], last[pressure], _ratio(last[pressure], first[pressure]),
+                         *mul])
     add_total, mul_total = lmdi_effects(np.column_stack(starts), np.column_stack(ends))
     v0 = sum(r[0] for r in rows_add)
     vt = sum(r[1] for r in rows_add)
     rows_add.append([v0, vt, vt - v0, *add_total])
-    rows_mul.append([v0, vt, vt / v0, *mul_total])
+    rows_mul.append([v0, vt, _ratio(vt, v0), *mul_total])
     index = pd.Index([*units, "total"], name=panel.unit_name)
     add = pd.DataFrame(rows_add, index=index, columns=["start", "end", "change", *factors])
     mul = pd.DataFrame(rows_mul, index=index, columns=["start", "end", "ratio", *factors])

@@ -51,10 +51,6 @@ def demo_truth() -> dict[str, Any]:
     return json.loads(_resource("truth.json").read_text(encoding="utf-8"))
 
 
-def _slug(text: str) -> str:
-    return re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower() or "unit"
-
-
 def demo_study_text() -> str:
     """The shipped study file of the demo (TOML)."""
     return _resource("demo_study.toml").read_text(encoding="utf-8")

@@ -51,7 +51,6 @@ class Criteria:
     episode_years: int = 5
     sustained_years: int = 10
     min_window: int = 10
-    robust_share: float = 0.8
     short_window: int = 30
     smoothing: float = 6.25
     max_breaks: int = 2
@@ -160,6 +159,9 @@ def _unit_axes(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray, crit: Cr
     rec["survives_filter"] = bool(smooth["pressure_trend"] < 0 < smooth["activity_trend"]) \
         if claim == "absolute" else bool(smooth["intensity_trend"] < 0)
     rec["smoothed_run"] = axes.decline_runs(trend_p, trend_a, years)["longest_run"]
+    run = max(rec["longest_run"], rec["smoothed_run"])
+    rec["duration"] = ("sustained" if run >= crit.sustained_years else
+                       "episode" if run >= crit.episode_years else "none")
     rec.update(_latest_break(log_p, years, crit) if with_breaks else
                {"latest_break": None, "latest_regime_slope": math.nan})
     change, low, high = axes.change_interval(rec["pressure_trend"], rec["pressure_trend_se"],
@@ -188,7 +190,7 @@ def _rung(rec: dict[str, Any], crit: Criteria) -> tuple[str, list[str]]:
         rung = "absolute-significant"
         declining = (rec["latest_regime_slope"] < 0) if not math.isnan(rec["latest_regime_slope"]) \
             else rec["pressure_trend"] < 0
-        if max(rec["longest_run"], rec["smoothed_run"]) >= crit.sustained_years and declining:
+        if rec["duration"] == "sustained" and declining:
             rung = "absolute-sustained"
             if rec["sufficiency"] == "sufficient":
                 rung = "target-consistent"
@@ -250,7 +252,7 @@ def grade(panel: Panel, pressures: Sequence[str], activity: str, *,
     Sufficiency: the observed annual change with its interval against the required change.
     """
     crit = criteria or Criteria()
-    pressures = list(pressures)
+    pressures = [pressures] if isinstance(pressures, str) else list(pressures)
     check_columns([*pressures, activity], list(panel.columns))
     if consumption:
         check_columns(list(consumption) + list(consumption.values()), list(panel.columns))
@@ -332,6 +334,7 @@ def _row(rec: dict[str, Any], start: int, end: int) -> dict[str, Any]:
             "p_absolute": rec["p_absolute"], "p_absolute_adj": rec["p_absolute_adj"],
             "p_relative": rec["p_relative"], "p_relative_adj": rec["p_relative_adj"],
             "longest_run": rec["longest_run"], "smoothed_run": rec["smoothed_run"],
+            "duration": rec["duration"],
             "latest_break": rec["latest_break"], "latest_regime_slope": rec["latest_regime_slope"],
             "subwindow_share": rec["subwindow_share"],
             "survives_recession": rec["survives_recession"],

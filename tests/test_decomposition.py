@@ -61,3 +61,16 @@ def test_factors_must_multiply_to_pressure():
     ok = frame.assign(e=frame.a * frame.b)
     res = lmdi(ev.load_panel(ok), "e", ["a", "b"])
     assert res.additive.loc["A", "b"] == pytest.approx(0.0)
+
+
+def test_zero_start_gives_nan_ratio_without_warning():
+    import warnings
+
+    frame = pd.DataFrame({"unit": ["A", "A", "B", "B"], "year": [2000, 2001, 2000, 2001],
+                          "e": [0.0, 6.0, 10.0, 12.0], "a": [0.0, 2.0, 2.0, 3.0],
+                          "b": [3.0, 3.0, 5.0, 4.0]})
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        res = lmdi(ev.load_panel(frame), "e", ["a", "b"])
+    assert np.isnan(res.multiplicative.loc["A", "ratio"])
+    assert res.additive.loc["total", "change"] == pytest.approx(8.0)

@@ -228,3 +228,13 @@ def test_residuals_are_returned(grunfeld, tmp_path):
     path = time_varying_elasticity(grunfeld, "invest", "value", width=8, log=False)
     path.plot(tmp_path / "path.png")
     assert (tmp_path / "path.png").stat().st_size > 1000
+
+
+def test_regression_table_lists_what_was_left_out(grunfeld):
+    frame = grunfeld.frame.reset_index()
+    frame.loc[0, "capital"] = np.nan
+    est = elasticity(ev.load_panel(frame, unit="firm"), "invest", "value", controls="capital",
+                     log=False)
+    assert est.params.index.tolist() == ["value", "capital"]
+    assert "(1) left out: American" not in ev.regression_table([est])
+    assert "(1) left out: Atlantic Refining 1935 missing value" in ev.regression_table([est])

@@ -151,3 +151,12 @@ def test_bootstrap_interval_equals_arch():
     assert row["observed_change_lower"] == pytest.approx(ref[0, 0])
     assert row["observed_change_upper"] == pytest.approx(ref[1, 0])
     assert row["observed_change_lower"] < row["observed_change"] < row["observed_change_upper"]
+
+
+def test_string_pressure_and_exclusions_listed_in_table():
+    frame = _frame(_known_units())
+    frame.loc[(frame.unit == "coupled") & (frame.year == 2000), "ghg"] = np.nan
+    res = grade(ev.load_panel(frame), "ghg", "gdp", breaks=False)
+    assert set(res.table["unit"]) == {"sustained", "relative", "recession_only"}
+    assert "duration" in res.table and res.table.set_index("unit").loc["sustained", "duration"] == "sustained"
+    assert "Excluded: coupled / ghg (no value in 2000)" in grade_table(res)

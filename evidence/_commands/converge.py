@@ -17,6 +17,10 @@ __all__ = ["command"]
 METHODS = ("beta", "sigma", "gamma", "stochastic", "clubs")
 
 
+def _excluded(frame: pd.DataFrame) -> list[str]:
+    return [f"Excluded: {r.unit} ({r.reason})." for r in frame.itertuples()]
+
+
 @click.command("converge")
 @data_options
 @click.option("--column", required=True, help="Column to test (e.g. emissions).")
@@ -46,18 +50,19 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
                                       notes=[f"Speed of convergence {beta.speed:.4f} a year "
                                              f"(s.e. {beta.speed_se:.4f}); half-life "
                                              f"{beta.half_life:.1f} years."]))
-        parts.append(test_table([beta.test], fmt, title="Beta convergence test"))
+        parts.append(test_table([beta.test], fmt, title="Beta convergence test",
+                                notes=_excluded(beta.details["excluded"])))
     if "sigma" in chosen:
         sigma = ev.sigma_convergence(panel, column, window=window)
         parts.append(render_frame(sigma.path.to_frame(), fmt, title=f"Dispersion of log {column}",
                                   digits=4))
         parts.append(test_table([sigma.trend_test, *sigma.first_last_tests], fmt,
-                                title="Sigma convergence tests"))
+                                title="Sigma convergence tests", notes=_excluded(sigma.excluded)))
     if "gamma" in chosen:
         gamma = ev.gamma_convergence(panel, column, window=window)
         parts.append(test_table([gamma.test], fmt, title="Gamma convergence (rank concordance)",
                                 notes=[f"Kendall index, last vs first year: "
-                                       f"{gamma.path.iloc[-1]:.4f}"]))
+                                       f"{gamma.path.iloc[-1]:.4f}", *_excluded(gamma.excluded)]))
     if "stochastic" in chosen:
         stoch = ev.stochastic_convergence(panel, column, window=window)
         parts.append(render_frame(stoch.table, fmt, title="Stochastic convergence by unit "

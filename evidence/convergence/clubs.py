@@ -23,7 +23,7 @@ from evidence._json import json_safe
 from evidence._typing import Window
 from evidence._validation import check_window
 from evidence.errors import DataError, SpecError
-from evidence.indicators import newey_west_lags
+from evidence.indicators import trend_growth_batch
 from evidence.panel import Panel
 from evidence.results import TestResult
 
@@ -45,8 +45,8 @@ def log_t_statistic(x: np.ndarray, *, trim: float = 0.3) -> tuple[float, float, 
 
     ``h_it = x_it / mean_i x_it``, ``H_t = mean_i (h_it − 1)²``; OLS of
     ``ln(H_1/H_t) − 2 ln(ln t)`` on a constant and ``ln t`` for ``t = max([rT], 2), ..., T``;
-    Newey–West (Bartlett) standard error with ``floor(4 (n/100)^(2/9))`` lags. Returns
-    ``(t_b, b, n)``.
+    Newey–West (Bartlett) standard error with ``floor(4 (n/100)^(2/9))`` lags and the factor
+    ``n/(n − 2)`` (:func:`evidence.indicators.trend_growth_batch`). Returns ``(t_b, b, n)``.
     """
     n_years = x.shape[0]
     h = x / x.mean(axis=1, keepdims=True)
@@ -54,17 +54,8 @@ def log_t_statistic(x: np.ndarray, *, trim: float = 0.3) -> tuple[float, float, 
     first = max(int(math.floor(trim * n_years)), 2)
     t = np.arange(first, n_years + 1, dtype=float)
     y = np.log(big_h[0] / big_h[first - 1:]) - 2.0 * np.log(np.log(t))
-    z = np.log(t)
-    n = t.size
-    zc = z - z.mean()
-    b = float(zc @ y / (zc @ zc))
-    e = (y - y.mean()) - zc * b
-    v = zc * e
-    s = float(v @ v)
-    lags = newey_west_lags(n)
-    for lag in range(1, min(lags, n - 1) + 1):
-        s += 2.0 * (1.0 - lag / (lags + 1.0)) * float(v[lag:] @ v[:-lag])
-    se = math.sqrt(s / (zc @ zc) ** 2 * n / (n - 2))
+    slope, se, _ = trend_growth_batch(y[:, None], np.log(t))
+    b, se, n = float(slope[0]), float(se[0]), t.size
     return b / se, b, n
 
 

@@ -44,7 +44,7 @@ def build_design(panel: Panel, pressure: str, activity: str, *, controls: Sequen
     years). A unit left with fewer than ``min_obs`` rows (default: regressors + 2) raises a
     :class:`DataError` naming it, unless ``drop_short=True`` excludes it (listed in ``excluded``).
     """
-    controls = tuple(controls)
+    controls = (controls,) if isinstance(controls, str) else tuple(controls)
     panel.require(pressure, activity, *controls)
     if len(set((pressure, activity) + controls)) != 2 + len(controls):
         raise DataError("pressure, activity and controls must be different columns.")

@@ -50,6 +50,7 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "holds; the claim without recession years and on filtered trends; the consumption basis.",
         "Sufficiency: observed annual change of the pressure with its interval against the "
         "required change (a normative choice, stated in the criteria).",
+        *[f"Excluded: {r.unit} / {r.pressure} ({r.reason})." for r in result.excluded.itertuples()],
         CAUTION,
     ]
     if fmt.lower() in ("csv", "json"):
@@ -61,6 +62,7 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "p abs (adj)": [format_pvalue(p) for p in t["p_absolute_adj"]],
         "p rel (adj)": [format_pvalue(p) for p in t["p_relative_adj"]],
         "run": [f"{a}/{b}" for a, b in zip(t["longest_run"], t["smoothed_run"])],
+        "duration": t["duration"],
         "latest break": [_break_label(result, u, pr) for u, pr in zip(t["unit"], t["pressure"])],
         "sub-windows": [f"{100 * s:.0f}%" for s in t["subwindow_share"]],
         "w/o recessions": [_yes(v) for v in t["survives_recession"]],

@@ -43,6 +43,19 @@ def _tidy(estimates: Sequence[Estimate]) -> pd.DataFrame:
     return pd.concat(frames, ignore_index=True)
 
 
+def _exclusions(estimates: Sequence[Estimate]) -> list[str]:
+    """Notes listing what each estimate left out (rows, units), so no table hides an exclusion."""
+    out = []
+    for i, est in enumerate(estimates, start=1):
+        for key in ("excluded", "skipped_units"):
+            frame = est.details.get(key)
+            if isinstance(frame, pd.DataFrame) and not frame.empty:
+                items = "; ".join(" ".join(str(v) for v in row if str(v)) for row in
+                                  frame.itertuples(index=False))
+                out.append(f"({i}) left out: {items}.")
+    return out
+
+
 def regression_table(estimates: Sequence[Estimate], fmt: str = "text", *, stat: str = "se",
                      title: str = "", notes: Sequence[str] = (), digits: int = 3) -> str:
     """Estimates side by side: coefficient with stars, and beneath it the s.e., t or p-value.
@@ -56,7 +69,7 @@ def regression_table(estimates: Sequence[Estimate], fmt: str = "text", *, stat: 
     stat = check_choice("stat", stat, ("se", "t", "p"))
     label = {"se": "standard errors", "t": "t statistics", "p": "p-values"}[stat]
     all_notes = [f"{label.capitalize()} in parentheses. *** p<0.01, ** p<0.05, * p<0.10.",
-                 *notes, CAUTION]
+                 *notes, *_exclusions(estimates), CAUTION]
     if fmt.lower() in ("csv", "json"):
         return render_frame(_tidy(estimates), fmt, title=title, notes=all_notes, index=False)
     terms: list[str] = []
