@@ -26,7 +26,6 @@ through the executor and cached on disk (``evidence._cache``), so any backend gi
 
 from __future__ import annotations
 
-from typing import Any
 
 import numpy as np
 

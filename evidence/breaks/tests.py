@@ -34,6 +34,7 @@ import numpy as np
 
 from evidence.breaks import _bp_tables
 from evidence.breaks.segment import segment_bounds
+from evidence.indicators import newey_west_lags
 
 __all__ = ["supf_homoskedastic", "break_covariance", "wald_equal_regimes", "split_segments",
            "table_critical_values", "simulated_critical_values", "tail_pvalue", "wdmax_weights",
@@ -44,7 +45,7 @@ LEVELS = (0.10, 0.05, 0.01)
 
 def hac_lags_default(nobs: int) -> int:
     """Newey–West rule of thumb ``floor(4 (T/100)^(2/9))`` (common practice)."""
-    return int(math.floor(4 * (nobs / 100.0) ** (2.0 / 9.0)))
+    return newey_west_lags(nobs)
 
 
 def supf_homoskedastic(ssr: np.ndarray, nobs: int, q: int, p: int) -> np.ndarray:

@@ -21,6 +21,7 @@ import pandas as pd
 from evidence._validation import check_choice, format_years
 from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
+from evidence.indicators import newey_west_lags
 
 __all__ = [
     "TRENDS",
@@ -199,7 +200,7 @@ def batch_ols(y: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.
 
 def bartlett_bandwidth(nobs: int) -> int:
     """Newey–West (1994) rule ``floor(4 (T/100)^(2/9))``."""
-    return math.floor(4.0 * (nobs / 100.0) ** (2.0 / 9.0))
+    return newey_west_lags(nobs)
 
 
 def default_max_lags(nobs: int) -> int:

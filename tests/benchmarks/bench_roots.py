@@ -10,7 +10,6 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-import time
 
 import numpy as np
 import pandas as pd

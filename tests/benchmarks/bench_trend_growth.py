@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import sys
 from pathlib import Path
-import time
 
 import numpy as np
 import statsmodels.api as sm
