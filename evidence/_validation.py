@@ -3,13 +3,18 @@
 from __future__ import annotations
 
 import difflib
+import math
 from collections.abc import Iterable, Sequence
 from typing import Any
 
+import numpy as np
+
+from evidence._typing import ADJUSTMENTS, DEFAULT_SEED, LAG_RULES, TRENDS
 from evidence.errors import DataError, SpecError
 
-__all__ = ["suggest", "check_choice", "check_columns", "check_window", "check_positive_int",
-           "format_years"]
+__all__ = ["suggest", "check_choice", "check_columns", "check_window", "check_int", "check_number",
+           "check_alpha", "check_trend", "check_lags", "check_max_lags", "check_seed",
+           "adjust_pvalues", "format_years"]
 
 
 def suggest(name: str, candidates: Iterable[str]) -> str:
@@ -33,7 +38,8 @@ def check_choice(parameter: str, value: Any, allowed: Sequence[str]) -> str:
             if option.lower() == value.strip().lower():
                 return option
     options = ", ".join(repr(a) for a in sorted(allowed))
-    raise SpecError(f"{parameter}={value!r} is not an option; use one of {options}.")
+    hint = suggest(value, allowed) if isinstance(value, str) else ""
+    raise SpecError(f"{parameter}={value!r} is not an option;{hint} use one of {options}.")
 
 
 def check_columns(columns: Sequence[str], available: Sequence[str], *, what: str = "column") -> None:
@@ -64,11 +70,120 @@ def check_window(window: Any, years: Sequence[int]) -> tuple[int, int]:
     return start, end
 
 
-def check_positive_int(parameter: str, value: Any, *, minimum: int = 1) -> int:
-    """Validate an integer option that must be at least ``minimum``."""
-    if isinstance(value, bool) or not isinstance(value, (int,)) or value < minimum:
-        raise SpecError(f"{parameter}={value!r} must be an integer of at least {minimum}.")
+def check_int(parameter: str, value: Any, *, minimum: int | None = None,
+              maximum: int | None = None, allow_none: bool = False) -> int | None:
+    """An integer option within ``[minimum, maximum]`` (``None`` passes when ``allow_none``).
+
+    Examples
+    --------
+    >>> check_int("max_breaks", 3, minimum=1)
+    3
+    """
+    if value is None and allow_none:
+        return None
+    ok = not isinstance(value, bool) and isinstance(value, (int, np.integer))
+    if ok and minimum is not None and value < minimum:
+        ok = False
+    if ok and maximum is not None and value > maximum:
+        ok = False
+    if not ok:
+        bounds = _bounds(minimum, maximum)
+        extra = " or None" if allow_none else ""
+        raise SpecError(f"{parameter}={value!r} must be an integer{bounds}{extra}.")
     return int(value)
+
+
+def check_number(parameter: str, value: Any, *, low: float | None = None, high: float | None = None,
+                 inclusive: bool = True, hint: str = "") -> float:
+    """A finite real option within ``[low, high]`` (open interval when ``inclusive=False``)."""
+    ok = not isinstance(value, bool) and isinstance(value, (int, float, np.integer, np.floating))
+    if ok:
+        number = float(value)
+        ok = math.isfinite(number)
+        if ok and low is not None:
+            ok = number >= low if inclusive else number > low
+        if ok and high is not None:
+            ok = number <= high if inclusive else number < high
+    if not ok:
+        where = ""
+        if low is not None and high is not None:
+            where = (f" between {low:g} and {high:g}" + ("" if inclusive else " (exclusive)"))
+        elif low is not None:
+            where = f" {'at least' if inclusive else 'above'} {low:g}"
+        elif high is not None:
+            where = f" {'at most' if inclusive else 'below'} {high:g}"
+        raise SpecError(f"{parameter}={value!r} must be a number{where}{hint}.")
+    return float(value)
+
+
+def check_alpha(alpha: Any, parameter: str = "alpha") -> float:
+    """A significance level strictly between 0 and 1."""
+    return check_number(parameter, alpha, low=0.0, high=1.0, inclusive=False, hint=", e.g. 0.05")
+
+
+def check_trend(trend: Any, allowed: Sequence[str] = TRENDS) -> str:
+    """Deterministic terms: one of ``"none"``, ``"constant"``, ``"trend"`` (or a subset)."""
+    return check_choice("trend", trend, tuple(allowed))
+
+
+def check_lags(lags: Any, *, parameter: str = "lags", rules: Sequence[str] = LAG_RULES) -> int | str:
+    """A lag order: a non-negative integer, or one of the selection ``rules``."""
+    if isinstance(lags, str):
+        return check_choice(parameter, lags, tuple(rules))
+    if isinstance(lags, bool) or not isinstance(lags, (int, np.integer)) or lags < 0:
+        choices = " or one of " + ", ".join(repr(m) for m in sorted(rules)) if rules else ""
+        raise SpecError(f"{parameter}={lags!r} must be a non-negative integer{choices}.")
+    return int(lags)
+
+
+def check_max_lags(max_lags: Any, parameter: str = "max_lags") -> int | None:
+    """The largest lag searched: a non-negative integer, or ``None`` for the package's rule."""
+    return check_int(parameter, max_lags, minimum=0, allow_none=True)
+
+
+def check_seed(seed: Any) -> int | np.random.Generator:
+    """A seed: a non-negative integer or a ``numpy.random.Generator``; ``None`` means the default.
+
+    ``None`` is the package's :data:`~evidence._typing.DEFAULT_SEED`, so results reproduce.
+    """
+    if seed is None:
+        return DEFAULT_SEED
+    if isinstance(seed, np.random.Generator):
+        return seed
+    return check_int("seed", seed, minimum=0)  # type: ignore[return-value]
+
+
+def adjust_pvalues(pvalues: Any, method: str) -> np.ndarray:
+    """Multiple-testing adjustment of a vector of p-values; NaN entries stay NaN and are not counted.
+
+    ``method`` is ``"bh"`` (Benjamini & Hochberg 1995 false discovery rate), ``"holm"`` (Holm 1979)
+    or ``"none"``. Computed by ``statsmodels.stats.multitest.multipletests``.
+
+    Examples
+    --------
+    >>> adjust_pvalues([0.01, 0.04, float("nan")], "holm").round(3).tolist()
+    [0.02, 0.04, nan]
+    """
+    from statsmodels.stats.multitest import multipletests
+
+    method = check_choice("adjust", method, ADJUSTMENTS)
+    p = np.asarray(pvalues, dtype=float)
+    out = p.copy()
+    finite = np.isfinite(p)
+    if method == "none" or not finite.any():
+        return out
+    out[finite] = multipletests(p[finite], method="fdr_bh" if method == "bh" else "holm")[1]
+    return out
+
+
+def _bounds(minimum: int | None, maximum: int | None) -> str:
+    if minimum is not None and maximum is not None:
+        return f" between {minimum} and {maximum}"
+    if minimum is not None:
+        return f" of at least {minimum}"
+    if maximum is not None:
+        return f" of at most {maximum}"
+    return ""
 
 
 def format_years(years: Iterable[int]) -> str:

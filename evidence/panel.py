@@ -14,14 +14,30 @@ import numpy as np
 import pandas as pd
 
 from evidence import _loading
+from evidence._arrays import PanelArrays, panel_arrays
 from evidence._typing import Layout, Window
 from evidence._validation import check_choice, check_columns, check_window, format_years, suggest
 from evidence.errors import DataError, SpecError
 
-__all__ = ["Panel", "load_panel", "BASES"]
+__all__ = ["Panel", "load_panel", "BASES", "derived_name"]
 
 #: Accounting bases a pressure column can carry.
 BASES = ("territorial", "consumption")
+
+
+def derived_name(kind: str, column: str, other: str | None = None) -> str:
+    """The name a derived series gets: ``log_x``, ``diff_x``, ``growth_x``, ``x_per_y``, ``x_per_capita``.
+
+    Examples
+    --------
+    >>> derived_name("log", "gdp"), derived_name("per", "co2", "gdp")
+    ('log_gdp', 'co2_per_gdp')
+    """
+    if kind == "per":
+        return f"{column}_per_{other}"
+    if kind == "per_capita":
+        return f"{column}_per_capita"
+    return f"{kind}_{column}"
 
 
 class Panel:
@@ -146,26 +162,78 @@ class Panel:
         mask = self._frame.index.get_level_values(0).isin(chosen)
         return self._replace(self._frame.loc[mask])
 
+    def arrays(self, columns: str | Sequence[str], *, window: Window | str | None = None,
+               span: str = "common", gaps: str = "raise", short: str = "raise",
+               constant: str = "raise", min_years: int = 2, require_units: int = 1,
+               purpose: str = "this method") -> PanelArrays:
+        """Columns as one array ``values[t, i, j]`` with years, units and what was left out.
+
+        The package's one adapter from a panel to arrays (see ``evidence._arrays``).
+
+        Parameters
+        ----------
+        columns : str or list of str
+            Columns, in the order of the last axis.
+        window : (start, end), optional
+            Only these years (inclusive).
+        span : {"common", "own"}
+            ``common``: the years every kept unit covers; ``own``: each unit's span, NaN outside.
+        gaps : {"raise", "exclude", "longest"}
+            A missing year or cell inside a unit's span raises naming the unit and year, excludes
+            the unit, or keeps the unit's longest complete run.
+        short, constant : {"raise", "exclude"}
+            A unit with fewer than ``min_years`` complete years, or a constant column.
+        require_units : int
+            Fewest units that must remain.
+
+        Returns
+        -------
+        PanelArrays
+            ``values`` ``(T, N, k)``, ``years``, ``units``, ``columns`` and ``excluded`` (unit,
+            column, years, reason): trimmed ends, gaps, short or constant units.
+        """
+        cols = [columns] if isinstance(columns, str) else list(columns)
+        self.require(*cols)
+        source = self.window(window) if window is not None else self
+        return panel_arrays(source._frame, cols, span=span, gaps=gaps, short=short, constant=constant,
+                            min_years=min_years, purpose=purpose, time_name=self.time_name,
+                            require_units=require_units)
+
     # -------------------------------------------------------- derived series
+    def with_column(self, name: str, values: pd.Series) -> Panel:
+        """Add (or replace) a column from a Series indexed like :attr:`frame`."""
+        if not isinstance(values, pd.Series):
+            raise DataError(f"with_column('{name}') needs a pandas Series indexed by (unit, time).")
+        return self._with(name, values.reindex(self._frame.index))
+
+    def with_difference(self, column: str, *, name: str | None = None) -> Panel:
+        """Add ``diff_<column>``, the change from the previous year (NaN after a gap or first year)."""
+        self.require(column)
+        values = self._frame[column]
+        times = pd.Series(self._frame.index.get_level_values(1), index=self._frame.index)
+        consecutive = (times - times.groupby(level=0).shift(1)) == 1
+        change = values - values.groupby(level=0).shift(1)
+        return self._with(name or derived_name("diff", column), change.where(consecutive))
+
     def with_log(self, column: str, *, name: str | None = None) -> Panel:
         """Add ``log_<column>``; a zero or negative value raises naming unit and year."""
         self.require(column)
         values = self._frame[column]
         check_positive(values, column, self.time_name)
-        return self._with(name or f"log_{column}", np.log(values))
+        return self._with(name or derived_name("log", column), np.log(values))
 
     def with_per_capita(self, column: str, population: str, *, name: str | None = None) -> Panel:
         """Add ``<column>_per_capita`` = column / population (population must be positive)."""
         self.require(column, population)
         check_positive(self._frame[population], population, self.time_name, purpose="a divisor")
-        return self._with(name or f"{column}_per_capita",
+        return self._with(name or derived_name("per_capita", column),
                           self._frame[column] / self._frame[population])
 
     def with_intensity(self, pressure: str, activity: str, *, name: str | None = None) -> Panel:
         """Add ``<pressure>_per_<activity>``, the intensity pressure / activity."""
         self.require(pressure, activity)
         check_positive(self._frame[activity], activity, self.time_name, purpose="a divisor")
-        return self._with(name or f"{pressure}_per_{activity}",
+        return self._with(name or derived_name("per", pressure, activity),
                           self._frame[pressure] / self._frame[activity])
 
     def with_growth(self, column: str, *, kind: str = "log", name: str | None = None) -> Panel:
@@ -183,7 +251,7 @@ class Panel:
         times = pd.Series(self._frame.index.get_level_values(1), index=self._frame.index)
         consecutive = (times - times.groupby(level=0).shift(1)) == 1
         growth = np.log(values / previous) if kind == "log" else values / previous - 1.0
-        return self._with(name or f"growth_{column}", growth.where(consecutive))
+        return self._with(name or derived_name("growth", column), growth.where(consecutive))
 
     def with_index(self, column: str, base_year: int, *, name: str | None = None) -> Panel:
         """Add ``<column>_index<base>`` = 100 × value / value in ``base_year``, per unit."""

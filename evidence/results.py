@@ -1,17 +1,27 @@
-"""Result objects shared by every method: :class:`TestResult` for tests, :class:`Estimate` for estimators.
+"""Result objects shared by every method, and the one protocol every result class follows.
 
-Both are frozen dataclasses. They print a one-line ``repr``, a readable ``summary()``, one tidy
-table (``to_frame()``) and a JSON-safe ``to_dict()``. Tables and reports only format these objects;
-they never recompute a statistic.
+:class:`TestResult` is the outcome of one test, :class:`Estimate` of one estimator and
+:class:`TestGroupResult` a documented group of tests reported together (Pedroni's seven
+statistics, say). Every other result class of the package (``BreakResult``, ``GradeResult``...)
+is a frozen dataclass built on :class:`ResultProtocol`, which gives it the same face:
+
+* a one-line ``repr`` and ``str(result) == result.summary()``;
+* ``_repr_html_`` for notebooks (the summary, escaped);
+* ``to_dict()`` from the dataclass fields, JSON-safe; ``to_frame()`` one tidy table;
+* ``details`` frozen (read-only), ``warnings`` a tuple, and what was left out in ``excluded``, a
+  frame with the columns of :data:`EXCLUDED_COLUMNS` (unit, column, years, reason).
+
+Tables and reports only format these objects; they never recompute a statistic.
 """
 
 from __future__ import annotations
 
+import html
 import math
-from collections.abc import Mapping
-from dataclasses import dataclass, field
+from collections.abc import Iterable, Iterator, Mapping
+from dataclasses import dataclass, field, fields
 from types import MappingProxyType
-from typing import Any
+from typing import Any, ClassVar
 
 import numpy as np
 import pandas as pd
@@ -19,7 +29,24 @@ from scipy import stats
 
 from evidence._json import json_safe
 
-__all__ = ["TestResult", "Estimate", "format_pvalue", "format_number"]
+__all__ = ["ResultProtocol", "TestResult", "TestGroupResult", "Estimate", "EXCLUDED_COLUMNS",
+           "excluded_frame", "format_pvalue", "format_number"]
+
+#: The layout of every ``excluded`` table: which unit, which column, which years, and why.
+EXCLUDED_COLUMNS = ("unit", "column", "years", "reason")
+
+
+def excluded_frame(rows: Iterable[Mapping[str, Any]] | pd.DataFrame | None = None) -> pd.DataFrame:
+    """What was left out, in the one layout of :data:`EXCLUDED_COLUMNS` (missing entries are "")."""
+    if rows is None:
+        records: list[Mapping[str, Any]] = []
+    elif isinstance(rows, pd.DataFrame):
+        records = rows.to_dict(orient="records")
+    else:
+        records = list(rows)
+    frame = pd.DataFrame([{c: ("" if r.get(c) is None else str(r.get(c, ""))) for c in EXCLUDED_COLUMNS}
+                          for r in records], columns=list(EXCLUDED_COLUMNS))
+    return frame.astype(object)
 
 LEVELS = (0.01, 0.05, 0.10)
 
@@ -56,8 +83,78 @@ def _frozen_mapping(value: Mapping[Any, Any] | None) -> Mapping[Any, Any]:
     return MappingProxyType(dict(value or {}))
 
 
-@dataclass(frozen=True)
-class TestResult:
+def _short(value: Any) -> str | None:
+    """A scalar shown in a one-line repr, or None when the value is not a short scalar."""
+    if isinstance(value, bool) or value is None:
+        return None
+    if isinstance(value, (int, np.integer)):
+        return str(int(value))
+    if isinstance(value, (float, np.floating)):
+        return format_number(float(value))
+    if isinstance(value, str) and len(value) <= 40:
+        return repr(value)
+    if isinstance(value, tuple) and len(value) <= 4 and all(isinstance(v, (int, np.integer)) for v in value):
+        return repr(tuple(int(v) for v in value))
+    return None
+
+
+class ResultProtocol:
+    """The face every result class shares (mix into a frozen dataclass).
+
+    Subclasses set ``_repr_fields`` (the fields shown in the one-line repr; default: the first
+    short scalar fields) and implement ``summary()`` and, where a table is natural, ``to_frame()``.
+    ``details`` is frozen, ``warnings`` made a tuple and ``excluded`` put in the one layout when the
+    dataclass has such fields. Fields listed in ``_private_fields`` stay out of ``to_dict()``.
+    """
+
+    _repr_fields: ClassVar[tuple[str, ...]] = ()
+    _private_fields: ClassVar[tuple[str, ...]] = ()
+
+    def __post_init__(self) -> None:
+        names = {f.name for f in fields(self)}  # type: ignore[arg-type]
+        if "details" in names:
+            object.__setattr__(self, "details", _frozen_mapping(getattr(self, "details")))
+        if "warnings" in names:
+            object.__setattr__(self, "warnings", tuple(str(w) for w in getattr(self, "warnings")))
+        if "excluded" in names:
+            object.__setattr__(self, "excluded", excluded_frame(getattr(self, "excluded")))
+
+    def summary(self) -> str:
+        """A readable block of text (subclasses give their own)."""
+        return repr(self)
+
+    def __str__(self) -> str:
+        return self.summary()
+
+    def __repr__(self) -> str:
+        shown = self._repr_fields or tuple(f.name for f in fields(self))  # type: ignore[arg-type]
+        parts = []
+        for name in shown:
+            text = _short(getattr(self, name, None))
+            if text is not None:
+                parts.append(f"{name}={text}")
+            if not self._repr_fields and len(parts) == 4:
+                break
+        return f"{type(self).__name__}({', '.join(parts)})"
+
+    def _repr_html_(self) -> str:
+        return f"<pre>{html.escape(self.summary())}</pre>"
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row of the short scalar fields (subclasses with a natural table override this)."""
+        row = {f.name: getattr(self, f.name) for f in fields(self)  # type: ignore[arg-type]
+               if _short(getattr(self, f.name)) is not None or isinstance(getattr(self, f.name), bool)}
+        return pd.DataFrame([row])
+
+    def to_dict(self) -> dict[str, Any]:
+        """Every public field as JSON-safe Python objects."""
+        out = {f.name: getattr(self, f.name) for f in fields(self)  # type: ignore[arg-type]
+               if f.name not in self._private_fields and not f.name.startswith("_")}
+        return json_safe(out)
+
+
+@dataclass(frozen=True, repr=False)
+class TestResult(ResultProtocol):
     """The outcome of one hypothesis test.
 
     Attributes
@@ -165,13 +262,89 @@ class TestResult:
         })
 
 
+@dataclass(frozen=True, eq=False, repr=False)
+class TestGroupResult(ResultProtocol):
+    """Several statistics of one test reported together, each a :class:`TestResult`.
+
+    Returned by the tests whose papers define a family of statistics (Pedroni's seven, Kao's,
+    Westerlund's four, Johansen's trace and maximum eigenvalue). Iterate over it, index it by
+    position or by statistic name (``res["Gt"]``), or turn it into one row per statistic.
+
+    Attributes
+    ----------
+    test : str
+        Name of the test family.
+    results : tuple of TestResult
+        One result per statistic, in the published order.
+    details : mapping
+        Options and by-products shared by the statistics (lags, bandwidth, seed...).
+    excluded : pandas.DataFrame
+        Units and years left out (unit, column, years, reason).
+    reference, warnings
+        As for :class:`TestResult`.
+    """
+
+    __test__ = False
+
+    test: str
+    results: tuple[TestResult, ...]
+    details: Mapping[str, Any] = field(default_factory=dict)
+    excluded: pd.DataFrame = field(default_factory=excluded_frame)
+    reference: str = ""
+    warnings: tuple[str, ...] = ()
+
+    def __post_init__(self) -> None:
+        super().__post_init__()
+        object.__setattr__(self, "results", tuple(self.results))
+
+    def __iter__(self) -> Iterator[TestResult]:
+        return iter(self.results)
+
+    def __len__(self) -> int:
+        return len(self.results)
+
+    def __getitem__(self, name: str | int) -> TestResult:
+        """A statistic by position or by name (the part after the family name, e.g. ``"Gt"``)."""
+        if isinstance(name, int):
+            return self.results[name]
+        for res in self.results:
+            if res.test == name or res.test.endswith(f" {name}") or res.details.get("statistic") == name:
+                return res
+        names = ", ".join(repr(r.details.get("statistic", r.test)) for r in self.results)
+        raise KeyError(f"{name!r} is not one of {names}.")
+
+    def __repr__(self) -> str:
+        parts = ", ".join(f"{r.details.get('statistic', r.test)}={format_number(r.statistic)} "
+                          f"(p {format_pvalue(r.pvalue)})" for r in self.results)
+        return f"{type(self).__name__}({self.test!r}: {parts})"
+
+    def to_frame(self) -> pd.DataFrame:
+        """One tidy row per statistic (as :meth:`TestResult.to_frame`)."""
+        return pd.concat([r.to_frame() for r in self.results], ignore_index=True)
+
+    def summary(self) -> str:
+        """The summaries of every statistic, one after another, then what was left out."""
+        blocks = [r.summary() for r in self.results]
+        if len(self.excluded):
+            blocks.append("left out: " + "; ".join(f"{r.unit} {r.column} {r.years} ({r.reason})".replace("  ", " ")
+                                                   for r in self.excluded.itertuples()))
+        return "\n".join(blocks)
+
+    def to_dict(self) -> dict[str, Any]:
+        """All fields as JSON-safe Python objects."""
+        return json_safe({"test": self.test, "results": [r.to_dict() for r in self.results],
+                          "details": dict(self.details),
+                          "excluded": self.excluded.to_dict(orient="records"),
+                          "reference": self.reference, "warnings": list(self.warnings)})
+
+
 def _as_series(values: Any, index: pd.Index, name: str) -> pd.Series:
     series = pd.Series(np.asarray(values, dtype=float), index=index, name=name)
     return series
 
 
-@dataclass(frozen=True, eq=False)
-class Estimate:
+@dataclass(frozen=True, eq=False, repr=False)
+class Estimate(ResultProtocol):
     """Coefficients of one estimated model with their covariance.
 
     Attributes
