@@ -142,12 +142,14 @@ def check_max_lags(max_lags: Any, parameter: str = "max_lags") -> int | None:
 
 
 def check_seed(seed: Any) -> int | np.random.Generator:
-    """A seed: a non-negative integer or a ``numpy.random.Generator``; ``None`` means the default.
+    """A seed: a non-negative integer or a ``numpy.random.Generator``.
 
-    ``None`` is the package's :data:`~evidence._typing.DEFAULT_SEED`, so results reproduce.
+    ``None`` asks for fresh entropy: a new integer seed is drawn and returned, so that the result
+    can still record (and a user reproduce) the seed it used. Every public function defaults to
+    :data:`~evidence._typing.DEFAULT_SEED`, so results reproduce unless asked otherwise.
     """
     if seed is None:
-        return DEFAULT_SEED
+        return int(np.random.SeedSequence().generate_state(1, dtype=np.uint64)[0] >> np.uint64(1))
     if isinstance(seed, np.random.Generator):
         return seed
     return check_int("seed", seed, minimum=0)  # type: ignore[return-value]

@@ -51,6 +51,45 @@ class Panel:
         self._audit = audit.reset_index(drop=True)
         self._meta = dict(meta)
 
+    @classmethod
+    def from_arrays(cls, columns: Mapping[str, Any], *, units: Sequence[str] | None = None,
+                    years: Sequence[int] | None = None, unit: str = "unit",
+                    time: str = "year") -> Panel:
+        """A balanced panel from arrays of shape ``(T, N)`` (years by units), e.g. for simulations.
+
+        Units default to ``u001, u002, ...`` and years to ``1..T``. NaN marks a missing cell (and is
+        audited); non-finite values other than NaN raise.
+
+        Examples
+        --------
+        >>> import numpy as np
+        >>> Panel.from_arrays({"y": np.arange(6.0).reshape(3, 2)}).frame.shape
+        (6, 1)
+        """
+        arrays = {str(k): np.asarray(v, dtype=float) for k, v in columns.items()}
+        if not arrays:
+            raise DataError("from_arrays needs at least one column.")
+        shapes = {a.shape for a in arrays.values()}
+        if len(shapes) != 1 or len(next(iter(shapes))) != 2:
+            raise DataError(f"from_arrays needs arrays of one shape (T, N); got {sorted(shapes)}.")
+        n_years, n_units = next(iter(shapes))
+        unit_names = [f"u{i + 1:03d}" for i in range(n_units)] if units is None else [str(u) for u in units]
+        year_values = np.arange(1, n_years + 1) if years is None else np.asarray(years, dtype=np.int64)
+        if len(unit_names) != n_units or len(set(unit_names)) != n_units or year_values.size != n_years:
+            raise DataError(f"from_arrays: {n_units} distinct unit names and {n_years} years are needed.")
+        if np.any(np.diff(year_values) <= 0):
+            raise DataError("from_arrays: years must be increasing.")
+        for name, values in arrays.items():
+            if np.isinf(values).any():
+                raise DataError(f"from_arrays: column '{name}' has infinite values.")
+        order = np.argsort(unit_names, kind="stable")
+        index = pd.MultiIndex.from_product([[unit_names[i] for i in order], year_values],
+                                           names=[unit, time])
+        frame = pd.DataFrame({k: v[:, order].T.ravel() for k, v in arrays.items()}, index=index)
+        notes = _loading.missing_notes(frame, list(arrays)) if any(np.isnan(v).any() for v in arrays.values()) else []
+        audit = pd.DataFrame(notes, columns=_loading.AUDIT_COLUMNS)
+        return cls(frame, audit=audit, meta={"source": "arrays", "unit": unit, "time": time, "basis": {}})
+
     # ----------------------------------------------------------------- views
     @property
     def frame(self) -> pd.DataFrame:
