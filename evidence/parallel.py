@@ -10,8 +10,9 @@ backend runs it.
 from __future__ import annotations
 
 import os
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor
+from contextlib import contextmanager
 from typing import Any, Protocol, TypeVar
 
 import numpy as np
@@ -21,7 +22,7 @@ from evidence._validation import check_choice
 from evidence.errors import SpecError
 
 __all__ = ["BACKENDS", "Executor", "SerialExecutor", "ProcessExecutor", "DaskExecutor",
-           "get_executor", "task_seeds", "run_tasks"]
+           "get_executor", "using_executor", "task_seeds", "run_tasks", "ExecutorLike"]
 
 BACKENDS = ("serial", "processes", "dask")
 T = TypeVar("T")
@@ -100,14 +101,17 @@ class DaskExecutor:
     name = "dask"
 
     def __init__(self, jobs: int | None = None, scheduler: str | None = None, *,
-                 processes: bool = True) -> None:
+                 processes: bool = True, client: Any = None) -> None:
         try:
             from dask.distributed import Client, LocalCluster
         except ImportError:
-            raise SpecError("backend='dask' needs dask.distributed; install it with: "
+            raise SpecError("executor='dask' needs dask.distributed; install it with: "
                             "pip install 'decoupling-evidence[scale]'.") from None
         self._cluster = None
-        if scheduler:
+        self._owns_client = client is None
+        if client is not None:
+            self._client = client
+        elif scheduler:
             self._client = Client(scheduler)
         else:
             self._cluster = LocalCluster(n_workers=jobs or os.cpu_count() or 1,
@@ -126,8 +130,10 @@ class DaskExecutor:
         return out
 
     def close(self) -> None:
-        """Close the client and, if this executor started it, the local cluster."""
-        self._client.close()
+        """Close the client and the local cluster if this executor started them (a client the
+        caller passed in stays open)."""
+        if self._owns_client:
+            self._client.close()
         if self._cluster is not None:
             self._cluster.close()
 
@@ -156,6 +162,40 @@ def get_executor(backend: str = "serial", *, jobs: int | None = None,
     if backend == "processes":
         return ProcessExecutor(jobs)
     return DaskExecutor(jobs, scheduler)
+
+
+#: What an ``executor=`` option accepts: a backend name, a scheduler address (``tcp://...``), an
+#: executor of this module, or a running ``dask.distributed.Client``.
+ExecutorLike = Any
+
+
+@contextmanager
+def using_executor(executor: ExecutorLike = "serial") -> Iterator[Any]:
+    """An executor for ``executor=`` options; closes only what it opened itself.
+
+    ``"serial"``, ``"processes"`` or ``"dask"`` (a new local cluster) start a new executor;
+    ``"tcp://host:8786"`` (or ``tls://``) connects to that Dask scheduler; an executor object is
+    used as given; a ``dask.distributed.Client`` is wrapped and never closed by the callee.
+    """
+    if isinstance(executor, str):
+        address = executor.strip()
+        if address.startswith(("tcp://", "tls://", "inproc://", "ucx://")):
+            made = DaskExecutor(scheduler=address)
+        else:
+            made = get_executor(address)
+        try:
+            yield made
+        finally:
+            made.close()
+        return
+    if hasattr(executor, "map") and hasattr(executor, "close") and hasattr(executor, "name"):
+        yield executor
+        return
+    if type(executor).__name__ == "Client" and hasattr(executor, "submit"):
+        yield DaskExecutor(client=executor)
+        return
+    raise SpecError(f"executor={executor!r} is not an option; use 'serial', 'processes', 'dask', a "
+                    "Dask scheduler address (tcp://host:8786), or a dask.distributed Client.")
 
 
 def task_seeds(seed: Seed, n: int) -> list[np.random.SeedSequence]:
