@@ -141,14 +141,14 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         figures = []
         if spec.figures:
             for unit in panel.units:
-                breaks = {p: res.records[f"{unit}|{p}"].get("break_years") or []
-                          for p in pressures if f"{unit}|{p}" in res.records}
+                breaks = {p: res.records[(unit, p)].get("break_years") or []
+                          for p in pressures if (unit, p) in res.records}
                 win = res.details["windows"][pressures[0]]
                 shown = [*pressures, *consumption.values()]
                 figures.append(writer.figure(figs.indexed_figure(
                     panel, unit, spec.activity, shown, tuple(win), breaks), f"indexed_{_slug(unit)}"))
                 _intensity_figure(writer, panel, unit, pressures[0], spec, tuple(win), results)
-                rec = res.records.get(f"{unit}|{pressures[0]}")
+                rec = res.records.get((unit, pressures[0]))
                 if rec is not None:
                     writer.figure(figs.heatmap_figure(
                         rec["subwindow_matrix"], list(range(win[0], win[1] + 1)),

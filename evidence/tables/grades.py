@@ -24,7 +24,7 @@ def _yes(value: object) -> str:
 
 
 def _break_label(result: GradeResult, unit: str, pressure: str) -> str:
-    rec = result.records[f"{unit}|{pressure}"]
+    rec = result.records[(unit, pressure)]
     if rec.get("break_years") is None:
         return "n/a"
     if not rec["break_years"]:
@@ -50,7 +50,7 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "holds; the claim without recession years and on filtered trends; the consumption basis.",
         "Sufficiency: observed annual change of the pressure with its interval against the "
         "required change (a normative choice, stated in the criteria).",
-        *[f"Excluded: {r.unit} / {r.pressure} ({r.reason})." for r in result.excluded.itertuples()],
+        *[f"Excluded: {r.unit} / {r.column} {r.years} ({r.reason})." for r in result.excluded.itertuples()],
         CAUTION,
     ]
     if fmt.lower() in ("csv", "json"):
