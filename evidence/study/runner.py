@@ -18,15 +18,23 @@ from importlib import metadata
 from pathlib import Path
 from typing import Any
 
-import evidence as ev
+from evidence._version import __version__
+from evidence.breaks import find_breaks
+from evidence.convergence import (beta_convergence, club_convergence, sigma_convergence,
+                                  stochastic_convergence)
+from evidence.decomposition import kaya
+from evidence.elasticity import decoupling_tests, elasticity
+from evidence.grading import Criteria, grade
+from evidence.indicators import rates
+from evidence.panel import Panel, load_panel
+from evidence.roots import pesaran_cd_test, root_battery
 from evidence._json import json_safe
 from evidence.errors import DataError, EvidenceError
 from evidence.study import figures as figs
 from evidence.study.report import Section, render_report
 from evidence.study.spec import StudySpec, read_spec
-from evidence.tables._docx import html_to_docx
-from evidence.tables import (audit_table, grade_table, rates_table, regression_table,
-                             render_frame, test_table)
+from evidence.tables import (audit_table, grade_table, html_to_docx, rates_table,
+                             regression_table, render_frame, test_table)
 
 __all__ = ["StudyResult", "run_study"]
 
@@ -72,7 +80,7 @@ def _hash(path: Path) -> str:
 
 
 def _versions() -> dict[str, str]:
-    out = {"evidence": ev.__version__, "python": platform.python_version()}
+    out = {"evidence": __version__, "python": platform.python_version()}
     for name in _DEPENDENCIES:
         try:
             out[name] = metadata.version(name)
@@ -81,8 +89,8 @@ def _versions() -> dict[str, str]:
     return out
 
 
-def _criteria(spec: StudySpec) -> ev.Criteria:
-    return ev.Criteria(**{**spec.criteria, "seed": spec.seed,
+def _criteria(spec: StudySpec) -> Criteria:
+    return Criteria(**{**spec.criteria, "seed": spec.seed,
                           **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
 
 
@@ -104,7 +112,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
     writer = _Writer(folder, spec.formats)
     basis = {p.column: p.basis for p in spec.pressures}
     basis.update({p.consumption: "consumption" for p in spec.pressures if p.consumption})
-    panel = ev.load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
+    panel = load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
     columns = [spec.activity, *basis, *(c for c in (spec.population, spec.energy) if c)]
     panel.require(*columns)
     source = " ".join(s for s in (spec.source, spec.release and f"(release {spec.release})") if s)
@@ -133,7 +141,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
     grade_holder: dict[str, Any] = {}
 
     def do_grade() -> Section:
-        res = ev.grade(panel, pressures, spec.activity, window=spec.window,
+        res = grade(panel, pressures, spec.activity, window=spec.window,
                        criteria=_criteria(spec), consumption=consumption)
         grade_holder["result"] = res
         results["grade"] = res.to_dict()
@@ -161,7 +169,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
     def do_rates() -> Section:
         fragments = []
         for p in [*pressures, *consumption.values()]:
-            res = ev.rates(panel, p, spec.activity, window=spec.window)
+            res = rates(panel, p, spec.activity, window=spec.window)
             results.setdefault("rates", {})[p] = res.to_dict()
             fragments.append(writer.table(f"rates_{p}", lambda f, r=res: rates_table(r, f, notes=notes)))
         return Section("Decoupling indicators", tuple(fragments))
@@ -169,10 +177,10 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
     def do_elasticity() -> Section:
         fragments = []
         for p in pressures:
-            fits = [ev.elasticity(panel, p, spec.activity, estimator=e, window=spec.window)
+            fits = [elasticity(panel, p, spec.activity, estimator=e, window=spec.window)
                     for e in analyses["elasticity"]]
             tests = [replace(t, test=f"({i}) {t.test}") for i, fit in enumerate(fits, start=1)
-                     for t in ev.decoupling_tests(fit)]
+                     for t in decoupling_tests(fit)]
             results.setdefault("elasticity", {})[p] = [f.to_dict() for f in fits]
             fragments.append(writer.table(f"elasticity_{p}", lambda f, fs=fits, pp=p: regression_table(
                 fs, f, title=f"Elasticity of {pp} with respect to {spec.activity}", notes=notes)))
@@ -185,7 +193,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         base = panel.window(spec.window) if spec.window else panel
         for column in [*pressures, spec.activity]:
             work = base.with_log(column)
-            res = ev.root_battery(work, f"log_{column}", tests=tuple(analyses["roots"]))
+            res = root_battery(work, f"log_{column}", tests=tuple(analyses["roots"]))
             results.setdefault("roots", {})[column] = res.to_dict()
             fragments.append(writer.table(f"roots_{column}", lambda f, r=res: render_frame(
                 r.to_frame() if f in ("csv", "json") else r.decision_table(), f,
@@ -197,7 +205,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         tests = []
         base = panel.window(spec.window) if spec.window else panel
         for column in pressures:
-            tests.append(ev.pesaran_cd_test(base.with_log(column), f"log_{column}"))
+            tests.append(pesaran_cd_test(base.with_log(column), f"log_{column}"))
         results["dependence"] = [t.to_dict() for t in tests]
         return Section("Cross-sectional dependence", (writer.table(
             "dependence", lambda f: test_table(tests, f, title="Pesaran CD test")),))
@@ -210,23 +218,23 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         fragments, figures = [], []
         chosen = analyses["convergence"]
         if "beta" in chosen:
-            beta = ev.beta_convergence(work, column, window=spec.window)
+            beta = beta_convergence(work, column, window=spec.window)
             results["beta_convergence"] = beta.to_dict()
             fragments.append(writer.table("beta_convergence", lambda f: test_table(
                 [beta.test], f, title=f"Beta convergence of {column}",
                 notes=[f"Speed {beta.speed:.4f} a year, half-life {beta.half_life:.1f} years."])))
         if "sigma" in chosen:
-            sigma = ev.sigma_convergence(work, column, window=spec.window)
+            sigma = sigma_convergence(work, column, window=spec.window)
             results["sigma_convergence"] = sigma.to_dict()
             fragments.append(writer.table("sigma_convergence", lambda f: test_table(
                 [sigma.trend_test, *sigma.first_last_tests], f, title="Sigma convergence")))
         if "stochastic" in chosen:
-            stoch = ev.stochastic_convergence(work, column, window=spec.window)
+            stoch = stochastic_convergence(work, column, window=spec.window)
             results["stochastic_convergence"] = stoch.to_dict()
             fragments.append(writer.table("stochastic_convergence", lambda f: render_frame(
                 stoch.table, f, index=False, title=f"Stochastic convergence of {column}")))
         if "clubs" in chosen:
-            clubs = ev.club_convergence(work, column, window=spec.window)
+            clubs = club_convergence(work, column, window=spec.window)
             results["clubs"] = clubs.to_dict()
             fragments.append(writer.table("clubs", lambda f: render_frame(
                 clubs.membership().reset_index(), f, index=False,
@@ -238,7 +246,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
     def do_decomposition() -> Section | None:
         if not spec.population:
             raise DataError("the Kaya decomposition needs [roles] population.")
-        res = ev.kaya(panel, pressures[0], population=spec.population, activity=spec.activity,
+        res = kaya(panel, pressures[0], population=spec.population, activity=spec.activity,
                       energy=spec.energy, window=spec.window)
         results["decomposition"] = res.to_dict()
         fragment = writer.table("decomposition", lambda f: render_frame(
@@ -282,7 +290,7 @@ def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, A
                        grade=grade_holder.get("result"))
 
 
-def _intensity_figure(writer: _Writer, panel: ev.Panel, unit: str, pressure: str, spec: StudySpec,
+def _intensity_figure(writer: _Writer, panel: Panel, unit: str, pressure: str, spec: StudySpec,
                       window: tuple[int, int], results: dict[str, Any]) -> None:
     """Log intensity of one unit with its fitted trend regimes and break-date intervals."""
     column = f"{pressure}_per_{spec.activity}"
@@ -290,7 +298,7 @@ def _intensity_figure(writer: _Writer, panel: ev.Panel, unit: str, pressure: str
     series = work.series(unit, f"log_{column}").loc[window[0]:window[1]].dropna()
     options = {k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}
     try:
-        found = ev.find_breaks(series, model="trend", **options)
+        found = find_breaks(series, model="trend", **options)
     except EvidenceError as exc:
         results.setdefault("figures_not_drawn", {})[f"intensity {unit}"] = str(exc)
         return
