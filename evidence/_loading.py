@@ -270,7 +270,7 @@ def parse_years(values: pd.Series, units: pd.Series, *, time: str,
     else:
         as_text = _as_text(values)
         numbers = pd.to_numeric(as_text.where(as_text != "", None), errors="coerce")
-    bad = numbers.isna() | (numbers != np.round(numbers.fillna(0)))
+    bad = numbers.isna() | ~np.isfinite(numbers.fillna(0)) | (numbers != np.round(numbers.fillna(0)))
     if bad.any():
         i = int(np.flatnonzero(bad.to_numpy())[0])
         shown = (as_text.iloc[i] if as_text is not None else "") or "an empty cell"
