@@ -13,11 +13,13 @@ from pathlib import Path
 
 import click
 
-import evidence as ev
 from evidence._cautions import CAUTION
 from evidence._commands import add_commands
 from evidence._commands._common import data_options, emit, format_options, load, progress_bar
+from evidence._version import __version__
 from evidence.errors import EvidenceError
+from evidence.indicators import rates
+from evidence.study import run_demo, run_study
 from evidence.tables import audit_table, rates_table, render_frame
 
 __all__ = ["main", "cli"]
@@ -27,7 +29,7 @@ PROG = "evidence"
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.option("--debug", is_flag=True, help="Show the full traceback of an error.")
-@click.version_option(ev.__version__, prog_name=PROG)
+@click.version_option(__version__, prog_name=PROG)
 def cli(debug: bool) -> None:
     """Statistical evidence on decoupling and convergence, for papers and reports."""
 
@@ -39,7 +41,7 @@ def demo(out: Path) -> None:
     """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
     progress = progress_bar("analyses")
     try:
-        result = ev.run_demo(out, progress=progress.update if progress else None)
+        result = run_demo(out, progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
@@ -65,7 +67,7 @@ def study(spec: Path, out: Path) -> None:
     """Run a study file (TOML): report, tables, figures, results.json, manifest."""
     progress = progress_bar("analyses")
     try:
-        result = ev.run_study(spec, out, progress=progress.update if progress else None)
+        result = run_study(spec, out, progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
@@ -126,7 +128,7 @@ def rates_command(data: Path, unit_col: str | None, time_col: str | None, layout
                   fmt: str, output: Path | None) -> None:
     """Trend growth, Tapio class and OECD decoupling factor per unit."""
     panel = load(data, unit_col, time_col, layout)
-    result = ev.rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
+    result = rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
     emit(rates_table(result, fmt.lower()), output)
 
 

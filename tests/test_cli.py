@@ -118,7 +118,9 @@ def test_internal_failure_exits_1(demo_csv, capsys, monkeypatch):
     def broken(*args, **kwargs):
         raise RuntimeError("boom")
 
-    monkeypatch.setattr(ev, "rates", broken)
+    import evidence.cli
+
+    monkeypatch.setattr(evidence.cli, "rates", broken)
     assert main(["rates", str(demo_csv), "--pressure", "dmc", "--activity", "gdp"]) == 1
     err = capsys.readouterr().err
     assert "internal error" in err and "boom" in err

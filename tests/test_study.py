@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 from html.parser import HTMLParser
 
 import pandas as pd
@@ -145,3 +146,22 @@ def test_word_tables(tmp_path):
     assert table.cell(0, 0).text == "unit" and table.cell(1, 0).text == "Alda"
     html = (tmp_path / "out" / "report.html").read_text()
     assert "Decoupling grade" in html
+
+
+def test_steps_registry_matches_the_schema_and_writes_nothing(tmp_path):
+    from evidence.study.spec import SCHEMA
+    from evidence.study.steps import STEPS
+
+    assert set(STEPS) == set(SCHEMA["analyses"])
+    _panel_csv(tmp_path)
+    spec = parse_spec(MINIMAL.replace('activity = "gdp"', 'activity = "gdp"\npopulation = "population"'),
+                      base=tmp_path)
+    panel = ev.load_panel(tmp_path / "panel.csv", unit="region")
+    before = set(tmp_path.rglob("*"))
+    output = STEPS["rates"](panel, spec)
+    assert set(tmp_path.rglob("*")) == before  # a step computes; the runner writes
+    assert [t.name for t in output.tables] == ["rates_co2"]
+    assert "co2" in output.results["rates"]
+    assert "Alda" in output.tables[0].render("markdown")
+    with pytest.raises(ev.SpecError):
+        STEPS["grade"](panel, replace(spec, criteria={"alpha": 2.0}))

@@ -6,9 +6,9 @@ from pathlib import Path
 
 import click
 
-import evidence as ev
 from evidence._cautions import CAUTION
 from evidence._commands._common import data_options, emit, format_options, load
+from evidence.decomposition import kaya
 from evidence.tables import render_frame
 
 __all__ = ["command"]
@@ -29,7 +29,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
             fmt: str, output: Path | None) -> None:
     """Kaya identity decomposition (LMDI-I, Ang 2005) per unit and for all units."""
     panel = load(data, unit_col, time_col, layout)
-    result = ev.kaya(panel, emissions, population=population, activity=activity, energy=energy,
+    result = kaya(panel, emissions, population=population, activity=activity, energy=energy,
                      window=window)
     notes = ["LMDI-I (Ang 2005): the effects add up exactly to the change (additive) or multiply "
              "to the ratio (multiplicative); row 'total' decomposes the sum over units.",

@@ -15,7 +15,7 @@ from typing import Any
 from evidence._validation import suggest
 from evidence.errors import SpecError
 
-__all__ = ["StudySpec", "PressureSpec", "read_spec", "parse_spec", "SCHEMA"]
+__all__ = ["StudySpec", "PressureSpec", "read_spec", "parse_spec", "SCHEMA", "ANALYSIS_DEFAULTS"]
 
 # table -> key -> (type or tuple of types, required)
 SCHEMA: dict[str, dict[str, tuple[Any, bool]]] = {
@@ -37,6 +37,10 @@ SCHEMA: dict[str, dict[str, tuple[Any, bool]]] = {
     "output": {"formats": (list, False), "figures": (bool, False), "seed": (int, False)},
 }
 TABLE_FORMATS = ("text", "markdown", "latex", "html", "csv", "json", "docx")
+#: What runs when ``[analyses]`` does not say: on/off, or the methods of an analysis.
+ANALYSIS_DEFAULTS: dict[str, Any] = {
+    "rates": True, "grade": True, "elasticity": ["fe", "ccemg"], "roots": [],
+    "dependence": False, "convergence": ["beta", "sigma", "clubs"], "decomposition": True}
 
 
 @dataclass(frozen=True)
@@ -71,6 +75,19 @@ class StudySpec:
     figures: bool = True
     seed: int = 20261202
     raw: dict[str, Any] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "analyses", {**ANALYSIS_DEFAULTS, **self.analyses})
+
+    @property
+    def pressure_columns(self) -> tuple[str, ...]:
+        """The pressure columns, in the order of the file."""
+        return tuple(p.column for p in self.pressures)
+
+    @property
+    def consumption(self) -> dict[str, str]:
+        """``{pressure column: its consumption-basis column}`` where the file names one."""
+        return {p.column: p.consumption for p in self.pressures if p.consumption}
 
 
 def _line_of(text: str, table: str, key: str | None) -> int | None:
