@@ -55,7 +55,7 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "holds; the claim without recession years and on filtered trends; the consumption basis.",
         "Sufficiency: observed annual change of the pressure with its interval against the "
         "required change (a normative choice, stated in the criteria).",
-        *[f"Excluded: {r.unit} / {r.pressure} ({r.reason})." for r in result.excluded.itertuples()],
+        *[f"Excluded: {r.unit} / {r.column} {r.years} ({r.reason})." for r in result.excluded.itertuples()],
         CAUTION,
     ]
     if fmt.lower() in ("csv", "json"):
