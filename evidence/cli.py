@@ -20,6 +20,7 @@ from evidence._version import __version__
 from evidence.errors import EvidenceError
 from evidence.indicators import rates
 from evidence.study import run_demo, run_study
+from evidence.study.spec import check_executor
 from evidence.tables import audit_table, rates_table, render_frame
 
 __all__ = ["main", "cli"]
@@ -34,14 +35,21 @@ def cli(debug: bool) -> None:
     """Statistical evidence on decoupling and convergence, for papers and reports."""
 
 
+_EXECUTOR_HELP = ("Where parallel work runs: serial, processes, dask, or a Dask scheduler address "
+                  "(tcp://host:8786). Results are the same whichever runs them.")
+
+
 @cli.command()
 @click.option("--out", type=click.Path(file_okay=False, path_type=Path),
               default=Path("evidence-demo"), show_default=True, help="Results folder.")
-def demo(out: Path) -> None:
+@click.option("--executor", default=None, help=_EXECUTOR_HELP + " [default: serial]")
+def demo(out: Path, executor: str | None) -> None:
     """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
+    executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("analyses")
     try:
-        result = run_demo(out, progress=progress.update if progress else None)
+        result = run_demo(out, executor=executor,
+                          progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
@@ -63,20 +71,19 @@ def demo(out: Path) -> None:
 @click.argument("spec", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--out", type=click.Path(file_okay=False, path_type=Path),
               default=Path("results"), show_default=True, help="Results folder.")
-def study(spec: Path, out: Path) -> None:
+@click.option("--executor", default=None,
+              help=_EXECUTOR_HELP + " [default: the study file's [run] executor, else serial]")
+def study(spec: Path, out: Path, executor: str | None) -> None:
     """Run a study file (TOML): report, tables, figures, results.json, manifest."""
+    executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("analyses")
     try:
-        result = run_study(spec, out, progress=progress.update if progress else None)
+        result = run_study(spec, out, executor=executor,
+                           progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
-    if result.grade is not None:
-        click.echo(result.grade.summary())
-    for name, reason in result.results.get("not_run", {}).items():
-        click.echo(f"not run: {name}: {reason}")
-    click.echo(f"Wrote {len(result.files)} files to {result.folder}/ (report.html, tables/, "
-               "figures/, results.json, manifest.json).")
+    click.echo(result.summary())
     click.echo(CAUTION)
 
 

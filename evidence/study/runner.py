@@ -13,19 +13,23 @@ import json
 import platform
 import time
 from collections.abc import Callable
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from datetime import datetime, timezone
 from importlib import metadata
 from pathlib import Path
 from typing import Any
 
+import pandas as pd
+
 from evidence._json import json_safe
 from evidence._version import __version__
 from evidence.errors import DataError, EvidenceError
 from evidence.panel import Panel, load_panel
+from evidence.results import ResultProtocol
 from evidence.study import figures as figs
 from evidence.study.report import Section, render_report
-from evidence.study.spec import StudySpec, read_spec
+from evidence.parallel import ExecutorLike, using_executor
+from evidence.study.spec import StudySpec, check_executor, read_spec
 from evidence.study.steps import AUDIT, STEPS, StepOutput
 from evidence.tables import html_to_docx
 
@@ -36,14 +40,52 @@ _EXT = {"text": "txt", "markdown": "md", "latex": "tex", "html": "html", "csv": 
         "json": "json", "docx": "docx"}
 
 
-@dataclass(frozen=True)
-class StudyResult:
-    """What a study run wrote (``files``) and computed (``results``, JSON-safe)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class StudyResult(ResultProtocol):
+    """What a study run wrote and computed.
+
+    Attributes
+    ----------
+    folder : pathlib.Path
+        The output folder.
+    files : tuple of pathlib.Path
+        Every file written, in the order written.
+    results : dict
+        The contents of ``results.json`` (JSON-safe): the spec, each step's results, and
+        ``not_run`` (step → reason).
+    grade : GradeResult or None
+        The grade, when the grade step ran.
+    steps : tuple of str
+        The analyses the spec turned on, in report order (run or not run).
+    """
 
     folder: Path
     files: tuple[Path, ...]
     results: dict[str, Any]
-    grade: Any
+    grade: Any = None
+    steps: tuple[str, ...] = ()
+
+    _private_fields = ("grade",)
+
+    def __repr__(self) -> str:
+        return (f"StudyResult(folder='{self.folder}', files={len(self.files)}, "
+                f"not_run={len(self.results.get('not_run', {}))})")
+
+    def summary(self) -> str:
+        """The grade's counts, the analyses not run and what was written."""
+        lines = [] if self.grade is None else [self.grade.summary()]
+        lines += [f"not run: {name}: {reason}"
+                  for name, reason in self.results.get("not_run", {}).items()]
+        lines.append(f"Wrote {len(self.files)} files to {self.folder}/ (report.html, tables/, "
+                     "figures/, results.json, manifest.json).")
+        return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per analysis of the study: run or not run, and why not."""
+        not_run = self.results.get("not_run", {})
+        return pd.DataFrame([{"analysis": name, "status": "not run" if name in not_run else "run",
+                              "reason": not_run.get(name, "")} for name in self.steps],
+                            columns=["analysis", "status", "reason"])
 
 
 class _Writer:
@@ -105,16 +147,30 @@ def _load(spec: StudySpec) -> Panel:
 
 
 def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
+              executor: ExecutorLike = None,
               progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Run the study described by ``spec`` (a TOML file or a parsed spec) into folder ``out``.
 
     Writes ``report.html`` (self-contained), ``tables/`` in every requested format, ``figures/``
-    (PNG and SVG), ``results.json`` (identical for the same inputs and seed) and
-    ``manifest.json`` (versions, input hash, spec, seeds, start time, run time).
+    (PNG and SVG), ``results.json`` (identical for the same inputs and seed, whichever executor)
+    and ``manifest.json`` (versions, input hash, spec, seeds, start time, run time).
+
+    ``executor`` (default: the spec's ``[run] executor``, else ``"serial"``) is opened once for
+    the whole study and handed to every step through ``spec.executor``: ``"serial"``,
+    ``"processes"``, ``"dask"``, a scheduler address ``"tcp://host:8786"``, an executor or a
+    ``dask.distributed.Client`` (which the study never closes).
     """
-    started, clock = datetime.now(timezone.utc), time.perf_counter()
     spec = spec if isinstance(spec, StudySpec) else read_spec(spec)
-    folder = Path(out)
+    chosen = spec.executor if executor is None else executor
+    if isinstance(chosen, str):
+        chosen = check_executor(chosen)
+    with using_executor(chosen) as opened:
+        return _run(replace(spec, executor=opened), Path(out), progress)
+
+
+def _run(spec: StudySpec, folder: Path,
+         progress: Callable[[int, int], None] | None) -> StudyResult:
+    started, clock = datetime.now(timezone.utc), time.perf_counter()
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
@@ -141,11 +197,13 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
     sections.append(writer.section(AUDIT(panel, spec)))
     if writer.not_drawn:
         results["figures_not_drawn"] = dict(writer.not_drawn)
-    return _finish(spec, folder, writer, results, sections, started, clock, grade)
+    files = _finish(spec, folder, writer, results, sections, started, clock)
+    return StudyResult(folder=folder, files=files, results=results, grade=grade,
+                       steps=tuple(steps))
 
 
 def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, Any],
-            sections: list[Section], started: datetime, clock: float, grade: Any) -> StudyResult:
+            sections: list[Section], started: datetime, clock: float) -> tuple[Path, ...]:
     report = folder / "report.html"
     report.write_text(render_report(spec.title, spec.claim, spec.source, sections),
                       encoding="utf-8")
@@ -154,8 +212,8 @@ def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, A
     manifest = {"versions": _versions(),
                 "input": {"file": spec.data_file.name, "sha256": _hash(spec.data_file)},
                 "spec": json_safe(spec.raw), "seeds": {"study": spec.seed},
+                "executor": getattr(spec.executor, "name", str(spec.executor)),
                 "started": started.isoformat(timespec="seconds"),
                 "run_seconds": round(time.perf_counter() - clock, 2)}
     (folder / "manifest.json").write_text(json.dumps(manifest, indent=2) + "\n", encoding="utf-8")
-    files = (*writer.files, report, folder / "results.json", folder / "manifest.json")
-    return StudyResult(folder=folder, files=tuple(files), results=results, grade=grade)
+    return (*writer.files, report, folder / "results.json", folder / "manifest.json")

@@ -13,7 +13,7 @@ from evidence.grading import GradeResult
 from evidence.results import format_pvalue
 from evidence.tables._render import render_frame
 
-__all__ = ["grade_table", "grade_records"]
+__all__ = ["grade_table"]
 
 
 def _pct(value: float | None) -> str:
@@ -22,11 +22,6 @@ def _pct(value: float | None) -> str:
 
 def _yes(value: object) -> str:
     return {True: "yes", False: "no"}.get(value, "n/a")  # type: ignore[arg-type]
-
-
-def grade_records(result: GradeResult) -> dict[tuple[str, str], dict[str, Any]]:
-    """The grade's evidence records keyed by ``(unit, pressure)``."""
-    return {(rec["unit"], rec["pressure"]): rec for rec in result.records.values()}
 
 
 def _break_label(rec: dict[str, Any]) -> str:
@@ -61,7 +56,7 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
     if fmt.lower() in ("csv", "json"):
         return render_frame(result.table, fmt, title="Decoupling grade", notes=notes, index=False)
     t = result.table
-    records = grade_records(result)
+    records = result.records
     shown = pd.DataFrame({
         "unit": t["unit"], "pressure": t["pressure"], "basis": t["basis"], "window": t["window"],
         "grade": t["rung"], "flags": t["flags"],

@@ -11,7 +11,6 @@ from evidence.study import figures as figs
 from evidence.study.spec import StudySpec
 from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, slug
 from evidence.tables import grade_table
-from evidence.tables.grades import grade_records
 
 __all__ = ["run", "criteria"]
 
@@ -41,7 +40,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
 
 def _unit_figures(panel: Panel, spec: StudySpec, res: GradeResult) -> tuple[FigureOut, ...]:
     pressures = spec.pressure_columns
-    records = grade_records(res)
+    records = res.records
     window = tuple(res.details["windows"][pressures[0]])
     shown = [*pressures, *spec.consumption.values()]
     out: list[FigureOut] = []
