@@ -8,7 +8,7 @@ from evidence.errors import DataError
 from evidence.panel import Panel, derived_name
 from evidence.study.spec import StudySpec
 from evidence.study.steps._base import FigureOut, StepOutput, TableOut
-from evidence.tables import render_frame, test_table
+from evidence.tables import beta_table, render_frame, test_table
 
 __all__ = ["run"]
 
@@ -25,9 +25,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     if "beta" in chosen:
         beta = beta_convergence(work, column, window=spec.window)
         results["beta_convergence"] = beta.to_dict()
-        tables.append(TableOut("beta_convergence", lambda f: test_table(
-            [beta.test], f, title=f"Beta convergence of {column}",
-            notes=[f"Speed {beta.speed:.4f} a year, half-life {beta.half_life:.1f} years."])))
+        tables.append(TableOut("beta_convergence", lambda f: beta_table(
+            beta, f, title=f"Beta convergence of {column}")))
     if "sigma" in chosen:
         sigma = sigma_convergence(work, column, window=spec.window)
         results["sigma_convergence"] = sigma.to_dict()

@@ -20,7 +20,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     for pressure in spec.pressure_columns:
         fits = [elasticity(panel, pressure, spec.activity, estimator=e, window=spec.window)
                 for e in spec.analyses["elasticity"]]
-        tests = [replace(t, test=f"({i}) {t.test}") for i, fit in enumerate(fits, start=1)
+        tests = [replace(t, test=f"{fit.estimator}: {t.test}") for fit in fits
                  for t in decoupling_tests(fit)]
         results[pressure] = [f.to_dict() for f in fits]
         title = f"Elasticity of {pressure} with respect to {spec.activity}"
