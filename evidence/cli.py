@@ -13,11 +13,14 @@ from pathlib import Path
 
 import click
 
-import evidence as ev
 from evidence._cautions import CAUTION
 from evidence._commands import add_commands
 from evidence._commands._common import data_options, emit, format_options, load, progress_bar
+from evidence._version import __version__
 from evidence.errors import EvidenceError
+from evidence.indicators import rates
+from evidence.study import run_demo, run_study
+from evidence.study.spec import check_executor
 from evidence.tables import audit_table, rates_table, render_frame
 
 __all__ = ["main", "cli"]
@@ -27,19 +30,26 @@ PROG = "evidence"
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.option("--debug", is_flag=True, help="Show the full traceback of an error.")
-@click.version_option(ev.__version__, prog_name=PROG)
+@click.version_option(__version__, prog_name=PROG)
 def cli(debug: bool) -> None:
     """Statistical evidence on decoupling and convergence, for papers and reports."""
+
+
+_EXECUTOR_HELP = ("Where parallel work runs: serial, processes, dask, or a Dask scheduler address "
+                  "(tcp://host:8786). Results are the same whichever runs them.")
 
 
 @cli.command()
 @click.option("--out", type=click.Path(file_okay=False, path_type=Path),
               default=Path("evidence-demo"), show_default=True, help="Results folder.")
-def demo(out: Path) -> None:
+@click.option("--executor", default=None, help=_EXECUTOR_HELP + " [default: serial]")
+def demo(out: Path, executor: str | None) -> None:
     """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
+    executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("analyses")
     try:
-        result = ev.run_demo(out, progress=progress.update if progress else None)
+        result = run_demo(out, executor=executor,
+                          progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
@@ -61,20 +71,19 @@ def demo(out: Path) -> None:
 @click.argument("spec", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--out", type=click.Path(file_okay=False, path_type=Path),
               default=Path("results"), show_default=True, help="Results folder.")
-def study(spec: Path, out: Path) -> None:
+@click.option("--executor", default=None,
+              help=_EXECUTOR_HELP + " [default: the study file's [run] executor, else serial]")
+def study(spec: Path, out: Path, executor: str | None) -> None:
     """Run a study file (TOML): report, tables, figures, results.json, manifest."""
+    executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("analyses")
     try:
-        result = ev.run_study(spec, out, progress=progress.update if progress else None)
+        result = run_study(spec, out, executor=executor,
+                           progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
-    if result.grade is not None:
-        click.echo(result.grade.summary())
-    for name, reason in result.results.get("not_run", {}).items():
-        click.echo(f"not run: {name}: {reason}")
-    click.echo(f"Wrote {len(result.files)} files to {result.folder}/ (report.html, tables/, "
-               "figures/, results.json, manifest.json).")
+    click.echo(result.summary())
     click.echo(CAUTION)
 
 
@@ -126,7 +135,7 @@ def rates_command(data: Path, unit_col: str | None, time_col: str | None, layout
                   fmt: str, output: Path | None) -> None:
     """Trend growth, Tapio class and OECD decoupling factor per unit."""
     panel = load(data, unit_col, time_col, layout)
-    result = ev.rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
+    result = rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
     emit(rates_table(result, fmt.lower()), output)
 
 

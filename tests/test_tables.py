@@ -71,3 +71,14 @@ def test_rates_table_carries_caution_and_basis(long_frame):
     assert "Alda" in text and "strong decoupling" in text
     csv = rates_table(res, "csv")
     assert csv.splitlines()[0].startswith("region,start,end,years,activity_trend")
+
+
+def test_table_option_errors_are_spec_errors(nasty_frame):
+    from evidence.tables import regression_table
+
+    with pytest.raises(ev.SpecError, match="at least one estimate"):
+        regression_table([])
+    with pytest.raises(ev.SpecError, match="digits"):
+        render_frame(nasty_frame, "text", digits=-1)
+    with pytest.raises(ev.SpecError, match="digits"):
+        render_frame(nasty_frame, "text", digits=2.5)

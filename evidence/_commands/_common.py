@@ -8,7 +8,8 @@ from pathlib import Path
 
 import click
 
-import evidence as ev
+from evidence.errors import DataError
+from evidence.panel import Panel, load_panel
 from evidence.tables import FORMATS
 
 __all__ = ["data_options", "format_options", "emit", "load", "progress_bar"]
@@ -42,13 +43,13 @@ def emit(text: str, output: Path | None) -> None:
     try:
         output.write_text(text, encoding="utf-8")
     except OSError as exc:
-        raise ev.DataError(f"cannot write '{output}': {exc.strerror}.") from None
+        raise DataError(f"cannot write '{output}': {exc.strerror}.") from None
     click.echo(f"wrote {output}", err=True)
 
 
-def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> ev.Panel:
+def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> Panel:
     """Load the panel named on the command line."""
-    return ev.load_panel(data, unit=unit_col, time=time_col, layout=layout)  # type: ignore[arg-type]
+    return load_panel(data, unit=unit_col, time=time_col, layout=layout)  # type: ignore[arg-type]
 
 
 class _Progress:

@@ -1,8 +1,9 @@
 """``run_study``: from a study file to an output folder of report, tables, figures and results.
 
-The runner only calls the public API and formats what it returns. An analysis that cannot run on
-the data (too few years, missing columns for an optional part) is reported as "not run" with its
-reason in the report and in ``results.json`` — never silently dropped.
+The runner loads the data, runs each step of :data:`evidence.study.steps.STEPS` that the spec
+turns on, and writes what the steps hand back. An analysis that cannot run on the data (too few
+years, missing columns for an optional part) is reported as "not run" with its reason in the
+report and in ``results.json`` — never silently dropped.
 """
 
 from __future__ import annotations
@@ -18,15 +19,19 @@ from importlib import metadata
 from pathlib import Path
 from typing import Any
 
-import evidence as ev
+import pandas as pd
+
 from evidence._json import json_safe
+from evidence._version import __version__
 from evidence.errors import DataError, EvidenceError
+from evidence.panel import Panel, load_panel
+from evidence.results import ResultProtocol
 from evidence.study import figures as figs
 from evidence.study.report import Section, render_report
-from evidence.study.spec import StudySpec, read_spec
-from evidence.tables._docx import html_to_docx
-from evidence.tables import (audit_table, grade_table, rates_table, regression_table,
-                             render_frame, test_table)
+from evidence.parallel import ExecutorLike, using_executor
+from evidence.study.spec import StudySpec, check_executor, read_spec
+from evidence.study.steps import AUDIT, STEPS, StepOutput
+from evidence.tables import html_to_docx
 
 __all__ = ["StudyResult", "run_study"]
 
@@ -35,19 +40,60 @@ _EXT = {"text": "txt", "markdown": "md", "latex": "tex", "html": "html", "csv": 
         "json": "json", "docx": "docx"}
 
 
-@dataclass(frozen=True)
-class StudyResult:
-    """What a study run wrote (``files``) and computed (``results``, JSON-safe)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class StudyResult(ResultProtocol):
+    """What a study run wrote and computed.
+
+    Attributes
+    ----------
+    folder : pathlib.Path
+        The output folder.
+    files : tuple of pathlib.Path
+        Every file written, in the order written.
+    results : dict
+        The contents of ``results.json`` (JSON-safe): the spec, each step's results, and
+        ``not_run`` (step → reason).
+    grade : GradeResult or None
+        The grade, when the grade step ran.
+    steps : tuple of str
+        The analyses the spec turned on, in report order (run or not run).
+    """
 
     folder: Path
     files: tuple[Path, ...]
     results: dict[str, Any]
-    grade: Any
+    grade: Any = None
+    steps: tuple[str, ...] = ()
+
+    _private_fields = ("grade",)
+
+    def __repr__(self) -> str:
+        return (f"StudyResult(folder='{self.folder}', files={len(self.files)}, "
+                f"not_run={len(self.results.get('not_run', {}))})")
+
+    def summary(self) -> str:
+        """The grade's counts, the analyses not run and what was written."""
+        lines = [] if self.grade is None else [self.grade.summary()]
+        lines += [f"not run: {name}: {reason}"
+                  for name, reason in self.results.get("not_run", {}).items()]
+        lines.append(f"Wrote {len(self.files)} files to {self.folder}/ (report.html, tables/, "
+                     "figures/, results.json, manifest.json).")
+        return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per analysis of the study: run or not run, and why not."""
+        not_run = self.results.get("not_run", {})
+        return pd.DataFrame([{"analysis": name, "status": "not run" if name in not_run else "run",
+                              "reason": not_run.get(name, "")} for name in self.steps],
+                            columns=["analysis", "status", "reason"])
 
 
 class _Writer:
+    """Writes the tables and figures of the steps into the output folder and lists the files."""
+
     def __init__(self, folder: Path, formats: tuple[str, ...]) -> None:
         self.folder, self.formats, self.files = folder, formats, []
+        self.not_drawn: dict[str, str] = {}
         (folder / "tables").mkdir(parents=True, exist_ok=True)
         (folder / "figures").mkdir(parents=True, exist_ok=True)
 
@@ -61,10 +107,21 @@ class _Writer:
             self.files.append(path)
         return render("html")
 
-    def figure(self, fig: Any, name: str) -> Path:
-        paths = figs.save(fig, self.folder / "figures" / name)
-        self.files.extend(paths)
-        return paths[0]
+    def section(self, output: StepOutput) -> Section:
+        """Write the step's tables and figures; the report section that shows them."""
+        fragments = tuple(self.table(t.name, t.render) for t in output.tables)
+        shown = []
+        for figure in output.figures:
+            try:
+                drawn = figure.draw()
+            except EvidenceError as exc:
+                self.not_drawn[figure.label or figure.name] = str(exc)
+                continue
+            paths = figs.save(drawn, self.folder / "figures" / figure.name)
+            self.files.extend(paths)
+            if figure.in_report:
+                shown.append(paths[0])
+        return Section(output.title, fragments, tuple(shown), note=output.note)
 
 
 def _hash(path: Path) -> str:
@@ -72,7 +129,7 @@ def _hash(path: Path) -> str:
 
 
 def _versions() -> dict[str, str]:
-    out = {"evidence": ev.__version__, "python": platform.python_version()}
+    out = {"evidence": __version__, "python": platform.python_version()}
     for name in _DEPENDENCIES:
         try:
             out[name] = metadata.version(name)
@@ -81,191 +138,72 @@ def _versions() -> dict[str, str]:
     return out
 
 
-def _criteria(spec: StudySpec) -> ev.Criteria:
-    return ev.Criteria(**{**spec.criteria, "seed": spec.seed,
-                          **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
+def _load(spec: StudySpec) -> Panel:
+    basis = {p.column: p.basis for p in spec.pressures}
+    basis.update({p.consumption: "consumption" for p in spec.pressures if p.consumption})
+    panel = load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
+    panel.require(spec.activity, *basis, *(c for c in (spec.population, spec.energy) if c))
+    return panel
 
 
 def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
+              executor: ExecutorLike = None,
               progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Run the study described by ``spec`` (a TOML file or a parsed spec) into folder ``out``.
 
     Writes ``report.html`` (self-contained), ``tables/`` in every requested format, ``figures/``
-    (PNG and SVG), ``results.json`` (identical for the same inputs and seed) and
-    ``manifest.json`` (versions, input hash, spec, seeds, start time, run time).
+    (PNG and SVG), ``results.json`` (identical for the same inputs and seed, whichever executor)
+    and ``manifest.json`` (versions, input hash, spec, seeds, start time, run time).
+
+    ``executor`` (default: the spec's ``[run] executor``, else ``"serial"``) is opened once for
+    the whole study and handed to every step through ``spec.executor``: ``"serial"``,
+    ``"processes"``, ``"dask"``, a scheduler address ``"tcp://host:8786"``, an executor or a
+    ``dask.distributed.Client`` (which the study never closes).
     """
-    started, clock = datetime.now(timezone.utc), time.perf_counter()
     spec = spec if isinstance(spec, StudySpec) else read_spec(spec)
-    folder = Path(out)
+    chosen = spec.executor if executor is None else executor
+    if isinstance(chosen, str):
+        chosen = check_executor(chosen)
+    with using_executor(chosen) as opened:
+        return _run(replace(spec, executor=opened), Path(out), progress)
+
+
+def _run(spec: StudySpec, folder: Path,
+         progress: Callable[[int, int], None] | None) -> StudyResult:
+    started, clock = datetime.now(timezone.utc), time.perf_counter()
     try:
         folder.mkdir(parents=True, exist_ok=True)
     except OSError as exc:
         raise DataError(f"cannot create the output folder '{folder}': {exc.strerror}.") from None
     writer = _Writer(folder, spec.formats)
-    basis = {p.column: p.basis for p in spec.pressures}
-    basis.update({p.consumption: "consumption" for p in spec.pressures if p.consumption})
-    panel = ev.load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
-    columns = [spec.activity, *basis, *(c for c in (spec.population, spec.energy) if c)]
-    panel.require(*columns)
-    source = " ".join(s for s in (spec.source, spec.release and f"(release {spec.release})") if s)
-    notes = [f"Data: {source}"] if source else []
-    analyses = {"rates": True, "grade": True, "elasticity": ["fe", "ccemg"], "roots": [],
-                "dependence": False, "convergence": ["beta", "sigma", "clubs"],
-                "decomposition": True, **spec.analyses}
+    panel = _load(spec)
     results: dict[str, Any] = {"spec": json_safe(spec.raw), "not_run": {}}
     sections: list[Section] = []
-    steps = [name for name, on in analyses.items() if on]
-    pressures = [p.column for p in spec.pressures]
-    consumption = {p.column: p.consumption for p in spec.pressures if p.consumption}
-
-    def step(name: str, func: Callable[[], Section | None]) -> None:
+    steps = [name for name in STEPS if spec.analyses.get(name)]
+    grade = None
+    for name in steps:
         try:
-            section = func()
+            output = STEPS[name](panel, spec)
+            section = writer.section(output)
         except EvidenceError as exc:
             results["not_run"][name] = str(exc)
             sections.append(Section(f"{name}: not run", note=str(exc)))
-            return
-        if section is not None:
+        else:
+            results.update(output.results)
+            grade = output.value if name == "grade" else grade
             sections.append(section)
         if progress is not None:
             progress(len(sections), len(steps) + 1)
-
-    grade_holder: dict[str, Any] = {}
-
-    def do_grade() -> Section:
-        res = ev.grade(panel, pressures, spec.activity, window=spec.window,
-                       criteria=_criteria(spec), consumption=consumption)
-        grade_holder["result"] = res
-        results["grade"] = res.to_dict()
-        fragment = writer.table("grade", lambda f: grade_table(res, f, notes=notes))
-        figures = []
-        if spec.figures:
-            for unit in panel.units:
-                breaks = {p: res.records[f"{unit}|{p}"].get("break_years") or []
-                          for p in pressures if f"{unit}|{p}" in res.records}
-                win = res.details["windows"][pressures[0]]
-                shown = [*pressures, *consumption.values()]
-                figures.append(writer.figure(figs.indexed_figure(
-                    panel, unit, spec.activity, shown, tuple(win), breaks), f"indexed_{_slug(unit)}"))
-                _intensity_figure(writer, panel, unit, pressures[0], spec, tuple(win), results)
-                rec = res.records.get(f"{unit}|{pressures[0]}")
-                if rec is not None:
-                    writer.figure(figs.heatmap_figure(
-                        rec["subwindow_matrix"], list(range(win[0], win[1] + 1)),
-                        f"{unit}: sub-windows where the {rec['claim_tested']} claim holds"),
-                        f"subwindows_{_slug(unit)}")
-        return Section("Grade", (fragment,), tuple(figures[:6]),
-                       note="Each axis is reported separately; the grade summarises them and "
-                            "never replaces them. Figures for every unit are in figures/.")
-
-    def do_rates() -> Section:
-        fragments = []
-        for p in [*pressures, *consumption.values()]:
-            res = ev.rates(panel, p, spec.activity, window=spec.window)
-            results.setdefault("rates", {})[p] = res.to_dict()
-            fragments.append(writer.table(f"rates_{p}", lambda f, r=res: rates_table(r, f, notes=notes)))
-        return Section("Decoupling indicators", tuple(fragments))
-
-    def do_elasticity() -> Section:
-        fragments = []
-        for p in pressures:
-            fits = [ev.elasticity(panel, p, spec.activity, estimator=e, window=spec.window)
-                    for e in analyses["elasticity"]]
-            tests = [replace(t, test=f"({i}) {t.test}") for i, fit in enumerate(fits, start=1)
-                     for t in ev.decoupling_tests(fit)]
-            results.setdefault("elasticity", {})[p] = [f.to_dict() for f in fits]
-            fragments.append(writer.table(f"elasticity_{p}", lambda f, fs=fits, pp=p: regression_table(
-                fs, f, title=f"Elasticity of {pp} with respect to {spec.activity}", notes=notes)))
-            fragments.append(writer.table(f"elasticity_tests_{p}", lambda f, ts=tests: test_table(
-                ts, f, title="One-sided decoupling tests")))
-        return Section("Elasticities", tuple(fragments))
-
-    def do_roots() -> Section:
-        fragments = []
-        base = panel.window(spec.window) if spec.window else panel
-        for column in [*pressures, spec.activity]:
-            work = base.with_log(column)
-            res = ev.root_battery(work, f"log_{column}", tests=tuple(analyses["roots"]))
-            results.setdefault("roots", {})[column] = res.to_dict()
-            fragments.append(writer.table(f"roots_{column}", lambda f, r=res: render_frame(
-                r.to_frame() if f in ("csv", "json") else r.decision_table(), f,
-                title=f"Unit-root battery, log {column} (p-values; decision at 5 %)",
-                index=False, notes=notes)))
-        return Section("Unit roots", tuple(fragments))
-
-    def do_dependence() -> Section:
-        tests = []
-        base = panel.window(spec.window) if spec.window else panel
-        for column in pressures:
-            tests.append(ev.pesaran_cd_test(base.with_log(column), f"log_{column}"))
-        results["dependence"] = [t.to_dict() for t in tests]
-        return Section("Cross-sectional dependence", (writer.table(
-            "dependence", lambda f: test_table(tests, f, title="Pesaran CD test")),))
-
-    def do_convergence() -> Section | None:
-        if not spec.population:
-            raise DataError("convergence needs [roles] population (per-capita pressure).")
-        work = panel.with_per_capita(pressures[0], spec.population)
-        column = f"{pressures[0]}_per_capita"
-        fragments, figures = [], []
-        chosen = analyses["convergence"]
-        if "beta" in chosen:
-            beta = ev.beta_convergence(work, column, window=spec.window)
-            results["beta_convergence"] = beta.to_dict()
-            fragments.append(writer.table("beta_convergence", lambda f: test_table(
-                [beta.test], f, title=f"Beta convergence of {column}",
-                notes=[f"Speed {beta.speed:.4f} a year, half-life {beta.half_life:.1f} years."])))
-        if "sigma" in chosen:
-            sigma = ev.sigma_convergence(work, column, window=spec.window)
-            results["sigma_convergence"] = sigma.to_dict()
-            fragments.append(writer.table("sigma_convergence", lambda f: test_table(
-                [sigma.trend_test, *sigma.first_last_tests], f, title="Sigma convergence")))
-        if "stochastic" in chosen:
-            stoch = ev.stochastic_convergence(work, column, window=spec.window)
-            results["stochastic_convergence"] = stoch.to_dict()
-            fragments.append(writer.table("stochastic_convergence", lambda f: render_frame(
-                stoch.table, f, index=False, title=f"Stochastic convergence of {column}")))
-        if "clubs" in chosen:
-            clubs = ev.club_convergence(work, column, window=spec.window)
-            results["clubs"] = clubs.to_dict()
-            fragments.append(writer.table("clubs", lambda f: render_frame(
-                clubs.membership().reset_index(), f, index=False,
-                title=f"Phillips-Sul clubs (overall log t {clubs.overall.statistic:.3f})")))
-            if spec.figures:
-                figures.append(writer.figure(clubs.plot(), "club_transitions"))
-        return Section("Convergence", tuple(fragments), tuple(figures))
-
-    def do_decomposition() -> Section | None:
-        if not spec.population:
-            raise DataError("the Kaya decomposition needs [roles] population.")
-        res = ev.kaya(panel, pressures[0], population=spec.population, activity=spec.activity,
-                      energy=spec.energy, window=spec.window)
-        results["decomposition"] = res.to_dict()
-        fragment = writer.table("decomposition", lambda f: render_frame(
-            res.to_frame("additive"), f, title=f"LMDI-I decomposition of the change in "
-            f"{pressures[0]}, {res.window[0]}-{res.window[1]}", notes=notes))
-        figures = ()
-        if spec.figures:
-            effects = res.to_frame("additive").loc[["total"], list(res.factors)]
-            figures = (writer.figure(figs.decomposition_figure(effects, "Kaya effects, all units"),
-                                     "decomposition"),)
-        return Section("Decomposition", (fragment,), figures)
-
-    runners = {"grade": do_grade, "rates": do_rates, "elasticity": do_elasticity,
-               "roots": do_roots, "dependence": do_dependence, "convergence": do_convergence,
-               "decomposition": do_decomposition}
-    for name in ("grade", "rates", "elasticity", "roots", "dependence", "convergence",
-                 "decomposition"):
-        if analyses.get(name):
-            step(name, runners[name])
-    sections.append(Section("Audit: data not used", (writer.table(
-        "audit", lambda f: audit_table(panel.audit, f, notes=notes)),)))
-    return _finish(spec, folder, writer, results, sections, started, clock, grade_holder)
+    sections.append(writer.section(AUDIT(panel, spec)))
+    if writer.not_drawn:
+        results["figures_not_drawn"] = dict(writer.not_drawn)
+    files = _finish(spec, folder, writer, results, sections, started, clock)
+    return StudyResult(folder=folder, files=files, results=results, grade=grade,
+                       steps=tuple(steps))
 
 
 def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, Any],
-            sections: list[Section], started: datetime, clock: float,
-            grade_holder: dict[str, Any]) -> StudyResult:
+            sections: list[Section], started: datetime, clock: float) -> tuple[Path, ...]:
     report = folder / "report.html"
     report.write_text(render_report(spec.title, spec.claim, spec.source, sections),
                       encoding="utf-8")
@@ -274,30 +212,8 @@ def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, A
     manifest = {"versions": _versions(),
                 "input": {"file": spec.data_file.name, "sha256": _hash(spec.data_file)},
                 "spec": json_safe(spec.raw), "seeds": {"study": spec.seed},
+                "executor": getattr(spec.executor, "name", str(spec.executor)),
                 "started": started.isoformat(timespec="seconds"),
                 "run_seconds": round(time.perf_counter() - clock, 2)}
     (folder / "manifest.json").write_text(json.dumps(manifest, indent=2) + "\n", encoding="utf-8")
-    files = (*writer.files, report, folder / "results.json", folder / "manifest.json")
-    return StudyResult(folder=folder, files=tuple(files), results=results,
-                       grade=grade_holder.get("result"))
-
-
-def _intensity_figure(writer: _Writer, panel: ev.Panel, unit: str, pressure: str, spec: StudySpec,
-                      window: tuple[int, int], results: dict[str, Any]) -> None:
-    """Log intensity of one unit with its fitted trend regimes and break-date intervals."""
-    column = f"{pressure}_per_{spec.activity}"
-    work = panel.with_intensity(pressure, spec.activity).with_log(column)
-    series = work.series(unit, f"log_{column}").loc[window[0]:window[1]].dropna()
-    options = {k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}
-    try:
-        found = ev.find_breaks(series, model="trend", **options)
-    except EvidenceError as exc:
-        results.setdefault("figures_not_drawn", {})[f"intensity {unit}"] = str(exc)
-        return
-    writer.figure(found.plot(), f"intensity_{_slug(unit)}")
-
-
-def _slug(text: str) -> str:
-    import re
-
-    return re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower() or "unit"
+    return (*writer.files, report, folder / "results.json", folder / "manifest.json")

@@ -12,10 +12,13 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
-from evidence._validation import suggest
+from evidence._typing import DEFAULT_SEED
+from evidence._validation import check_choice, suggest
 from evidence.errors import SpecError
+from evidence.parallel import BACKENDS
 
-__all__ = ["StudySpec", "PressureSpec", "read_spec", "parse_spec", "SCHEMA"]
+__all__ = ["StudySpec", "PressureSpec", "read_spec", "parse_spec", "check_executor", "SCHEMA",
+           "ANALYSIS_DEFAULTS"]
 
 # table -> key -> (type or tuple of types, required)
 SCHEMA: dict[str, dict[str, tuple[Any, bool]]] = {
@@ -35,8 +38,15 @@ SCHEMA: dict[str, dict[str, tuple[Any, bool]]] = {
                  "roots": (list, False), "dependence": (bool, False), "convergence": (list, False),
                  "decomposition": (bool, False)},
     "output": {"formats": (list, False), "figures": (bool, False), "seed": (int, False)},
+    "run": {"executor": (str, False)},
 }
 TABLE_FORMATS = ("text", "markdown", "latex", "html", "csv", "json", "docx")
+#: Address schemes of a Dask scheduler (``executor = "tcp://host:8786"``).
+SCHEDULER_SCHEMES = ("tcp://", "tls://", "inproc://", "ucx://")
+#: What runs when ``[analyses]`` does not say: on/off, or the methods of an analysis.
+ANALYSIS_DEFAULTS: dict[str, Any] = {
+    "rates": True, "grade": True, "elasticity": ["fe", "ccemg"], "roots": [],
+    "dependence": False, "convergence": ["beta", "sigma", "clubs"], "decomposition": True}
 
 
 @dataclass(frozen=True)
@@ -69,8 +79,22 @@ class StudySpec:
     analyses: dict[str, Any] = field(default_factory=dict)
     formats: tuple[str, ...] = ("markdown", "latex", "html", "csv")
     figures: bool = True
-    seed: int = 20261202
+    seed: int = DEFAULT_SEED
+    executor: Any = "serial"
     raw: dict[str, Any] = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        object.__setattr__(self, "analyses", {**ANALYSIS_DEFAULTS, **self.analyses})
+
+    @property
+    def pressure_columns(self) -> tuple[str, ...]:
+        """The pressure columns, in the order of the file."""
+        return tuple(p.column for p in self.pressures)
+
+    @property
+    def consumption(self) -> dict[str, str]:
+        """``{pressure column: its consumption-basis column}`` where the file names one."""
+        return {p.column: p.consumption for p in self.pressures if p.consumption}
 
 
 def _line_of(text: str, table: str, key: str | None) -> int | None:
@@ -164,8 +188,23 @@ def parse_spec(text: str, *, base: Path | None = None) -> StudySpec:
         window=None if window is None else (window["start"], window["end"]),
         criteria=dict(raw.get("criteria", {})), breaks=dict(raw.get("breaks", {})),
         analyses=dict(raw.get("analyses", {})), formats=formats,
-        figures=bool(output.get("figures", True)), seed=int(output.get("seed", 20261202)),
+        figures=bool(output.get("figures", True)), seed=int(output.get("seed", DEFAULT_SEED)),
+        executor=check_executor(raw.get("run", {}).get("executor", "serial"),
+                                _where(text, "run", "executor")),
         raw=raw)
+
+
+def check_executor(value: str, where: str = "executor") -> str:
+    """An executor named in a study file or on the command line: a name or a scheduler address."""
+    text = value.strip()
+    if text.startswith(SCHEDULER_SCHEMES):
+        return text
+    try:
+        return check_choice("executor", text, BACKENDS)
+    except SpecError:
+        raise SpecError(f"{where}: {value!r} is not an executor;{suggest(text, BACKENDS)} use "
+                        f"{', '.join(BACKENDS)} or a Dask scheduler address (tcp://host:8786)."
+                        ) from None
 
 
 def read_spec(path: str | Path) -> StudySpec:

@@ -17,7 +17,7 @@ from typing import Any
 import pandas as pd
 
 from evidence._json import json_safe
-from evidence._validation import check_choice
+from evidence._validation import check_choice, check_int
 
 __all__ = ["FORMATS", "render_frame", "latex_escape", "format_cell"]
 
@@ -56,6 +56,7 @@ def render_frame(frame: pd.DataFrame, fmt: str = "text", *, title: str = "",
     carry ``digits`` decimals, the title and the notes for people.
     """
     fmt = check_choice("format", fmt, FORMATS)
+    digits = check_int("digits", digits, minimum=0, maximum=12)
     table = frame.reset_index() if index else frame.copy()
     if fmt == "csv":
         return table.to_csv(index=False, lineterminator="\n")

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from typing import Any
 
 import pandas as pd
 
@@ -23,8 +24,7 @@ def _yes(value: object) -> str:
     return {True: "yes", False: "no"}.get(value, "n/a")  # type: ignore[arg-type]
 
 
-def _break_label(result: GradeResult, unit: str, pressure: str) -> str:
-    rec = result.records[f"{unit}|{pressure}"]
+def _break_label(rec: dict[str, Any]) -> str:
     if rec.get("break_years") is None:
         return "n/a"
     if not rec["break_years"]:
@@ -50,12 +50,13 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "holds; the claim without recession years and on filtered trends; the consumption basis.",
         "Sufficiency: observed annual change of the pressure with its interval against the "
         "required change (a normative choice, stated in the criteria).",
-        *[f"Excluded: {r.unit} / {r.pressure} ({r.reason})." for r in result.excluded.itertuples()],
+        *[f"Excluded: {r.unit} / {r.column} {r.years} ({r.reason})." for r in result.excluded.itertuples()],
         CAUTION,
     ]
     if fmt.lower() in ("csv", "json"):
         return render_frame(result.table, fmt, title="Decoupling grade", notes=notes, index=False)
     t = result.table
+    records = result.records
     shown = pd.DataFrame({
         "unit": t["unit"], "pressure": t["pressure"], "basis": t["basis"], "window": t["window"],
         "grade": t["rung"], "flags": t["flags"],
@@ -63,7 +64,7 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "p rel (adj)": [format_pvalue(p) for p in t["p_relative_adj"]],
         "run": [f"{a}/{b}" for a, b in zip(t["longest_run"], t["smoothed_run"])],
         "duration": t["duration"],
-        "latest break": [_break_label(result, u, pr) for u, pr in zip(t["unit"], t["pressure"])],
+        "latest break": [_break_label(records[(u, pr)]) for u, pr in zip(t["unit"], t["pressure"])],
         "sub-windows": [f"{100 * s:.0f}%" for s in t["subwindow_share"]],
         "w/o recessions": [_yes(v) for v in t["survives_recession"]],
         "consumption": t["consumption_direction"].fillna("n/a"),

@@ -11,7 +11,8 @@ from collections.abc import Sequence
 import pandas as pd
 
 from evidence._cautions import CAUTION
-from evidence._validation import check_choice
+from evidence._validation import check_choice, check_int
+from evidence.errors import SpecError
 from evidence.results import Estimate, TestResult, format_pvalue
 from evidence.tables._render import render_frame
 
@@ -65,8 +66,9 @@ def regression_table(estimates: Sequence[Estimate], fmt: str = "text", *, stat: 
     coefficient instead.
     """
     if not estimates:
-        raise ValueError("regression_table needs at least one estimate.")
+        raise SpecError("regression_table needs at least one estimate (an Estimate, or a list of them).")
     stat = check_choice("stat", stat, ("se", "t", "p"))
+    digits = check_int("digits", digits, minimum=0, maximum=12)
     label = {"se": "standard errors", "t": "t statistics", "p": "p-values"}[stat]
     all_notes = [f"{label.capitalize()} in parentheses. *** p<0.01, ** p<0.05, * p<0.10.",
                  *notes, *_exclusions(estimates), CAUTION]
@@ -109,7 +111,8 @@ def unit_table(estimate: Estimate, fmt: str = "text", *, title: str = "",
     """Unit-level slopes of a mean-group-type estimate, one row per unit (the transposed layout)."""
     units = estimate.details.get("unit_params")
     if units is None:
-        raise ValueError(f"the {estimate.estimator} estimate has no unit-level coefficients.")
+        raise SpecError(f"the {estimate.estimator} estimate has no unit-level coefficients; unit_table "
+                        "takes a mean-group-type estimate (mg, ccemg, amg).")
     frame = units.copy()
     mean = pd.DataFrame([estimate.params.to_numpy()], columns=frame.columns,
                         index=pd.Index([f"{estimate.details.get('mean', 'mean')}"], name=frame.index.name))
