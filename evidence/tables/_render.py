@@ -8,9 +8,10 @@ input renders to the same bytes.
 from __future__ import annotations
 
 import html
-import textwrap
 import json
 import math
+import re
+import textwrap
 from collections.abc import Sequence
 from typing import Any
 
@@ -27,9 +28,13 @@ _LATEX_SPECIAL = {"\\": r"\textbackslash{}", "&": r"\&", "%": r"\%", "$": r"\$",
                   "^": r"\textasciicircum{}", "<": r"\textless{}", ">": r"\textgreater{}"}
 
 
+_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f]+")
+
+
 def latex_escape(text: str) -> str:
-    """Escape LaTeX special characters in ``text``."""
-    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in str(text))
+    """Escape LaTeX special characters in ``text``; line breaks and control characters become one
+    space (a blank line would end the tabular's paragraph)."""
+    return "".join(_LATEX_SPECIAL.get(ch, ch) for ch in _CONTROL.sub(" ", str(text)))
 
 
 def format_cell(value: Any, digits: int = 3) -> str:
@@ -91,8 +96,14 @@ def _text(header: list[str], body: list[list[str]], numeric: list[bool], title: 
     return "\n".join(out) + "\n"
 
 
+_MARKDOWN = {"&": "&amp;", "<": "&lt;", ">": "&gt;", "\\": "\\\\", "|": "\\|", "[": "\\[",
+             "]": "\\]", "`": "\\`"}
+
+
 def _md_escape(text: str) -> str:
-    return text.replace("\\", "\\\\").replace("|", "\\|").replace("\n", " ")
+    """Data-derived text in a Markdown table: HTML and link syntax neutralised (renderers pass raw
+    HTML through), the cell kept on one line."""
+    return "".join(_MARKDOWN.get(ch, ch) for ch in _CONTROL.sub(" ", text))
 
 
 def _markdown(header: list[str], body: list[list[str]], numeric: list[bool], title: str,
