@@ -237,5 +237,6 @@ def test_regression_table_lists_what_was_left_out(grunfeld):
     est = elasticity(ev.load_panel(frame, unit="firm"), "invest", "value", controls="capital",
                      log=False)
     assert est.params.index.tolist() == ["value", "capital"]
-    assert "(1) left out: American" not in ev.regression_table([est])
-    assert "(1) left out: Atlantic Refining capital 1935 missing value" in ev.regression_table([est])
+    assert "left out: American" not in ev.regression_table([est])
+    assert "Fixed effects (unit) left out: Atlantic Refining capital 1935 missing value" in (
+        ev.regression_table([est]))

@@ -89,7 +89,7 @@ def test_cli_battery_and_dependence(capsys):
     assert main(["roots", DEMO_CSV, "--column", "ghg_territorial", "--log", "--tests",
                  "adf,kpss,ips"]) == 0
     out = capsys.readouterr().out
-    assert "Unit-root battery: log_ghg_territorial" in out and "decision" in out
+    assert "Unit-root battery: ln ghg_territorial" in out and "decision" in out
     assert main(["roots", DEMO_CSV, "--column", "dmc", "--dependence", "--format", "json"]) == 0
     payload = json.loads(capsys.readouterr().out)
     assert [r["test"] for r in payload["rows"]][0] == "Pesaran CD"
