@@ -15,6 +15,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from evidence._files import check_excel, check_source
 from evidence._validation import check_columns, format_years, suggest
 from evidence.errors import DataError
 
@@ -37,11 +38,7 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
     if not isinstance(source, (str, Path)):
         raise DataError(f"cannot read a panel from a {type(source).__name__}; pass a file path "
                         "(CSV, Parquet, Excel) or a pandas DataFrame.")
-    path = Path(source)
-    if not path.exists():
-        raise DataError(f"file '{path}' does not exist.")
-    if path.is_dir():
-        raise DataError(f"'{path}' is a folder; pass a CSV, Parquet or Excel file.")
+    path = check_source(source)  # a regular file within the size limit
     kind = _READERS.get(path.suffix.lower())
     if kind is None:
         allowed = ", ".join(sorted(_READERS))
@@ -59,7 +56,7 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
         elif kind == "parquet":
             frame = pd.read_parquet(path)
         else:
-            frame = pd.read_excel(path, sheet_name=0 if sheet is None else sheet, dtype=object)
+            frame = _read_excel(path, sheet)
     except ImportError as exc:
         extra = "parquet" if kind == "parquet" else "excel"
         raise DataError(f"reading '{path.name}' needs an optional library ({exc.name}); install it "
@@ -70,6 +67,20 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise DataError(f"file '{path}' could not be read as {kind}: {first}") from None
     return frame, str(path)
+
+
+def _read_excel(path: Path, sheet: str | int | None) -> pd.DataFrame:
+    """A workbook read safely: checked first (no DTD or entities, no zip bomb); any failure of
+    the Excel reader on a damaged file is a :class:`DataError`."""
+    if path.suffix.lower() != ".xls":
+        check_excel(path)
+    try:
+        return pd.read_excel(path, sheet_name=0 if sheet is None else sheet, dtype=object)
+    except (ImportError, DataError):
+        raise
+    except Exception as exc:  # noqa: BLE001 - a damaged workbook can fail anywhere in the reader
+        first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise DataError(f"file '{path}' could not be read as Excel: {first}") from None
 
 
 def _csv_header(path: Path, sep: str) -> list[str]:

@@ -28,7 +28,7 @@ from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
 from evidence.results import ResultProtocol
 
-__all__ = ["log_mean", "lmdi_effects", "LMDIResult", "lmdi", "kaya"]
+__all__ = ["log_mean", "lmdi_effects", "LMDIResult", "lmdi", "kaya", "total_label"]
 
 #: Value that replaces zeros before logs (Ang 2005 recommends a small positive number).
 ZERO_REPLACEMENT = 1e-10
@@ -74,7 +74,8 @@ def lmdi_effects(start: np.ndarray, end: np.ndarray) -> tuple[np.ndarray, np.nda
 
 @dataclass(frozen=True, eq=False, repr=False)
 class LMDIResult(ResultProtocol):
-    """Effects of each factor per unit and for the sum over units (row ``"total"``).
+    """Effects of each factor per unit and for the sum over units (row :attr:`total_row`,
+    ``"total"`` unless a unit has that name).
 
     Attributes
     ----------
@@ -100,15 +101,21 @@ class LMDIResult(ResultProtocol):
     window: Window
     details: Mapping[str, Any] = field(default_factory=dict)
 
+    @property
+    def total_row(self) -> str:
+        """The label of the row that decomposes the sum over units (``"total"`` unless a unit
+        has that name)."""
+        return str(self.details.get("total_row", "total"))
+
     def __repr__(self) -> str:
-        total = self.additive.loc["total"]
+        total = self.additive.loc[self.total_row]
         effects = ", ".join(f"{k}={total[k]:.4g}" for k in self.factors)
         return (f"LMDIResult(pressure={self.pressure!r}, window={self.window}, "
                 f"change={total['change']:.4g}, {effects})")
 
     def summary(self) -> str:
         """The total change and each factor's additive and multiplicative effect."""
-        add, mul = self.additive.loc["total"], self.multiplicative.loc["total"]
+        add, mul = self.additive.loc[self.total_row], self.multiplicative.loc[self.total_row]
         lines = [f"LMDI-I decomposition of {self.pressure}, {self.window[0]}-{self.window[1]}: "
                  f"change {add['change']:.6g} (ratio {mul['ratio']:.4f}), "
                  f"{len(self.additive) - 1} units"]
@@ -126,6 +133,20 @@ class LMDIResult(ResultProtocol):
         return json_safe({"additive": self.additive, "multiplicative": self.multiplicative,
                           "factors": list(self.factors), "pressure": self.pressure,
                           "window": list(self.window), "details": dict(self.details)})
+
+
+def total_label(units: Sequence[str]) -> str:
+    """The label of the all-units row: ``"total"``, or a longer label when a unit is so named.
+
+    Examples
+    --------
+    >>> total_label(["A", "B"]), total_label(["total", "B"])
+    ('total', 'total (all units)')
+    """
+    label = "total"
+    while label in units:
+        label = f"{label} (all units)"
+    return label
 
 
 def _ratio(end: float, start: float) -> float:
@@ -177,12 +198,14 @@ def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
     vt = sum(r[1] for r in rows_add)
     rows_add.append([v0, vt, vt - v0, *add_total])
     rows_mul.append([v0, vt, _ratio(vt, v0), *mul_total])
-    index = pd.Index([*units, "total"], name=panel.unit_name)
+    total = total_label(units)
+    index = pd.Index([*units, total], name=panel.unit_name)
     add = pd.DataFrame(rows_add, index=index, columns=["start", "end", "change", *factors])
     mul = pd.DataFrame(rows_mul, index=index, columns=["start", "end", "ratio", *factors])
     return LMDIResult(additive=add, multiplicative=mul, factors=factors, pressure=pressure,
                       window=(start, end), details={"method": "LMDI-I (Ang 2005)",
-                                                    "zero_replacement": ZERO_REPLACEMENT})
+                                                    "zero_replacement": ZERO_REPLACEMENT,
+                                                    "total_row": total})
 
 
 def kaya(panel: Panel, pressure: str, *, population: str, activity: str,

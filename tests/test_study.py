@@ -51,9 +51,9 @@ def test_minimal_spec_defaults(tmp_path):
     ("[window]\nstart = 2000\nend = 1990\n", "start must be before end"),
     ("[window]\nstart = 2000\n", "needs the key 'end'"),
     ("[criteria]\nalpah = 0.1\n", "unknown key [criteria] alpah (line"),
-    ("[criteria]\nalpha = \"five\"\n", "must be a float"),
-    ("[output]\nformats = [\"pdf\"]\n", "'pdf' is not a table format"),
-    ("[breaks]\nmax_breaks = true\n", "must be a int"),
+    ("[criteria]\nalpha = \"five\"\n", "must be a number, not str"),
+    ("[output]\nformats = [\"pdf\"]\n", "formats (line 12): 'pdf' is not an option"),
+    ("[breaks]\nmax_breaks = true\n", "must be an integer, not bool"),
 ])
 def test_malformed_specs(extra, fragment):
     with pytest.raises(SpecError) as info:

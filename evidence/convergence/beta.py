@@ -103,7 +103,8 @@ class BetaResult(ResultProtocol):
         """One row: the slope, its test, the speed and the half-life."""
         return pd.DataFrame([{
             "form": self.form, "start": self.window[0], "end": self.window[1],
-            "slope": self.test.details["slope"], "std_error": self.test.details["std_error"],
+            "slope": self.test.details.get("slope", math.nan),
+            "std_error": self.test.details.get("std_error", math.nan),
             "statistic": self.test.statistic, "pvalue": self.test.pvalue,
             "speed": self.speed, "speed_se": self.speed_se, "half_life": self.half_life,
             "half_life_se": self.half_life_se, "nobs": self.test.nobs}])
@@ -147,6 +148,9 @@ def _cross_section(panel: Panel, column: str, controls: Sequence[str], start: in
     if len(frame) < len(controls) + 3:
         raise DataError(f"only {len(frame)} units have '{column}' in both {start} and {end}; "
                         "beta convergence needs more units than regressors + 2.")
+    if np.ptp(frame.iloc[:, 1].to_numpy()) == 0:
+        raise DataError(f"every unit has the same '{column}' in {start}; beta convergence needs "
+                        "units that start at different levels.")
     x = sm.add_constant(frame.drop(columns="growth"))
     fit = sm.OLS(frame["growth"], x).fit(cov_type="HC1" if cov == "robust" else "nonrobust",
                                          use_t=True)
@@ -154,7 +158,9 @@ def _cross_section(panel: Panel, column: str, controls: Sequence[str], start: in
                    params=fit.params, std_errors=fit.bse.to_numpy(), cov=fit.cov_params().to_numpy(),
                    cov_type="heteroskedasticity-robust (HC1)" if cov == "robust" else "unadjusted",
                    nobs=int(fit.nobs), df_resid=float(fit.df_resid),
-                   details={"units": int(fit.nobs), "r2": float(fit.rsquared)},
+                   details={"units": int(fit.nobs),
+                            # R² is undefined when every unit grew at the same rate
+                            "r2": float(fit.rsquared) if fit.centered_tss > 0 else math.nan},
                    reference="barro1992", resid=None)
     return est, excluded
 
@@ -167,6 +173,9 @@ def _panel_form(panel: Panel, column: str, start: int, end: int, period: int,
     if len(starts) < 2:
         raise SpecError(f"span={period} gives fewer than two sub-periods in {start}:{end}.")
     logs = _levels(panel, column, sorted({s for s in starts} | {s + period for s in starts}))
+    if np.nanmax(np.ptp(logs.to_numpy(), axis=1)) == 0:
+        raise DataError(f"every unit has the same '{column}' in every year used; beta "
+                        "convergence needs units at different levels.")
     rows = []
     for s in starts:
         growth = (logs.loc[s + period] - logs.loc[s]) / period
@@ -219,13 +228,20 @@ def beta_convergence(panel: Panel, column: str, *, window: Window | str | None =
     name = est.params.index[1] if form == "cross_section" else est.params.index[0]
     b, se = float(est.params[name]), float(est.std_errors[name])
     speed, speed_se, half, half_se = speed_of_convergence(b, se, growth_span)
-    t = b / se
-    test = TestResult(test="beta convergence (slope on initial level < 0)", statistic=t,
-                      pvalue=float(stats.t.cdf(t, est.df_resid)),
-                      critical_values={a: float(stats.t.ppf(a, est.df_resid)) for a in (0.01, 0.05, 0.10)},
-                      null="slope >= 0 (no convergence)", alternative="slope < 0 (convergence)",
-                      nobs=est.nobs, details={"slope": b, "std_error": se, "form": form},
-                      reference=est.reference)
+    label = "beta convergence (slope on initial level < 0)"
+    if math.isfinite(se) and se > 0:
+        t = b / se
+        test = TestResult(test=label, statistic=t, pvalue=float(stats.t.cdf(t, est.df_resid)),
+                          critical_values={a: float(stats.t.ppf(a, est.df_resid))
+                                           for a in (0.01, 0.05, 0.10)},
+                          null="slope >= 0 (no convergence)",
+                          alternative="slope < 0 (convergence)", nobs=est.nobs,
+                          details={"slope": b, "std_error": se, "form": form},
+                          reference=est.reference)
+    else:  # a perfect fit: the slope has no sampling error to test against
+        test = TestResult.inapplicable(label, nobs=est.nobs, reference=est.reference,
+                                       reason=f"the slope's standard error is {se:g} (a perfect "
+                                              "fit); there is no sampling variation to test")
     return BetaResult(estimate=est, speed=speed, speed_se=speed_se, half_life=half,
                       half_life_se=half_se, test=test, form=form, window=(start, end),
                       excluded=excluded, details={"growth_span_years": growth_span})

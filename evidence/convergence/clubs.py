@@ -55,10 +55,14 @@ def log_t_statistic(x: np.ndarray, *, trim: float = 0.3) -> tuple[float, float, 
     big_h = ((h - 1.0) ** 2).mean(axis=1)
     first = max(int(math.floor(trim * n_years)), 2)
     t = np.arange(first, n_years + 1, dtype=float)
+    if not (big_h[0] > 0 and np.all(big_h[first - 1:] > 0)):
+        # identical units in a year: the regression is undefined, and such a group is not
+        # accepted as converging by the test (t is NaN, never above the critical value)
+        return math.nan, math.nan, t.size
     y = np.log(big_h[0] / big_h[first - 1:]) - 2.0 * np.log(np.log(t))
     slope, se, _ = trend_growth_batch(y[:, None], np.log(t))
     b, se, n = float(slope[0]), float(se[0]), t.size
-    return b / se, b, n
+    return (b / se if se > 0 else math.nan), b, n
 
 
 def _prepare(panel: Panel, column: str, window: Window | str | None, smoothing: float | None,
@@ -89,6 +93,10 @@ def _prepare(panel: Panel, column: str, window: Window | str | None, smoothing: 
                         f"'{wide.columns[col]}', year {years[row]}; the relative transition path "
                         "needs positive values (use logs of values above 1, e.g. a smaller unit "
                         "of measure).")
+    same = np.ptp(values, axis=1) == 0
+    if same.any():
+        raise DataError(f"every unit has the same (filtered) '{column}' in {years[same][0]}; the "
+                        "log t test needs the units to differ.")
     if years.size < 10:
         raise DataError(f"the window {start}:{end} has {years.size} years; the log t test needs "
                         "at least 10.")

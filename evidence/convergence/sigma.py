@@ -72,6 +72,14 @@ def carree_klomp_tests(first: np.ndarray, last: np.ndarray) -> tuple[TestResult,
     x, y = np.log(first), np.log(last)
     v1, vt = x.var(), y.var()
     c = float(np.mean((x - x.mean()) * (y - y.mean())))
+    if not (v1 > 0 and vt > 0 and v1 * vt - c * c > 0):
+        reason = ("the logs do not vary across units in the first or last year"
+                  if not (v1 > 0 and vt > 0) else
+                  "the last year's logs are an exact linear function of the first year's")
+        return (TestResult.inapplicable("Carree-Klomp T2 (equal dispersion)", reason=reason,
+                                        nobs=n, reference="carreeklomp1997"),
+                TestResult.inapplicable("Carree-Klomp T3 (dispersion fell)", reason=reason,
+                                        nobs=n, reference="carreeklomp1997"))
     t2 = (n - 2.5) * math.log1p((v1 - vt) ** 2 / (4 * (v1 * vt - c * c)))
     beta = c / v1
     t3 = math.sqrt(n) * (v1 / vt - 1.0) / (2.0 * math.sqrt(max(1.0 - beta * beta, 1e-12)))
@@ -197,16 +205,25 @@ def sigma_convergence(panel: Panel, column: str, *, measure: str = "sd_log",
     level = values[column].to_numpy()
     path = dispersion(level, measure=measure,
                       weights=None if weights is None else values[weights].to_numpy())
+    if not np.any(path > 0):
+        raise DataError(f"every unit has the same '{column}' in every year of {start}:{end}; "
+                        "there is no dispersion to follow.")
     slope, se, lags = trend_growth_batch(path[:, None], years, hac_lags=hac_lags)
-    t = float(slope[0] / se[0])
     n = years.size
-    trend = TestResult(test="sigma convergence (dispersion trend < 0)", statistic=t,
-                       pvalue=float(stats.t.cdf(t, n - 2)),
-                       critical_values={a: float(stats.t.ppf(a, n - 2)) for a in (0.01, 0.05, 0.10)},
-                       null="dispersion trend >= 0", alternative="dispersion falls over time",
-                       nobs=n, details={"slope": float(slope[0]), "std_error": float(se[0]),
-                                        "hac_lags": lags, "measure": measure},
-                       reference="neweywest1987")
+    label = "sigma convergence (dispersion trend < 0)"
+    if np.isfinite(se[0]) and se[0] > 0:
+        t = float(slope[0] / se[0])
+        trend = TestResult(test=label, statistic=t, pvalue=float(stats.t.cdf(t, n - 2)),
+                           critical_values={a: float(stats.t.ppf(a, n - 2))
+                                            for a in (0.01, 0.05, 0.10)},
+                           null="dispersion trend >= 0", alternative="dispersion falls over time",
+                           nobs=n, details={"slope": float(slope[0]), "std_error": float(se[0]),
+                                            "hac_lags": lags, "measure": measure},
+                           reference="neweywest1987")
+    else:  # an exactly linear path, or too few years for a standard error
+        trend = TestResult.inapplicable(label, nobs=n, reference="neweywest1987",
+                                        reason=f"the trend's standard error is {se[0]:g} "
+                                               f"({n} years); nothing to test against")
     tests = carree_klomp_tests(level[0], level[-1])
     return SigmaResult(path=pd.Series(path, index=pd.Index(years, name=panel.time_name),
                                       name=measure),
@@ -278,6 +295,9 @@ def gamma_convergence(panel: Panel, column: str, *,
                   else (panel.years[0], panel.years[-1]))
     values, excluded = _balanced(panel, [column], start, end)
     level = values[column].to_numpy()
+    if np.ptp(level[0]) == 0:
+        raise DataError(f"every unit has the same '{column}' in {start}; there is no ranking to "
+                        "compare later years with.")
     path = np.array([kendall_concordance(level[0], level[t]) for t in range(level.shape[0])])
     n = level.shape[1]
     chi = 2 * (n - 1) * path[-1]

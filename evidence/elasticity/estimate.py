@@ -6,6 +6,7 @@ Also the one-sided decoupling tests on the estimated elasticity and the time-var
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -108,6 +109,10 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
 def _one_sided(est: Estimate, name: str, value: float, label: str, null: str,
                alternative: str) -> TestResult:
     b, se = float(est.params[name]), float(est.std_errors[name])
+    if not (math.isfinite(se) and se > 0):  # e.g. a constant pressure: no variation to test
+        return TestResult.inapplicable(label, nobs=est.nobs, reference=est.reference,
+                                       reason=f"the elasticity's standard error is {se:g}; "
+                                              "the series has no variation to test")
     t = (b - value) / se
     p = stats.norm.cdf(t) if est.df_resid is None else stats.t.cdf(t, est.df_resid)
     dist = "normal" if est.df_resid is None else f"Student t, {est.df_resid:g} df"

@@ -11,31 +11,37 @@ from pathlib import Path
 from typing import Any
 
 from evidence.demo import demo_csv_text, demo_panel, demo_study_text
-from evidence.errors import DataError
 from evidence.parallel import ExecutorLike
-from evidence.study.runner import run_study
-from evidence.study.spec import parse_spec
+from evidence.study._output import OutputFolder, file_hash
+from evidence.study.runner import run_into
+from evidence.study.spec import check_executor, parse_spec
 
 __all__ = ["run_demo"]
 
 
 def run_demo(out: str | Path = "evidence-demo", *, executor: ExecutorLike = None,
+             overwrite: bool = False,
              progress: Callable[[int, int], None] | None = None) -> dict[str, Any]:
     """Run the main job on the demo panel: the shipped demo study, written to ``out``.
 
     The folder gets the study output (``report.html``, ``tables/``, ``figures/``,
     ``results.json``, ``manifest.json``) plus a copy of the demo data and of the study file, to
-    try the other commands on. ``executor`` is as for :func:`~evidence.study.run_study`.
+    try the other commands on. The folder is written as a transaction like a study's: a folder
+    that holds anything else — an edited ``demo_study.toml``, say — is left alone unless
+    ``overwrite=True``. ``executor`` is as for :func:`~evidence.study.run_study`.
     Returns the study result and the panel.
     """
-    folder = Path(out)
-    try:
-        folder.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise DataError(f"cannot create the output folder '{folder}': {exc.strerror}.") from None
-    (folder / "demo_panel.csv").write_text(demo_csv_text(), encoding="utf-8")
-    (folder / "demo_study.toml").write_text(demo_study_text(), encoding="utf-8")
-    spec = parse_spec(demo_study_text(), base=folder)
-    result = run_study(spec, folder, executor=executor, progress=progress)
-    return {"panel": demo_panel(), "study": result, "folder": folder,
-            "files": [*result.files, folder / "demo_panel.csv", folder / "demo_study.toml"]}
+    chosen = "serial" if executor is None else executor
+    if isinstance(chosen, str):
+        chosen = check_executor(chosen)
+    with OutputFolder(out, overwrite=overwrite) as folder:
+        folder.write_text("demo_panel.csv", demo_csv_text())
+        folder.write_text("demo_study.toml", demo_study_text())
+        data = folder.path("demo_panel.csv")
+        spec = parse_spec(demo_study_text(), base=data.parent)
+        inputs = {"file": data.name, "sha256": file_hash(data),
+                  "study_file": {"file": "demo_study.toml",
+                                 "sha256": file_hash(folder.path("demo_study.toml"))}}
+        result = run_into(spec, folder, chosen, inputs, progress=progress)
+    return {"panel": demo_panel(), "study": result, "folder": Path(out),
+            "files": list(result.files)}

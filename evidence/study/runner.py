@@ -8,7 +8,6 @@ report and in ``results.json`` — never silently dropped.
 
 from __future__ import annotations
 
-import hashlib
 import json
 import platform
 import time
@@ -21,19 +20,22 @@ from typing import Any
 
 import pandas as pd
 
+from evidence._files import check_source
 from evidence._json import json_safe
+from evidence._validation import format_years
 from evidence._version import __version__
 from evidence.errors import DataError, EvidenceError
 from evidence.panel import Panel, load_panel
+from evidence.parallel import ExecutorLike, using_executor
 from evidence.results import ResultProtocol
 from evidence.study import figures as figs
+from evidence.study._output import OutputFolder, file_hash
 from evidence.study.report import Section, render_report
-from evidence.parallel import ExecutorLike, using_executor
-from evidence.study.spec import StudySpec, check_executor, read_spec
+from evidence.study.spec import StudySpec, check_against_data, check_executor, read_spec
 from evidence.study.steps import AUDIT, STEPS, StepOutput
 from evidence.tables import html_to_docx
 
-__all__ = ["StudyResult", "run_study"]
+__all__ = ["StudyResult", "run_study", "run_into"]
 
 _DEPENDENCIES = ("numpy", "scipy", "pandas", "statsmodels", "linearmodels", "arch", "matplotlib")
 _EXT = {"text": "txt", "markdown": "md", "latex": "tex", "html": "html", "csv": "csv",
@@ -89,43 +91,44 @@ class StudyResult(ResultProtocol):
 
 
 class _Writer:
-    """Writes the tables and figures of the steps into the output folder and lists the files."""
+    """Writes the tables and figures of the steps into the new output folder and lists them."""
 
-    def __init__(self, folder: Path, formats: tuple[str, ...]) -> None:
-        self.folder, self.formats, self.files = folder, formats, []
+    def __init__(self, folder: OutputFolder, formats: tuple[str, ...]) -> None:
+        self.folder, self.formats = folder, formats
         self.not_drawn: dict[str, str] = {}
-        (folder / "tables").mkdir(parents=True, exist_ok=True)
-        (folder / "figures").mkdir(parents=True, exist_ok=True)
+        folder.path("tables/.").mkdir(exist_ok=True)
+        folder.path("figures/.").mkdir(exist_ok=True)
 
-    def table(self, name: str, render: Callable[[str], str]) -> str:
+    def table(self, name: str, render: Callable[[str], str], source: str | None = None) -> str:
         for fmt in self.formats:
-            path = self.folder / "tables" / f"{name}.{_EXT[fmt]}"
+            relative = f"tables/{name}.{_EXT[fmt]}"
             if fmt == "docx":
-                html_to_docx(render("html"), path)
+                html_to_docx(render("html"), self.folder.path(relative))
             else:
-                path.write_text(render(fmt), encoding="utf-8")
-            self.files.append(path)
+                self.folder.path(relative).write_text(render(fmt), encoding="utf-8")
+            self.folder.record(relative, source)
         return render("html")
 
     def section(self, output: StepOutput) -> Section:
         """Write the step's tables and figures; the report section that shows them."""
-        fragments = tuple(self.table(t.name, t.render) for t in output.tables)
+        import matplotlib
+
+        fragments = tuple(self.table(t.name, t.render, t.source) for t in output.tables)
         shown = []
         for figure in output.figures:
-            try:
-                drawn = figure.draw()
-            except EvidenceError as exc:
-                self.not_drawn[figure.label or figure.name] = str(exc)
-                continue
-            paths = figs.save(drawn, self.folder / "figures" / figure.name)
-            self.files.extend(paths)
+            # data-derived text (unit names) is shown as written, never parsed as mathtext
+            with matplotlib.rc_context({"text.parse_math": False}):
+                try:
+                    drawn = figure.draw()
+                except EvidenceError as exc:
+                    self.not_drawn[figure.label or figure.name] = str(exc)
+                    continue
+                paths = figs.save(drawn, self.folder.path(f"figures/{figure.name}"))
+            for path in paths:
+                self.folder.record(f"figures/{path.name}", figure.source)
             if figure.in_report:
                 shown.append(paths[0])
         return Section(output.title, fragments, tuple(shown), note=output.note)
-
-
-def _hash(path: Path) -> str:
-    return hashlib.sha256(path.read_bytes()).hexdigest()
 
 
 def _versions() -> dict[str, str]:
@@ -139,44 +142,123 @@ def _versions() -> dict[str, str]:
 
 
 def _load(spec: StudySpec) -> Panel:
+    """The study's panel, with the columns, units and years the spec names checked."""
     basis = {p.column: p.basis for p in spec.pressures}
     basis.update({p.consumption: "consumption" for p in spec.pressures if p.consumption})
     panel = load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
-    panel.require(spec.activity, *basis, *(c for c in (spec.population, spec.energy) if c))
-    return panel
+    check_against_data(spec, panel.columns, panel.units, panel.years)
+    return _without_nonpositive(panel, spec)
+
+
+def _without_nonpositive(panel: Panel, spec: StudySpec) -> Panel:
+    """The panel without units that have a zero or negative value where the study takes logs or
+    divides (pressures, activity, population, energy, in the window); each is listed in the
+    audit. One bad cell excludes its unit, not an analysis."""
+    columns = [c for c in (*spec.pressure_columns, *spec.consumption.values(), spec.activity,
+                           spec.population, spec.energy) if c]
+    frame = panel.frame
+    if spec.window is not None:
+        years = frame.index.get_level_values(1)
+        frame = frame[(years >= spec.window[0]) & (years <= spec.window[1])]
+    rows = []
+    for column in dict.fromkeys(columns):
+        bad = frame[column] <= 0
+        for unit, cells in bad[bad].groupby(level=0):
+            rows.append({"unit": unit, "column": column,
+                         "years": format_years(cells.index.get_level_values(1)),
+                         "count": int(cells.size),
+                         "reason": "unit excluded from the study: zero or negative value where "
+                                   "logs or ratios are taken"})
+    if not rows:
+        return panel
+    dropped = {r["unit"] for r in rows}
+    kept = [u for u in panel.units if u not in dropped]
+    if not kept:
+        first = rows[0]
+        raise DataError(f"every unit has a zero or negative value in the columns the study "
+                        f"takes logs of (e.g. unit '{first['unit']}', column '{first['column']}', "
+                        f"{first['years']}); fix the cells or mark them missing.")
+    frame = panel.frame
+    kept_rows = frame[frame.index.get_level_values(0).isin(kept)]
+    audit = pd.concat([panel.audit, pd.DataFrame(rows, columns=list(panel.audit.columns))],
+                      ignore_index=True)
+    return Panel(kept_rows.copy(), audit=audit, meta=panel.meta)
 
 
 def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
-              executor: ExecutorLike = None,
+              executor: ExecutorLike = None, overwrite: bool = False,
               progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Run the study described by ``spec`` (a TOML file or a parsed spec) into folder ``out``.
 
     Writes ``report.html`` (self-contained), ``tables/`` in every requested format, ``figures/``
     (PNG and SVG), ``results.json`` (identical for the same inputs and seed, whichever executor)
-    and ``manifest.json`` (versions, input hash, spec, seeds, start time, run time).
+    and ``manifest.json`` (versions, the input's hash taken before anything was written, the
+    spec, seeds, every file written with its hash, the data-derived names behind file names).
+
+    The folder is written as a transaction (:mod:`evidence.study._output`): the new run appears
+    complete or not at all. An existing ``out`` must be an earlier, unchanged run of this
+    package, else the run stops before any work — unless ``overwrite=True`` replaces it. A run
+    never writes into the folder that holds its own data or study file.
 
     ``executor`` (default: the spec's ``[run] executor``, else ``"serial"``) is opened once for
     the whole study and handed to every step through ``spec.executor``: ``"serial"``,
     ``"processes"``, ``"dask"``, a scheduler address ``"tcp://host:8786"``, an executor or a
     ``dask.distributed.Client`` (which the study never closes).
     """
+    source = None if isinstance(spec, StudySpec) else Path(spec)
     spec = spec if isinstance(spec, StudySpec) else read_spec(spec)
     chosen = spec.executor if executor is None else executor
     if isinstance(chosen, str):
         chosen = check_executor(chosen)
-    with using_executor(chosen) as opened:
-        return _run(replace(spec, executor=opened), Path(out), progress)
+    inputs = [spec.data_file, *([source] if source is not None else [])]
+    hashes = _input_hashes(spec, source)
+    with OutputFolder(out, overwrite=overwrite, inputs=inputs) as folder:
+        return run_into(spec, folder, chosen, hashes, progress=progress)
 
 
-def _run(spec: StudySpec, folder: Path,
-         progress: Callable[[int, int], None] | None) -> StudyResult:
+def _input_hashes(spec: StudySpec, source: Path | None) -> dict[str, Any]:
+    """Hashes of the inputs, taken before anything is written."""
+    check_source(spec.data_file)
+    out = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
+    if source is not None:
+        out["study_file"] = {"file": source.name, "sha256": file_hash(source)}
+    return out
+
+
+def run_into(spec: StudySpec, folder: OutputFolder, executor: ExecutorLike,
+             inputs: dict[str, Any], *,
+             progress: Callable[[int, int], None] | None = None) -> StudyResult:
+    """Run ``spec`` into an open output folder and commit it (the runner behind ``run_study``
+    and ``run_demo``)."""
     started, clock = datetime.now(timezone.utc), time.perf_counter()
-    try:
-        folder.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise DataError(f"cannot create the output folder '{folder}': {exc.strerror}.") from None
-    writer = _Writer(folder, spec.formats)
     panel = _load(spec)
+    try:
+        with using_executor(executor) as opened:
+            spec = replace(spec, executor=opened)
+            writer = _Writer(folder, spec.formats)
+            results, sections, grade, steps = _steps(panel, spec, writer, progress)
+            _write_outputs(spec, folder, results, sections)
+            manifest = {"versions": _versions(), "input": inputs, "spec": json_safe(spec.raw),
+                        "seeds": {"study": spec.seed},
+                        "executor": getattr(opened, "name", str(opened)),
+                        "started": started.isoformat(timespec="seconds"),
+                        "run_seconds": round(time.perf_counter() - clock, 2)}
+    except OSError as exc:
+        raise DataError(f"cannot write the results to '{folder.shown}': "
+                        f"{exc.strerror or exc}.") from None
+    files = tuple(folder.final(rel) for rel in folder.files)
+    try:
+        manifest_path = folder.commit(manifest)
+    except OSError as exc:
+        raise DataError(f"cannot write the results to '{folder.shown}': "
+                        f"{exc.strerror or exc}.") from None
+    return StudyResult(folder=folder.shown, files=(*files, manifest_path), results=results,
+                       grade=grade, steps=tuple(steps))
+
+
+def _steps(panel: Panel, spec: StudySpec, writer: _Writer,
+           progress: Callable[[int, int], None] | None) -> tuple[dict, list, Any, list[str]]:
+    """Run every step the spec turns on; a step's data or option error makes it "not run"."""
     results: dict[str, Any] = {"spec": json_safe(spec.raw), "not_run": {}}
     sections: list[Section] = []
     steps = [name for name in STEPS if spec.analyses.get(name)]
@@ -197,23 +279,11 @@ def _run(spec: StudySpec, folder: Path,
     sections.append(writer.section(AUDIT(panel, spec)))
     if writer.not_drawn:
         results["figures_not_drawn"] = dict(writer.not_drawn)
-    files = _finish(spec, folder, writer, results, sections, started, clock)
-    return StudyResult(folder=folder, files=files, results=results, grade=grade,
-                       steps=tuple(steps))
+    return results, sections, grade, steps
 
 
-def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, Any],
-            sections: list[Section], started: datetime, clock: float) -> tuple[Path, ...]:
-    report = folder / "report.html"
-    report.write_text(render_report(spec.title, spec.claim, spec.source, sections),
-                      encoding="utf-8")
+def _write_outputs(spec: StudySpec, folder: OutputFolder, results: dict[str, Any],
+                   sections: list[Section]) -> None:
+    folder.write_text("report.html", render_report(spec.title, spec.claim, spec.source, sections))
     payload = json.dumps(json_safe(results), indent=2, sort_keys=True, allow_nan=False) + "\n"
-    (folder / "results.json").write_text(payload, encoding="utf-8")
-    manifest = {"versions": _versions(),
-                "input": {"file": spec.data_file.name, "sha256": _hash(spec.data_file)},
-                "spec": json_safe(spec.raw), "seeds": {"study": spec.seed},
-                "executor": getattr(spec.executor, "name", str(spec.executor)),
-                "started": started.isoformat(timespec="seconds"),
-                "run_seconds": round(time.perf_counter() - clock, 2)}
-    (folder / "manifest.json").write_text(json.dumps(manifest, indent=2) + "\n", encoding="utf-8")
-    return (*writer.files, report, folder / "results.json", folder / "manifest.json")
+    folder.write_text("results.json", payload)

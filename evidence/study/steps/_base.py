@@ -7,6 +7,7 @@ place and a step stays a small pure function ``(panel, spec) -> StepOutput``.
 
 from __future__ import annotations
 
+import hashlib
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -15,15 +16,19 @@ from typing import Any
 from evidence.panel import Panel
 from evidence.study.spec import StudySpec
 
-__all__ = ["Step", "StepOutput", "TableOut", "FigureOut", "data_notes", "slug"]
+__all__ = ["Step", "StepOutput", "TableOut", "FigureOut", "data_notes", "safe_name"]
 
 
 @dataclass(frozen=True)
 class TableOut:
-    """A table written as ``tables/<name>.<ext>`` in every format; ``render(fmt)`` gives its text."""
+    """A table written as ``tables/<name>.<ext>`` in every format; ``render(fmt)`` gives its text.
+
+    ``source`` is the data-derived name (a column) behind the file name, kept in the manifest.
+    """
 
     name: str
     render: Callable[[str], str]
+    source: str | None = None
 
 
 @dataclass(frozen=True)
@@ -31,13 +36,15 @@ class FigureOut:
     """A figure written as ``figures/<name>.png`` and ``.svg``; ``draw()`` makes it.
 
     ``in_report`` puts the PNG into the report section. When drawing fails on the data, the
-    reason is recorded in ``results.json`` under ``figures_not_drawn[label]``.
+    reason is recorded in ``results.json`` under ``figures_not_drawn[label]``. ``source`` is the
+    data-derived name (a unit) behind the file name, kept in the manifest.
     """
 
     name: str
     draw: Callable[[], Any]
     label: str = ""
     in_report: bool = False
+    source: str | None = None
 
 
 @dataclass(frozen=True)
@@ -65,6 +72,27 @@ def data_notes(spec: StudySpec) -> list[str]:
     return [f"Data: {source}"] if source else []
 
 
-def slug(text: str) -> str:
-    """A file-name fragment from a unit or column name."""
-    return re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower() or "unit"
+_PLAIN = re.compile(r"[a-z0-9][a-z0-9_]{0,59}")
+
+
+def safe_name(text: str) -> str:
+    """A file-name fragment for a unit or column name: never empty, never colliding.
+
+    A plain name (lower-case letters, digits and ``_``, at most 60 characters) is kept as it is;
+    any other name becomes a slug of at most 40 characters plus ``-`` and the first 8 hex digits
+    of the name's SHA-256. Plain names carry no ``-``, so they never meet a slug; two slugs meet
+    only if their hashes do. (``"A b"`` → ``a-b-…``, ``"a-B"`` → ``a-b-…`` with another hash.)
+
+    Examples
+    --------
+    >>> safe_name("ghg_territorial")
+    'ghg_territorial'
+    >>> safe_name("A b") != safe_name("a-B")
+    True
+    >>> safe_name("Ωμέγα").startswith("n-")
+    True
+    """
+    if _PLAIN.fullmatch(text):
+        return text
+    stem = re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")[:40].strip("-") or "n"
+    return f"{stem}-{hashlib.sha256(text.encode('utf-8', 'surrogatepass')).hexdigest()[:8]}"

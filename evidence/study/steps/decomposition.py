@@ -27,7 +27,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         res.to_frame("additive"), f, title=title, notes=notes))
     figures = ()
     if spec.figures:
-        effects = res.to_frame("additive").loc[["total"], list(res.factors)]
+        effects = res.to_frame("additive").loc[[res.total_row], list(res.factors)]
         figures = (FigureOut("decomposition", lambda: figs.decomposition_figure(
             effects, "Kaya effects, all units"), in_report=True),)
     return StepOutput("Decomposition", (table,), figures, results={"decomposition": res.to_dict()})

@@ -7,7 +7,7 @@ from dataclasses import replace
 from evidence.elasticity import decoupling_tests, elasticity
 from evidence.panel import Panel
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import StepOutput, TableOut, data_notes
+from evidence.study.steps._base import StepOutput, TableOut, data_notes, safe_name
 from evidence.tables import regression_table, test_table
 
 __all__ = ["run"]
@@ -24,8 +24,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
                  for t in decoupling_tests(fit)]
         results[pressure] = [f.to_dict() for f in fits]
         title = f"Elasticity of {pressure} with respect to {spec.activity}"
-        tables.append(TableOut(f"elasticity_{pressure}", lambda f, fs=fits, t=title:
-                               regression_table(fs, f, title=t, notes=notes)))
-        tables.append(TableOut(f"elasticity_tests_{pressure}", lambda f, ts=tests: test_table(
-            ts, f, title="One-sided decoupling tests")))
+        tables.append(TableOut(f"elasticity_{safe_name(pressure)}", lambda f, fs=fits, t=title:
+                               regression_table(fs, f, title=t, notes=notes), pressure))
+        tables.append(TableOut(f"elasticity_tests_{safe_name(pressure)}", lambda f, ts=tests: test_table(
+            ts, f, title="One-sided decoupling tests"), pressure))
     return StepOutput("Elasticities", tuple(tables), results={"elasticity": results})

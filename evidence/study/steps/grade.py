@@ -9,7 +9,7 @@ from evidence.grading import Criteria, GradeResult, grade
 from evidence.panel import Panel, derived_name
 from evidence.study import figures as figs
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, slug
+from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, safe_name
 from evidence.tables import grade_table
 
 __all__ = ["run", "criteria"]
@@ -48,16 +48,16 @@ def _unit_figures(panel: Panel, spec: StudySpec, res: GradeResult) -> tuple[Figu
         breaks = {p: records[(unit, p)].get("break_years") or []
                   for p in pressures if (unit, p) in records}
         out.append(FigureOut(
-            f"indexed_{slug(unit)}", lambda u=unit, b=breaks: figs.indexed_figure(
-                panel, u, spec.activity, shown, window, b), in_report=number < SHOWN))
-        out.append(FigureOut(f"intensity_{slug(unit)}",
+            f"indexed_{safe_name(unit)}", lambda u=unit, b=breaks: figs.indexed_figure(
+                panel, u, spec.activity, shown, window, b), in_report=number < SHOWN, source=unit))
+        out.append(FigureOut(f"intensity_{safe_name(unit)}",
                              lambda u=unit: _intensity_figure(panel, u, pressures[0], spec, window),
-                             label=f"intensity {unit}"))
+                             label=f"intensity {unit}", source=unit))
         rec = records.get((unit, pressures[0]))
         if rec is not None:
-            out.append(FigureOut(f"subwindows_{slug(unit)}", lambda u=unit, r=rec: figs.heatmap_figure(
+            out.append(FigureOut(f"subwindows_{safe_name(unit)}", lambda u=unit, r=rec: figs.heatmap_figure(
                 r["subwindow_matrix"], list(range(window[0], window[1] + 1)),
-                f"{u}: sub-windows where the {r['claim_tested']} claim holds")))
+                f"{u}: sub-windows where the {r['claim_tested']} claim holds"), source=unit))
     return tuple(out)
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from evidence.panel import Panel, derived_name
 from evidence.roots import root_battery
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import StepOutput, TableOut, data_notes
+from evidence.study.steps._base import StepOutput, TableOut, data_notes, safe_name
 from evidence.tables import render_frame
 
 __all__ = ["run"]
@@ -22,7 +22,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
                            tests=tuple(spec.analyses["roots"]))
         results[column] = res.to_dict()
         title = f"Unit-root battery, log {column} (p-values; decision at 5 %)"
-        tables.append(TableOut(f"roots_{column}", lambda f, r=res, t=title: render_frame(
+        tables.append(TableOut(f"roots_{safe_name(column)}", lambda f, r=res, t=title: render_frame(
             r.to_frame() if f in ("csv", "json") else r.decision_table(), f, title=t,
-            index=False, notes=notes)))
+            index=False, notes=notes), column))
     return StepOutput("Unit roots", tuple(tables), results={"roots": results})
