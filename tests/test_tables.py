@@ -230,3 +230,25 @@ def test_ekc_table_headers_are_words():
     text = ekc_table(curve, labels={"gdp": "GDP"})
     assert "Turning point, ln GDP" in text and "Fieller 95% interval" in text
     assert "Lind & Mehlum (2010)" in text and "std_error" not in text and "inside_range" not in text
+
+
+def test_study_labels_reach_the_tables(tmp_path):
+    from evidence.study.spec import parse_spec
+    from evidence.study.steps import rates as rates_step
+
+    text = """
+[data]
+file = "panel.csv"
+[roles]
+activity = "gdp"
+[[pressures]]
+column = "ghg_territorial"
+[output]
+labels = {gdp = "GDP", ghg_territorial = "GHG (territorial)"}
+"""
+    spec = parse_spec(text, base=tmp_path)
+    assert spec.labels == {"gdp": "GDP", "ghg_territorial": "GHG (territorial)"}
+    out = rates_step.run(ev.demo_panel(), spec).tables[0].render("markdown")
+    assert "GHG (territorial) against GDP" in out and "ghg_territorial" not in out
+    with pytest.raises(ev.SpecError, match="labels"):
+        parse_spec(text.replace('gdp = "GDP"', 'gdp = 3'), base=tmp_path)

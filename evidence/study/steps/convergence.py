@@ -26,23 +26,26 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         beta = beta_convergence(work, column, window=spec.window)
         results["beta_convergence"] = beta.to_dict()
         tables.append(TableOut("beta_convergence", lambda f: beta_table(
-            beta, f, title=f"Beta convergence of {column}")))
+            beta, f, title=f"Beta convergence of {column}", labels=spec.labels)))
     if "sigma" in chosen:
         sigma = sigma_convergence(work, column, window=spec.window)
         results["sigma_convergence"] = sigma.to_dict()
         tables.append(TableOut("sigma_convergence", lambda f: test_table(
-            [sigma.trend_test, *sigma.first_last_tests], f, title="Sigma convergence")))
+            [sigma.trend_test, *sigma.first_last_tests], f, title="Sigma convergence",
+            labels=spec.labels)))
     if "stochastic" in chosen:
         stoch = stochastic_convergence(work, column, window=spec.window)
         results["stochastic_convergence"] = stoch.to_dict()
         tables.append(TableOut("stochastic_convergence", lambda f: render_frame(
-            stoch.table, f, index=False, title=f"Stochastic convergence of {column}")))
+            stoch.table, f, index=False, title=f"Stochastic convergence of {column}",
+            labels=spec.labels)))
     if "clubs" in chosen:
         clubs = club_convergence(work, column, window=spec.window)
         results["clubs"] = clubs.to_dict()
         tables.append(TableOut("clubs", lambda f: render_frame(
             clubs.membership().reset_index(), f, index=False,
-            title=f"Phillips-Sul clubs (overall log t {clubs.overall.statistic:.3f})")))
+            title=f"Phillips-Sul clubs (overall log t {clubs.overall.statistic:.3f})",
+            labels=spec.labels)))
         if spec.figures:
             figures.append(FigureOut("club_transitions", clubs.plot, in_report=True))
     return StepOutput("Convergence", tuple(tables), tuple(figures), results=results)

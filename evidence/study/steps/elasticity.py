@@ -25,7 +25,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         results[pressure] = [f.to_dict() for f in fits]
         title = f"Elasticity of {pressure} with respect to {spec.activity}"
         tables.append(TableOut(f"elasticity_{safe_name(pressure)}", lambda f, fs=fits, t=title:
-                               regression_table(fs, f, title=t, notes=notes), pressure))
+                               regression_table(fs, f, title=t, notes=notes,
+                                                labels=spec.labels), pressure))
         tables.append(TableOut(f"elasticity_tests_{safe_name(pressure)}", lambda f, ts=tests: test_table(
-            ts, f, title="One-sided decoupling tests"), pressure))
+            ts, f, title="One-sided decoupling tests", labels=spec.labels), pressure))
     return StepOutput("Elasticities", tuple(tables), results={"elasticity": results})
