@@ -252,3 +252,8 @@ labels = {gdp = "GDP", ghg_territorial = "GHG (territorial)"}
     assert "GHG (territorial) against GDP" in out and "ghg_territorial" not in out
     with pytest.raises(ev.SpecError, match="labels"):
         parse_spec(text.replace('gdp = "GDP"', 'gdp = 3'), base=tmp_path)
+
+
+def test_caution_passed_as_a_note_stays_once_and_last():
+    out = render_frame(pd.DataFrame({"a": [1.0]}), notes=[CAUTION, "other"])
+    assert out.count("not a policy verdict") == 1 and out.rstrip().endswith("publish.")

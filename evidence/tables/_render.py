@@ -78,7 +78,9 @@ def check_label(label: Any) -> str | None:
 
 
 def finish_notes(notes: Sequence[str], caution: bool, labels: Mapping[str, str]) -> list[str]:
-    """Notes relabelled, each once, in order; the caution last when asked for."""
+    """Notes relabelled, each once, in order; the caution last when asked for (or when a caller
+    passed it among the notes)."""
+    caution = caution or any(note == CAUTION for note in notes)
     out: list[str] = []
     for note in notes:
         text = relabel(str(note), labels)
