@@ -20,10 +20,12 @@ import pandas as pd
 from evidence import _grading_axes as axes
 from evidence._json import json_safe
 from evidence._typing import Window
-from evidence._validation import check_choice, check_columns, check_window, format_years
+from evidence._validation import (adjust_pvalues, check_choice, check_columns, check_window,
+                                  format_years)
 from evidence.errors import DataError, SpecError
-from evidence.indicators import _default_window, budget_rate, tapio_class
+from evidence.indicators import budget_rate, common_window, tapio_class
 from evidence.panel import Panel
+from evidence.results import ResultProtocol
 
 __all__ = ["RUNGS", "FLAGS", "Criteria", "GradeResult", "grade"]
 
@@ -78,17 +80,21 @@ class Criteria:
             object.__setattr__(self, "budgets", dict(self.budgets))
 
 
-@dataclass(frozen=True, eq=False)
-class GradeResult:
-    """One row per unit × pressure (``table``) and the evidence behind each (``records``)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class GradeResult(ResultProtocol):
+    """One row per unit × pressure (``table``) and the evidence behind each (``records``, keyed
+    by ``(unit, pressure)``)."""
 
     table: pd.DataFrame
-    records: Mapping[str, Any]
+    records: Mapping[tuple[str, str], Any]
     criteria: Criteria
     window: Window
     excluded: pd.DataFrame
     audit: pd.DataFrame
-    details: dict[str, Any] = field(default_factory=dict)
+    details: Mapping[str, Any] = field(default_factory=dict)
+    warnings: tuple[str, ...] = ()
+
+    _repr_fields = ("window",)
 
     def to_frame(self) -> pd.DataFrame:
         """The grade table (a copy)."""
@@ -101,23 +107,17 @@ class GradeResult:
             counts = rows["rung"].value_counts()
             lines.append(f"  {pressure} ({rows['basis'].iloc[0]}, {rows['window'].iloc[0]}): " + ", ".join(
                 f"{r} {int(counts[r])}" for r in RUNGS if r in counts))
-        lines += [f"  excluded: {r.unit} / {r.pressure} ({r.reason})"
+        lines += [f"  excluded: {r.unit} / {r.column} {r.years} ({r.reason})"
                   for r in self.excluded.itertuples()]
+        lines += [f"  warning: {w}" for w in self.warnings]
         return "\n".join(lines)
 
     def to_dict(self) -> dict[str, Any]:
-        """JSON-safe contents (table, records, criteria)."""
-        return json_safe({"table": self.table, "records": dict(self.records),
+        """JSON-safe contents (table, records as a list, criteria, window, excluded, details)."""
+        return json_safe({"table": self.table, "records": list(self.records.values()),
                           "criteria": asdict(self.criteria), "window": list(self.window),
-                          "excluded": self.excluded, "details": self.details})
-
-
-def _adjust(pvalues: np.ndarray, method: str) -> np.ndarray:
-    if method == "none" or pvalues.size == 0:
-        return pvalues.copy()
-    from statsmodels.stats.multitest import multipletests
-
-    return multipletests(pvalues, method="fdr_bh" if method == "bh" else "holm")[1]
+                          "excluded": self.excluded, "details": dict(self.details),
+                          "warnings": list(self.warnings)})
 
 
 def _latest_break(log_p: np.ndarray, years: np.ndarray, crit: Criteria) -> dict[str, Any]:
@@ -207,20 +207,40 @@ def _rung(rec: dict[str, Any], crit: Criteria) -> tuple[str, list[str]]:
     return rung, flags
 
 
-def _series_block(panel: Panel, unit: str, pressure: str, activity: str, start: int,
-                  end: int) -> tuple[np.ndarray, np.ndarray, np.ndarray] | str:
-    both = pd.DataFrame({"p": panel.series(unit, pressure), "a": panel.series(unit, activity)})
-    both = both.reindex(range(start, end + 1))
-    if both.isna().any().any():
-        return f"no value in {format_years(both.index[both.isna().any(axis=1)])}"
-    if (both <= 0).any().any():
-        return "non-positive values (logs needed)"
-    return np.log(both["p"].to_numpy()), np.log(both["a"].to_numpy()), both.index.to_numpy()
+def _blocks(panel: Panel, pressure: str, activity: str, start: int, end: int,
+            excluded: list[dict[str, Any]]) -> dict[str, tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    """Log pressure, log activity and years per unit with complete data in ``start:end``."""
+    try:
+        arr = panel.arrays([pressure, activity], window=(start, end), span="own", gaps="exclude",
+                           short="exclude", constant="exclude", purpose="the grade")
+    except DataError as exc:
+        excluded.extend({"unit": unit, "column": f"{pressure}, {activity}",
+                         "years": f"{start}-{end}", "reason": f"unit excluded: {exc}"}
+                        for unit in panel.units)
+        return {}
+    excluded.extend(arr.excluded.to_dict(orient="records"))
+    out = {}
+    for i, unit in enumerate(arr.units):
+        series = arr.values[arr.first[i]:arr.last[i] + 1, i, :]
+        years = arr.years[arr.first[i]:arr.last[i] + 1]
+        if years[0] != start or years[-1] != end:
+            missing = [y for y in range(start, end + 1) if y < years[0] or y > years[-1]]
+            excluded.append({"unit": unit, "column": f"{pressure}, {activity}",
+                             "years": format_years(missing),
+                             "reason": f"unit excluded: no value in {format_years(missing)}"})
+            continue
+        if (series <= 0).any():
+            excluded.append({"unit": unit, "column": f"{pressure}, {activity}",
+                             "years": format_years(years[(series <= 0).any(axis=1)]),
+                             "reason": "unit excluded: non-positive values (logs needed)"})
+            continue
+        out[unit] = (np.log(series[:, 0]), np.log(series[:, 1]), years)
+    return out
 
 
 def grade(panel: Panel, pressures: Sequence[str], activity: str, *,
           window: Window | str | None = None, criteria: Criteria | None = None,
-          consumption: Mapping[str, str] | None = None, breaks: bool = True) -> GradeResult:
+          consumption: Mapping[str, str] | None = None, latest_break: bool = True) -> GradeResult:
     """Grade the evidence of decoupling of each pressure from ``activity``, unit by unit.
 
     Parameters
@@ -237,7 +257,7 @@ def grade(panel: Panel, pressures: Sequence[str], activity: str, *,
     consumption : mapping, optional
         ``{territorial column: consumption column}``: the same claim is checked on the
         consumption basis over the years both exist; ``basis-gap`` flags a difference.
-    breaks : bool
+    latest_break : bool
         Run the break search for the latest trend break (slower on large panels).
 
     Notes
@@ -259,15 +279,11 @@ def grade(panel: Panel, pressures: Sequence[str], activity: str, *,
     fixed = check_window(window, panel.years) if window is not None else None
     rows, records, excluded, windows = [], {}, [], {}
     for pressure in pressures:
-        start, end = fixed or _default_window(panel, (pressure, activity))
+        start, end = fixed or common_window(panel, (pressure, activity))
         windows[pressure] = (start, end)
         unit_recs = []
-        for unit in panel.units:
-            block = _series_block(panel, unit, pressure, activity, start, end)
-            if isinstance(block, str):
-                excluded.append({"unit": unit, "pressure": pressure, "reason": block})
-                continue
-            rec = _unit_axes(*block, crit, breaks)
+        for unit, block in _blocks(panel, pressure, activity, start, end, excluded).items():
+            rec = _unit_axes(*block, crit, latest_break)
             rec.update(unit=unit, pressure=pressure, years=int(block[2].size),
                        basis=panel.basis(pressure) or "not stated")
             required = _required_change(unit, float(np.exp(block[0][-1])), crit)
@@ -280,7 +296,7 @@ def grade(panel: Panel, pressures: Sequence[str], activity: str, *,
         if not unit_recs:
             continue
         for key in ("p_absolute", "p_relative"):
-            adjusted = _adjust(np.array([r[key] for r in unit_recs]), crit.adjust)
+            adjusted = adjust_pvalues([r[key] for r in unit_recs], crit.adjust)
             for r, p in zip(unit_recs, adjusted):
                 r[f"{key}_adj"] = float(p)
         for rec in unit_recs:
@@ -289,15 +305,14 @@ def grade(panel: Panel, pressures: Sequence[str], activity: str, *,
             if rec.get("basis_gap"):
                 flags.insert(0, "basis-gap")
             rec["rung"], rec["flags"] = rung, flags
-            records[f"{rec['unit']}|{pressure}"] = rec
+            records[(rec["unit"], pressure)] = rec
             rows.append(_row(rec, start, end))
     if not rows:
         raise DataError("no unit has complete data for the pressures in the window.")
     table = pd.DataFrame(rows)
     first = windows[pressures[0]]
     return GradeResult(table=table, records=records, criteria=crit, window=first,
-                       excluded=pd.DataFrame(excluded, columns=["unit", "pressure", "reason"]),
-                       audit=panel.audit, details={"activity": activity,
+                       excluded=excluded, audit=panel.audit, details={"activity": activity,
                                                    "consumption": dict(consumption or {}),
                                                    "windows": {k: list(v) for k, v in windows.items()}})
 
@@ -312,11 +327,13 @@ def _basis_check(panel: Panel, rec: dict[str, Any], consumption: Mapping[str, st
     if series.size < crit.min_window:
         rec["consumption_direction"] = "too few years"
         return
-    block = _series_block(panel, rec["unit"], other, activity, int(series.index[0]),
-                          int(series.index[-1]))
-    if isinstance(block, str):
-        rec["consumption_direction"] = block
+    sink: list[dict[str, Any]] = []
+    blocks = _blocks(panel.select([rec["unit"]]), other, activity, int(series.index[0]),
+                     int(series.index[-1]), sink)
+    if rec["unit"] not in blocks:
+        rec["consumption_direction"] = sink[-1]["reason"] if sink else "no complete span"
         return
+    block = blocks[rec["unit"]]
     res = axes.trend_tests(*block)
     direction = ("absolute" if res["p_absolute"] < crit.alpha and res["activity_trend"] > 0 else
                  "relative" if res["p_relative"] < crit.alpha else "none")

@@ -18,6 +18,7 @@ neweywest1987 : Newey, W. K. & West, K. D. (1987). A simple, positive semi-defin
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -25,14 +26,15 @@ import numpy as np
 import pandas as pd
 from scipy import stats
 
-from evidence._json import json_safe
+from evidence._hac import long_run_cov, newey_west_lags
 from evidence._typing import Window
-from evidence._validation import check_window, format_years
+from evidence._validation import check_int, check_window, format_years
 from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
+from evidence.results import ResultProtocol, excluded_frame
 
 __all__ = ["TAPIO_CLASSES", "tapio_class", "decoupling_factor", "trend_growth",
-           "trend_growth_batch", "newey_west_lags",
+           "trend_growth_batch", "common_window",
            "rates", "RatesResult", "required_rate", "budget_rate", "BudgetResult"]
 
 #: The eight Tapio (2005) classes: (activity grows?, elasticity band) -> label.
@@ -89,22 +91,16 @@ def decoupling_factor(pressure_start: Any, pressure_end: Any, activity_start: An
     return 1.0 - ratio
 
 
-def newey_west_lags(nobs: int) -> int:
-    """Bandwidth rule ``floor(4 (T/100)^(2/9))`` (Newey & West 1994), at least 1 when T > 2."""
-    return max(int(math.floor(4.0 * (nobs / 100.0) ** (2.0 / 9.0))), 1 if nobs > 2 else 0)
-
-
 def trend_growth_batch(log_values: np.ndarray, years: np.ndarray, *,
                        hac_lags: int | None = None) -> tuple[np.ndarray, np.ndarray, int]:
     """Trend slopes and Newey–West standard errors of many series observed in the same years.
 
     ``log_values`` is ``(T, N)``: one column per series. For each column, OLS of the values on a
     constant and the year; the slope's variance is the ``[1, 1]`` element of
-    ``n/(n-2) (X'X)^-1 S (X'X)^-1`` with
-    ``S = sum_t u_t u_t' + sum_{l=1}^{L} (1 - l/(L+1)) sum_t (u_t u_{t-l}' + u_{t-l} u_t')`` and
-    ``u_t = x_t e_t`` (Bartlett kernel; ``n/(n-2)`` is the small-sample correction). With the year
-    centred, ``X'X`` is diagonal and the slope's variance reduces to
-    ``n/(n-2) S_11 / (sum_t (t - tbar)^2)^2``. This equals statsmodels
+    ``n/(n-2) (X'X)^-1 S (X'X)^-1`` with ``S = T Ω`` and ``Ω`` the Bartlett long-run covariance of
+    ``u_t = x_t e_t`` with ``hac_lags`` lags (:func:`evidence._hac.long_run_cov`; ``n/(n-2)`` is
+    the small-sample correction). With the year centred, ``X'X`` is diagonal and the slope's
+    variance reduces to ``n/(n-2) S_11 / (sum_t (t - tbar)^2)^2``. This equals statsmodels
     ``OLS(...).fit(cov_type="HAC", cov_kwds={"maxlags": L, "use_correction": True})``.
     Returns ``(slopes, std_errors, lags)``.
     """
@@ -118,11 +114,10 @@ def trend_growth_batch(log_values: np.ndarray, years: np.ndarray, *,
     sxx = float(x @ x)
     slopes = (x @ y) / sxx
     resid = y - y.mean(axis=0) - np.outer(x, slopes)
-    v = x[:, None] * resid
-    s11 = np.einsum("ti,ti->i", v, v)
-    for lag in range(1, min(lags, n - 1) + 1):
-        s11 += 2.0 * (1.0 - lag / (lags + 1.0)) * np.einsum("ti,ti->i", v[lag:], v[:-lag])
-    var = s11 / sxx**2 * n / (n - 2)
+    v = (x[:, None] * resid).T[:, :, None]  # (N, T, 1): one batch per series
+    s11 = n * long_run_cov(v, lags).long_run[:, 0, 0]
+    # two points leave no residual degrees of freedom: the error is undefined, not infinite
+    var = s11 / sxx**2 * n / (n - 2) if n > 2 else np.full_like(s11, np.nan)
     return slopes, np.sqrt(var), lags
 
 
@@ -135,12 +130,13 @@ def trend_growth(log_values: np.ndarray, years: np.ndarray, *,
     return float(slopes[0]), float(ses[0]), lags
 
 
-@dataclass(frozen=True, eq=False)
-class RatesResult:
+@dataclass(frozen=True, eq=False, repr=False)
+class RatesResult(ResultProtocol):
     """Per-unit decoupling indicators over one window.
 
     ``table`` has one row per unit (columns documented in ``docs/methods/indicators.md``);
-    ``excluded`` lists units left out and why; ``window`` is inclusive.
+    ``excluded`` lists units left out and why (unit, column, years, reason); ``window`` is
+    inclusive.
     """
 
     table: pd.DataFrame
@@ -152,7 +148,9 @@ class RatesResult:
     audit: pd.DataFrame
     warnings: tuple[str, ...] = ()
     reference: str = "tapio2005; oecd2002; neweywest1987"
-    details: dict[str, Any] = field(default_factory=dict)
+    details: Mapping[str, Any] = field(default_factory=dict)
+
+    _repr_fields = ("pressure", "activity", "window")
 
     def to_frame(self) -> pd.DataFrame:
         """The per-unit table (a copy)."""
@@ -168,24 +166,25 @@ class RatesResult:
         lines += [f"  warning: {w}" for w in self.warnings]
         return "\n".join(lines)
 
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-safe contents."""
-        return json_safe({"pressure": self.pressure, "activity": self.activity,
-                          "window": list(self.window), "hac_lags": self.hac_lags,
-                          "table": self.table, "excluded": self.excluded, "audit": self.audit,
-                          "warnings": list(self.warnings), "reference": self.reference,
-                          "details": self.details})
 
+def common_window(panel: Panel, columns: tuple[str, ...] | list[str]) -> Window:
+    """The longest span of years in which every unit that has the columns together has them.
 
-def _default_window(panel: Panel, columns: tuple[str, str]) -> Window:
-    frame = panel.frame[list(columns)].dropna()
+    The first year is the latest first year, the end the earliest last year, over the units with
+    at least one year in which all ``columns`` are present (years inside a unit's span that lack a
+    value do not shorten the span; the methods that use the window list those units as excluded).
+    Raises :class:`DataError` when the columns never meet or the span is empty.
+    """
+    cols = list(columns)
+    frame = panel.frame[cols].dropna()
     if frame.empty:
-        raise DataError(f"columns '{columns[0]}' and '{columns[1]}' never have data in the same year.")
+        raise DataError(f"columns {', '.join(repr(c) for c in cols)} never have data in the same "
+                        "year.")
     years = pd.Series(frame.index.get_level_values(1), index=frame.index.get_level_values(0))
     start, end = int(years.groupby(level=0).min().max()), int(years.groupby(level=0).max().min())
     if start >= end:
-        raise DataError(f"the units share no common span of years with both '{columns[0]}' and "
-                        f"'{columns[1]}'; pass window=(start, end) explicitly.")
+        raise DataError(f"the units share no common span of years with all of "
+                        f"{', '.join(repr(c) for c in cols)}; pass window=(start, end) explicitly.")
     return start, end
 
 
@@ -219,11 +218,9 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
     The trend elasticity is ``g_P / g_A``.
     """
     panel.require(pressure, activity)
-    if hac_lags is not None and (isinstance(hac_lags, bool) or not isinstance(hac_lags, int)
-                                 or hac_lags < 0):
-        raise SpecError(f"hac_lags={hac_lags!r} must be a non-negative integer or None.")
+    hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
     start, end = (check_window(window, panel.years) if window is not None
-                  else _default_window(panel, (pressure, activity)))
+                  else common_window(panel, (pressure, activity)))
     if end - start + 1 < 3:
         raise SpecError(f"window=({start}, {end}) has {end - start + 1} years; trend growth with a "
                         "standard error needs at least 3.")
@@ -232,7 +229,9 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
     wide_a = panel.wide(activity).reindex(expected)
     wide_p, wide_a = wide_p.reindex(columns=list(panel.units)), wide_a.reindex(columns=list(panel.units))
     lacking = (wide_p.isna() | wide_a.isna()).to_numpy()
-    excluded = [{"unit": unit, "reason": f"no value in {format_years(expected[lacking[:, j]])}"}
+    excluded = [{"unit": unit, "column": f"{pressure}, {activity}",
+                 "years": format_years(expected[lacking[:, j]]),
+                 "reason": f"unit excluded: no value in {format_years(expected[lacking[:, j]])}"}
                 for j, unit in enumerate(panel.units) if lacking[:, j].any()]
     keep = [unit for j, unit in enumerate(panel.units) if not lacking[:, j].any()]
     for column, wide in ((pressure, wide_p), (activity, wide_a)):
@@ -248,7 +247,6 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
                         f"{start}:{end}; choose another window.")
     table = rows.set_index("unit")
     table.index.name = panel.unit_name
-    excluded_frame = pd.DataFrame(excluded, columns=["unit", "reason"])
     warnings = []
     if end - start + 1 < 30:
         warnings.append(f"short window: T={end - start + 1} years (< 30); trend standard errors "
@@ -256,7 +254,7 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
     if len(excluded):
         warnings.append(f"{len(excluded)} unit(s) excluded for missing values; see 'excluded'.")
     return RatesResult(table=table, pressure=pressure, activity=activity, window=(start, end),
-                       hac_lags=hac_lags, excluded=excluded_frame, audit=panel.audit,
+                       hac_lags=hac_lags, excluded=excluded_frame(excluded), audit=panel.audit,
                        warnings=tuple(warnings),
                        details={"years": end - start + 1,
                                 "basis": panel.basis(pressure) or "not stated"})
@@ -309,8 +307,8 @@ def required_rate(activity_growth: Any, pressure_change: Any) -> Any:
     return float(d) if d.ndim == 0 else d
 
 
-@dataclass(frozen=True)
-class BudgetResult:
+@dataclass(frozen=True, repr=False)
+class BudgetResult(ResultProtocol):
     """What a cumulative budget implies for the annual rate of decline; see :func:`budget_rate`."""
 
     current: float
@@ -323,9 +321,7 @@ class BudgetResult:
     required_to_observed: float | None
     base_year: int | None
 
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-safe contents."""
-        return json_safe(self.__dict__)
+    _repr_fields = ("current", "budget", "required_rate")
 
     def summary(self) -> str:
         """The budget arithmetic in words."""

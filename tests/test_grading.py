@@ -96,7 +96,7 @@ def test_short_window_flag_and_adjustment():
 
 def test_demo_truth_recovered_for_every_planted_class():
     panel, truth = ev.demo_panel(), ev.demo_truth()["regions"]  # planted by the generator
-    full = grade(panel, ["ghg_territorial"], "gdp", breaks=False).table.set_index("unit")
+    full = grade(panel, ["ghg_territorial"], "gdp", latest_break=False).table.set_index("unit")
     for unit, info in truth.items():
         if info["type"] == "relative":
             assert full.loc[unit, "rung"] == "relative", unit
@@ -136,7 +136,7 @@ def test_bootstrap_interval_equals_arch():
 
     units = {"sustained": _known_units()["sustained"]}
     panel = ev.load_panel(_frame(units))
-    res = grade(panel, ["ghg"], "gdp", breaks=False,
+    res = grade(panel, ["ghg"], "gdp", latest_break=False,
                 criteria=Criteria(interval="bootstrap", bootstrap_reps=199, seed=7))
     row = res.table.iloc[0]
     log_p = np.log(panel.series("sustained", "ghg").to_numpy())
@@ -156,7 +156,16 @@ def test_bootstrap_interval_equals_arch():
 def test_string_pressure_and_exclusions_listed_in_table():
     frame = _frame(_known_units())
     frame.loc[(frame.unit == "coupled") & (frame.year == 2000), "ghg"] = np.nan
-    res = grade(ev.load_panel(frame), "ghg", "gdp", breaks=False)
+    res = grade(ev.load_panel(frame), "ghg", "gdp", latest_break=False)
     assert set(res.table["unit"]) == {"sustained", "relative", "recession_only"}
     assert "duration" in res.table and res.table.set_index("unit").loc["sustained", "duration"] == "sustained"
-    assert "Excluded: coupled / ghg (no value in 2000)" in grade_table(res)
+    assert "Excluded: coupled / ghg, gdp 1991-2020 (unit excluded: no complete data in 2000" in grade_table(res)
+
+
+def test_grade_result_protocol_and_tuple_records():
+    panel = ev.load_panel(_frame(_known_units()))
+    res = grade(panel, ["ghg"], "gdp", latest_break=False)
+    assert ("sustained", "ghg") in res.records
+    assert repr(res).startswith("GradeResult(") and str(res) == res.summary()
+    assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]
+    assert isinstance(res.to_dict()["records"], list)

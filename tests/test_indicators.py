@@ -13,7 +13,8 @@ from numpy.testing import assert_allclose
 
 import evidence as ev
 from evidence import DataError, SpecError
-from evidence.indicators import TAPIO_CLASSES, newey_west_lags, trend_growth, trend_growth_batch
+from evidence._hac import newey_west_lags
+from evidence.indicators import TAPIO_CLASSES, trend_growth, trend_growth_batch
 
 
 # --------------------------------------------------------------------------- Tapio
@@ -239,3 +240,14 @@ def test_trend_pvalue_is_nan_free_for_exact_trends():
     assert row.pressure_trend == pytest.approx(0.01)
     assert row.trend_elasticity == pytest.approx(0.5)
     assert not math.isinf(row.pressure_trend_se)
+
+
+def test_results_follow_the_result_protocol(long_frame):
+    res = ev.rates(ev.load_panel(long_frame), "co2", "gdp")
+    assert repr(res).startswith("RatesResult(") and "\n" not in repr(res)
+    assert str(res) == res.summary()
+    assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]
+    with pytest.raises(TypeError):
+        res.details["years"] = 1  # frozen details
+    budget = ev.budget_rate(current=10.0, budget=100.0)
+    assert repr(budget).startswith("BudgetResult(") and json.dumps(budget.to_dict())

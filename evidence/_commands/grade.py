@@ -46,5 +46,5 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     pressures = [p.strip() for p in pressure.split(",") if p.strip()]
     criteria = ev.Criteria(required_rate=required_rate, adjust=adjust.lower())
     result = ev.grade(panel, pressures, activity, window=window, criteria=criteria,
-                      consumption=_pairs(consumption), breaks=not no_breaks)
+                      consumption=_pairs(consumption), latest_break=not no_breaks)
     emit(grade_table(result, fmt.lower()), output)

@@ -12,7 +12,8 @@ from pathlib import Path
 import numpy as np
 import statsmodels.api as sm
 
-from evidence.indicators import newey_west_lags, trend_growth_batch
+from evidence._hac import newey_west_lags
+from evidence.indicators import trend_growth_batch
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 from _timing import best_of  # noqa: E402
