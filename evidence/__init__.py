@@ -58,6 +58,7 @@ from evidence.elasticity import (
 )
 from evidence.errors import DataError, EstimationError, EvidenceError, SpecError
 from evidence.grading import Criteria, GradeResult, grade
+from evidence.trend import trend_test
 from evidence.indicators import (
     BudgetResult,
     RatesResult,
@@ -168,6 +169,7 @@ __all__ = [
     "gamma_convergence",
     "grade",
     "grade_table",
+    "trend_test",
     "kaya",
     "lmdi",
     "load_panel",

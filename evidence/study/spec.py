@@ -29,7 +29,7 @@ SCHEMA: dict[str, dict[str, tuple[Any, bool]]] = {
                  "sustained_years": (int, False), "min_window": (int, False),
                  "short_window": (int, False), "required_rate": (float, False),
                  "budgets": (dict, False), "interval": (str, False),
-                 "bootstrap_reps": (int, False)},
+                 "reps": (int, False), "trend_test": (str, False)},
     "breaks": {"max_breaks": (int, False), "trim": (float, False)},
     "analyses": {"rates": (bool, False), "grade": (bool, False), "elasticity": (list, False),
                  "roots": (list, False), "dependence": (bool, False), "convergence": (list, False),

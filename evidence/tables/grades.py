@@ -29,47 +29,70 @@ def _break_label(result: GradeResult, unit: str, pressure: str) -> str:
         return "n/a"
     if not rec["break_years"]:
         return "none"
-    trend = "falls" if rec["latest_regime_slope"] < 0 else "rises"
+    trend = "falls" if rec["break_slope"] < 0 else "rises"
     return f"{rec['latest_break']} ({trend})"
+
+
+def _size_text(result: GradeResult) -> str:
+    size = result.details.get("size") or {}
+    if not size:
+        return "its size is not on the size card."
+    state = "within" if size.get("controlled") else "OUTSIDE"
+    return (f"Monte Carlo size at T={size['n_years']} (the card's length nearest the median span): "
+            f"{100 * size['measured']:.1f} % at 5 % nominal, worst of {size['processes']} noise "
+            f"processes ({size['process']}), {state} [3 %, 7.5 %]; see docs/methods/size.md.")
 
 
 def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] = ()) -> str:
     """The grade table; CSV and JSON carry every column at full precision."""
     crit = result.criteria
+    tests = result.details["tests"]
     extra = list(notes)
     notes = [*extra,
-        f"Direction: one-sided tests of a falling pressure trend (absolute) and a falling "
-        f"intensity trend (relative, i.e. elasticity below 1), Newey-West errors; p-values "
-        f"adjusted across units by {crit.adjust.upper() if crit.adjust != 'none' else 'no method'}"
-        f"; level {crit.alpha}.",
+        f"Direction: {tests['direction']}; level {crit.alpha}. {_size_text(result)}",
+        "Recession years (activity fell) are set apart: their changes do not count towards the "
+        "absolute claim; 'recession-driven' marks a decline significant only with them counted.",
         f"Duration: longest run of years with falling pressure and growing activity (raw / on "
-        f"Hodrick-Prescott trends, smoothing {crit.smoothing}); episode from "
-        f"{crit.episode_years}, sustained from {crit.sustained_years} years. Break years are the "
-        "last year of the old regime.",
-        f"Robustness: share of sub-windows of at least {crit.min_window} years in which the claim "
-        "holds; the claim without recession years and on filtered trends; the consumption basis.",
-        "Sufficiency: observed annual change of the pressure with its interval against the "
-        "required change (a normative choice, stated in the criteria).",
+        f"{tests['smoothing']} trends, a run broken in any year activity fell); episode from "
+        f"{crit.episode_years}, sustained from {crit.sustained_years} years, and "
+        f"'latest': {tests['latest_regime']}, one-sided p-value. Break years (Bai-Perron, "
+        "reported only, last year of the old regime) do not enter the grade.",
+        f"Robustness: share of sub-windows in which the claim holds ({tests['subwindows']}); "
+        f"basis gap: {tests['basis_gap']}, in % a year with its interval.",
+        f"Sufficiency: observed annual change of the pressure with its interval "
+        f"({tests['interval']}) against the required change (a normative choice, stated in the "
+        "criteria).",
+        "Span: each unit is graded on its own longest complete span inside the window.",
         *[f"Excluded: {r.unit} / {r.column} {r.years} ({r.reason})." for r in result.excluded.itertuples()],
+        *[f"Warning: {w}" for w in result.warnings],
         CAUTION,
     ]
     if fmt.lower() in ("csv", "json"):
         return render_frame(result.table, fmt, title="Decoupling grade", notes=notes, index=False)
     t = result.table
     shown = pd.DataFrame({
-        "unit": t["unit"], "pressure": t["pressure"], "basis": t["basis"], "window": t["window"],
+        "unit": t["unit"], "pressure": t["pressure"], "basis": t["basis"], "span": t["span"],
         "grade": t["rung"], "flags": t["flags"],
         "p abs (adj)": [format_pvalue(p) for p in t["p_absolute_adj"]],
+        "p growth": [format_pvalue(p) for p in t["p_growth"]],
         "p rel (adj)": [format_pvalue(p) for p in t["p_relative_adj"]],
         "run": [f"{a}/{b}" for a, b in zip(t["longest_run"], t["smoothed_run"])],
         "duration": t["duration"],
-        "latest break": [_break_label(result, u, pr) for u, pr in zip(t["unit"], t["pressure"])],
+        "p latest": [format_pvalue(p) for p in t["p_latest_regime"]],
+        "break": [_break_label(result, u, pr) for u, pr in zip(t["unit"], t["pressure"])],
         "sub-windows": [f"{100 * s:.0f}%" for s in t["subwindow_share"]],
-        "w/o recessions": [_yes(v) for v in t["survives_recession"]],
         "consumption": t["consumption_direction"].fillna("n/a"),
+        "gap %/yr": [_gap(g, lo, hi) for g, lo, hi in zip(t["gap_trend"], t["gap_lower"],
+                                                           t["gap_upper"])],
         "change %/yr": [_pct(v) for v in t["observed_change"]],
         "interval": [f"[{_pct(a)}, {_pct(b)}]" for a, b in zip(t["observed_change_lower"],
                                                              t["observed_change_upper"])],
         "required": [_pct(v) for v in t["required_change"]],
     })
     return render_frame(shown, fmt, title="Decoupling grade", notes=notes, index=False)
+
+
+def _gap(g: float, lo: float, hi: float) -> str:
+    if g is None or (isinstance(g, float) and math.isnan(g)):
+        return "n/a"
+    return f"{100 * g:.2f} [{100 * lo:.2f}, {100 * hi:.2f}]"
