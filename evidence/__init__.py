@@ -3,6 +3,7 @@
 The public API, re-exported; see ``docs/`` for the user guide and the methods reference.
 """
 
+from evidence._version import __version__
 from evidence.breaks import (
     BreakResult,
     CommonBreakResult,
@@ -46,7 +47,7 @@ from evidence.convergence import (
     stochastic_convergence,
 )
 from evidence.decomposition import LMDIResult, kaya, lmdi
-from evidence.demo import demo_panel, demo_truth, run_demo
+from evidence.demo import demo_panel, demo_truth
 from evidence.elasticity import (
     EKCResult,
     ElasticityPath,
@@ -58,7 +59,7 @@ from evidence.elasticity import (
 )
 from evidence.errors import DataError, EstimationError, EvidenceError, SpecError
 from evidence.grading import Criteria, GradeResult, grade
-from evidence.trend import trend_test
+from evidence.trend import TREND_TESTS, trend_test
 from evidence.indicators import (
     BudgetResult,
     RatesResult,
@@ -90,11 +91,8 @@ from evidence.roots import (
     scaled_lm_test,
     za_test,
 )
+from evidence.study import StudyResult, run_demo, run_study
 from evidence.tables import grade_table, regression_table, test_table
-
-from evidence.study import run_study  # noqa: E402  (the runner uses the names above)
-
-__version__ = "0.1.0"
 
 __all__ = [
     "JohansenResult",
@@ -152,6 +150,7 @@ __all__ = [
     "SigmaResult",
     "SpecError",
     "StochasticResult",
+    "StudyResult",
     "TestResult",
     "beta_convergence",
     "budget_rate",
@@ -170,6 +169,7 @@ __all__ = [
     "grade",
     "grade_table",
     "trend_test",
+    "TREND_TESTS",
     "kaya",
     "lmdi",
     "load_panel",

@@ -5,7 +5,8 @@ parameters that produced them (JSON, sorted keys) and written atomically. The fo
 ``$EVIDENCE_CACHE_DIR`` or ``$XDG_CACHE_HOME/evidence`` (default ``~/.cache/evidence``); set
 ``EVIDENCE_CACHE_DIR=off`` to disable caching. Entries that ship with the package (in
 ``evidence/_nulls/``, made by ``python -m evidence._make_nulls``) are read when the cache has none,
-so the common null distributions need no simulation on a new machine.
+and also when caching is off, so the common null distributions need no simulation on a new
+machine whatever the setting.
 """
 
 from __future__ import annotations
@@ -44,11 +45,9 @@ SHIPPED = Path(__file__).resolve().parent / "_nulls"
 def load_cached(name: str, params: Mapping[str, Any]) -> dict[str, np.ndarray] | None:
     """The arrays stored for ``(name, params)`` (user cache, then shipped), or ``None``."""
     folder = cache_dir()
-    if folder is None:
-        return None
     key = f"{cache_key(name, params)}.npz"
-    path = folder / key
-    if not path.exists():
+    path = SHIPPED / key if folder is None else folder / key
+    if not path.exists():  # the shipped tables are read whatever the cache setting
         path = SHIPPED / key
     if not path.exists():
         return None

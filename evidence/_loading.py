@@ -15,6 +15,7 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from evidence._files import check_excel, check_source
 from evidence._validation import check_columns, format_years, suggest
 from evidence.errors import DataError
 
@@ -23,6 +24,8 @@ __all__ = ["MISSING_MARKERS", "AUDIT_COLUMNS", "read_table", "to_long", "parse_v
 #: Cell texts read as "missing" (and listed in the audit) rather than rejected as non-numeric.
 MISSING_MARKERS: tuple[str, ...] = ("", "NA", "N/A", "n/a", "na", "NaN", "nan", "..", ".", "-", "null")
 AUDIT_COLUMNS = ["unit", "column", "years", "count", "reason"]
+#: Bytes of CSV converted at a time by the typed reader (bounds its memory).
+_BLOCK_BYTES = 1 << 24
 _YEAR_LABEL = re.compile(r"^\s*\d{4}\s*$")
 _READERS = {".csv": "csv", ".txt": "csv", ".tsv": "tsv", ".parquet": "parquet", ".pq": "parquet",
             ".xlsx": "excel", ".xlsm": "excel", ".xls": "excel"}
@@ -35,11 +38,7 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
     if not isinstance(source, (str, Path)):
         raise DataError(f"cannot read a panel from a {type(source).__name__}; pass a file path "
                         "(CSV, Parquet, Excel) or a pandas DataFrame.")
-    path = Path(source)
-    if not path.exists():
-        raise DataError(f"file '{path}' does not exist.")
-    if path.is_dir():
-        raise DataError(f"'{path}' is a folder; pass a CSV, Parquet or Excel file.")
+    path = check_source(source)  # a regular file within the size limit
     kind = _READERS.get(path.suffix.lower())
     if kind is None:
         allowed = ", ".join(sorted(_READERS))
@@ -47,15 +46,17 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
     try:
         if kind in ("csv", "tsv"):
             sep = "\t" if kind == "tsv" else ","
-            frame = pd.read_csv(path, dtype=str, keep_default_na=False, sep=sep,
-                                skipinitialspace=True)
             header = _csv_header(path, sep)
+            frame = _read_csv_typed(path, sep, header)
+            if frame is None:
+                frame = pd.read_csv(path, dtype=str, keep_default_na=False, sep=sep,
+                                    skipinitialspace=True, encoding="utf-8-sig")
             if len(header) == frame.shape[1]:
                 frame.columns = header
         elif kind == "parquet":
             frame = pd.read_parquet(path)
         else:
-            frame = pd.read_excel(path, sheet_name=0 if sheet is None else sheet, dtype=object)
+            frame = _read_excel(path, sheet)
     except ImportError as exc:
         extra = "parquet" if kind == "parquet" else "excel"
         raise DataError(f"reading '{path.name}' needs an optional library ({exc.name}); install it "
@@ -68,12 +69,93 @@ def read_table(source: Any, *, sheet: str | int | None = None) -> tuple[pd.DataF
     return frame, str(path)
 
 
+def _read_excel(path: Path, sheet: str | int | None) -> pd.DataFrame:
+    """A workbook read safely: checked first (no DTD or entities, no zip bomb); any failure of
+    the Excel reader on a damaged file is a :class:`DataError`."""
+    if path.suffix.lower() != ".xls":
+        check_excel(path)
+    try:
+        return pd.read_excel(path, sheet_name=0 if sheet is None else sheet, dtype=object)
+    except (ImportError, DataError):
+        raise
+    except Exception as exc:  # noqa: BLE001 - a damaged workbook can fail anywhere in the reader
+        first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
+        raise DataError(f"file '{path}' could not be read as Excel: {first}") from None
+
+
 def _csv_header(path: Path, sep: str) -> list[str]:
     """The header cells as written (pandas renames duplicated names, which must be caught)."""
     import csv
 
-    with path.open(newline="", encoding="utf-8") as handle:
+    with path.open(newline="", encoding="utf-8-sig") as handle:
         return next(csv.reader(handle, delimiter=sep, skipinitialspace=True), [])
+
+
+def _read_csv_typed(path: Path, sep: str, header: list[str]) -> pd.DataFrame | None:
+    """Read a CSV with pyarrow's streaming reader: numbers typed, every other cell as text.
+
+    Only the missing markers become missing; a column that is not wholly numeric comes back as
+    text (a categorical: each distinct text made once) and is checked cell by cell later, exactly
+    as on the plain path. Blocks are converted as they are read, so memory stays near the size of
+    the result. Returns ``None`` when pyarrow is not installed or the typed read fails (a column
+    that turns out not to be numeric after its first block, say): the plain pandas reader then
+    takes over and reports what is wrong.
+    """
+    try:
+        import pyarrow as pa
+        from pyarrow import csv as pacsv
+    except ImportError:
+        return None
+    if not header or len(set(header)) != len(header):
+        return None  # duplicated names: the plain path reports them
+    try:
+        reader = pacsv.open_csv(
+            path,
+            read_options=pacsv.ReadOptions(column_names=header, skip_rows=1, block_size=_BLOCK_BYTES),
+            parse_options=pacsv.ParseOptions(delimiter=sep),
+            convert_options=pacsv.ConvertOptions(null_values=list(MISSING_MARKERS),
+                                                 strings_can_be_null=False,
+                                                 quoted_strings_can_be_null=False))
+        pieces: dict[str, list[np.ndarray]] = {name: [] for name in header}
+        dictionaries: dict[str, dict[str, int]] = {}
+        for batch in reader:
+            for name, column in zip(header, batch.columns):
+                pieces[name].append(_arrow_piece(column, name, dictionaries, pa))
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError, OSError, UnicodeDecodeError, _NotTyped):
+        return None
+    out: dict[str, Any] = {}
+    for name in header:
+        parts = pieces.pop(name)
+        if name in dictionaries:
+            labels = pd.Index(list(dictionaries[name]), dtype=object)
+            codes = np.concatenate(parts) if parts else np.empty(0, dtype=np.int32)
+            out[name] = pd.Categorical.from_codes(codes, categories=labels)
+        else:
+            out[name] = np.concatenate(parts) if parts else np.empty(0)
+    return pd.DataFrame(out, columns=header, copy=False)
+
+
+class _NotTyped(Exception):
+    """A column changed kind between blocks (numbers, then text): read the plain way."""
+
+
+def _arrow_piece(column: Any, name: str, dictionaries: dict[str, dict[str, int]], pa: Any) -> np.ndarray:
+    kind = column.type
+    numeric = pa.types.is_integer(kind) or pa.types.is_floating(kind) or pa.types.is_decimal(kind)
+    if pa.types.is_null(kind):  # every cell a marker: text ("NA" as a unit name) or missing numbers?
+        raise _NotTyped(name)
+    if numeric:
+        if name in dictionaries:
+            raise _NotTyped(name)
+        return column.to_numpy(zero_copy_only=False).astype(
+            np.int64 if pa.types.is_integer(kind) and column.null_count == 0 else np.float64)
+    mapping = dictionaries.setdefault(name, {})
+    text = column if pa.types.is_string(kind) or pa.types.is_large_string(kind) else column.cast(pa.string())
+    encoded = text.dictionary_encode()
+    local = encoded.dictionary.to_pylist()
+    remap = np.array([mapping.setdefault(label, len(mapping)) for label in local], dtype=np.int32)
+    return remap[encoded.indices.to_numpy(zero_copy_only=False)] if len(local) else np.zeros(
+        len(column), dtype=np.int32)
 
 
 def default_names(frame: pd.DataFrame, unit: str | None, time: str | None) -> tuple[str, str]:
@@ -94,7 +176,7 @@ def _clean_names(frame: pd.DataFrame) -> pd.DataFrame:
             raise DataError(f"column '{name}' appears more than once in the header; "
                             "give each column a distinct name.")
         seen.add(name)
-    out = frame.copy()
+    out = frame.copy(deep=False)  # new labels, the same cells (read_table already copied)
     out.columns = names
     return out
 
@@ -153,12 +235,32 @@ def to_long(frame: pd.DataFrame, *, unit: str, time: str, variable: str, layout:
     return long
 
 
+def _text_codes(values: pd.Series) -> tuple[np.ndarray, np.ndarray]:
+    """Cells as codes into distinct stripped texts (missing cells, None or NaN, as "")."""
+    if isinstance(values.dtype, pd.CategoricalDtype):
+        codes, uniques = values.cat.codes.to_numpy(), values.cat.categories.to_numpy(dtype=object)
+    else:
+        codes, uniques = pd.factorize(values.astype(object), use_na_sentinel=True)
+    labels = ["" if _is_missing_scalar(v) else str(v).strip() for v in uniques] + [""]
+    merged, distinct = pd.factorize(np.asarray(labels, dtype=object))  # " A" and "A" are one label
+    return merged[codes], np.asarray(distinct, dtype=object)
+
+
+def _as_text(values: pd.Series) -> pd.Series:
+    """Cells as stripped text; missing cells (None, NaN) as ""; computed once per distinct value."""
+    codes, labels = _text_codes(values)
+    return pd.Series(labels[codes], index=values.index, dtype=object)
+
+
 def parse_units(values: pd.Series, unit: str) -> pd.Series:
-    """Unit labels as stripped strings; an empty label is an error naming the row."""
-    text = values.astype(object).map(lambda v: "" if _is_missing_scalar(v) else str(v).strip())
-    empty = text == ""
+    """Unit labels as stripped strings, categorical; an empty label is an error naming the row."""
+    codes, labels = _text_codes(values)
+    text = pd.Series(pd.Categorical.from_codes(codes, categories=pd.Index(labels, dtype=object)),
+                     index=values.index)
+    empty = codes == int(np.flatnonzero(labels == "")[0]) if (labels == "").any() else np.zeros(
+        len(codes), dtype=bool)
     if empty.any():
-        row = int(np.flatnonzero(empty.to_numpy())[0]) + 1
+        row = int(np.flatnonzero(empty)[0]) + 1
         raise DataError(f"data row {row} has no unit label in column '{unit}'; every row needs one.")
     return text
 
@@ -173,13 +275,16 @@ def _is_missing_scalar(value: Any) -> bool:
 def parse_years(values: pd.Series, units: pd.Series, *, time: str,
                 year_range: tuple[int, int]) -> pd.Series:
     """Integer years; non-integer, missing or out-of-range years raise, naming the unit."""
-    raw = values.astype(object)
-    as_text = raw.map(lambda v: "" if _is_missing_scalar(v) else str(v).strip())
-    numbers = pd.to_numeric(as_text.where(as_text != "", None), errors="coerce")
-    bad = numbers.isna() | (numbers != np.round(numbers.fillna(0)))
+    if pd.api.types.is_integer_dtype(values.dtype):
+        numbers = values.astype("float64")
+        as_text = None
+    else:
+        as_text = _as_text(values)
+        numbers = pd.to_numeric(as_text.where(as_text != "", None), errors="coerce")
+    bad = numbers.isna() | ~np.isfinite(numbers.fillna(0)) | (numbers != np.round(numbers.fillna(0)))
     if bad.any():
         i = int(np.flatnonzero(bad.to_numpy())[0])
-        shown = as_text.iloc[i] or "an empty cell"
+        shown = (as_text.iloc[i] if as_text is not None else "") or "an empty cell"
         raise DataError(f"unit '{units.iloc[i]}' has a non-integer year {shown!r} in column "
                         f"'{time}'; years must be whole numbers such as 1990.")
     years = numbers.astype("int64")
@@ -201,9 +306,13 @@ def parse_values(column: pd.Series, name: str, units: pd.Series, years: pd.Serie
     if pd.api.types.is_numeric_dtype(column.dtype):
         numbers = pd.to_numeric(column, errors="coerce").astype(float)
     else:
-        raw = column.astype(object)
-        text = raw.map(lambda v: "" if _is_missing_scalar(v) else str(v).strip())
-        is_bool = raw.map(lambda v: isinstance(v, (bool, np.bool_)))
+        text = _as_text(column)
+        if isinstance(column.dtype, pd.CategoricalDtype):
+            is_bool = pd.Series(False, index=column.index)
+        else:
+            raw = column.astype(object)
+            is_bool = pd.Series([isinstance(v, (bool, np.bool_)) for v in raw.to_numpy()],
+                                index=raw.index)
         marker = text.isin(list(markers))
         numbers = pd.to_numeric(text.where(~marker, None), errors="coerce").astype(float)
         bad = (numbers.isna() & ~marker) | is_bool
@@ -222,9 +331,13 @@ def parse_values(column: pd.Series, name: str, units: pd.Series, years: pd.Serie
 
 def check_duplicates(units: pd.Series, years: pd.Series, *, time: str) -> None:
     """Duplicated (unit, time) pairs are an error naming the first pair and its rows."""
-    keys = pd.DataFrame({"u": units.to_numpy(), "t": years.to_numpy()})
-    dup = keys.duplicated(keep=False).to_numpy()
+    codes, _ = pd.factorize(units)
+    year_values = years.to_numpy(dtype=np.int64)
+    key = codes.astype(np.int64) * (int(year_values.max() - year_values.min()) + 1) + (
+        year_values - year_values.min())
+    dup = pd.Series(key).duplicated(keep=False).to_numpy()
     if dup.any():
+        keys = pd.DataFrame({"u": units.to_numpy(), "t": year_values})
         first = keys[dup].iloc[0]
         rows = np.flatnonzero(dup & (keys["u"] == first["u"]).to_numpy()
                               & (keys["t"] == first["t"]).to_numpy()) + 1
@@ -253,8 +366,12 @@ def gap_notes(frame: pd.DataFrame) -> list[dict[str, Any]]:
     spans = keys.groupby("u", sort=True)["t"].agg(["min", "max", "count"])
     gappy = spans[spans["max"] - spans["min"] + 1 != spans["count"]]
     notes: list[dict[str, Any]] = []
+    if gappy.empty:
+        return notes
+    by_unit = keys.loc[keys["u"].isin(gappy.index)].groupby("u", sort=True)["t"]
+    present_sets = {u: set(t.tolist()) for u, t in by_unit}
     for unit_label, span in gappy.iterrows():
-        present = set(keys.loc[keys["u"] == unit_label, "t"].tolist())
+        present = present_sets[unit_label]
         absent = [y for y in range(int(span["min"]), int(span["max"]) + 1) if y not in present]
         notes.append({"unit": unit_label, "column": "", "years": format_years(absent),
                       "count": len(absent), "reason": "gap: no row for these years"})

@@ -25,7 +25,7 @@ def main() -> None:
     from evidence.breaks._simulate import null_draws
 
     for design, q, trim in CONFIGS:
-        draws = null_draws(q, trim, design=design, backend="processes")
+        draws = null_draws(q, trim, design=design, executor="processes")
         print(f"{design} q={q} trim={trim}: {draws.shape}")
 
 

@@ -6,18 +6,26 @@ it); 1 an internal failure.
 
 from __future__ import annotations
 
+import os
+import signal
 import sys
 import traceback
 from collections.abc import Sequence
 from pathlib import Path
+from typing import Any
 
 import click
 
-import evidence as ev
 from evidence._cautions import CAUTION
 from evidence._commands import add_commands
-from evidence._commands._common import data_options, emit, format_options, load, progress_bar
+from evidence._commands._common import (data_options, emit, format_options, load, progress_bar,
+                                        terminal_safe)
+from evidence._files import DEFAULT_MAX_MB
+from evidence._version import __version__
 from evidence.errors import EvidenceError
+from evidence.indicators import rates
+from evidence.study import run_demo, run_study
+from evidence.study.spec import check_executor
 from evidence.tables import audit_table, rates_table, render_frame
 
 __all__ = ["main", "cli"]
@@ -27,19 +35,56 @@ PROG = "evidence"
 
 @click.group(context_settings={"help_option_names": ["-h", "--help"]})
 @click.option("--debug", is_flag=True, help="Show the full traceback of an error.")
-@click.version_option(ev.__version__, prog_name=PROG)
-def cli(debug: bool) -> None:
+@click.option("--max-input-mb", type=click.FloatRange(min=0, min_open=True), default=None,
+              help=f"Largest input file read, in MB [default: EVIDENCE_MAX_INPUT_MB or "
+                   f"{DEFAULT_MAX_MB}].")
+@click.version_option(__version__, prog_name=PROG)
+def cli(debug: bool, max_input_mb: float | None) -> None:
     """Statistical evidence on decoupling and convergence, for papers and reports."""
+    if max_input_mb is not None:
+        os.environ["EVIDENCE_MAX_INPUT_MB"] = repr(max_input_mb)
+
+
+class Terminated(BaseException):
+    """SIGTERM arrived: unwind (an output folder being written is removed), then exit 143."""
+
+
+def _terminate(signum: int, frame: object) -> None:  # noqa: ARG001
+    raise Terminated()
+
+
+def _install_signals() -> dict[int, Any]:
+    """SIGTERM unwinds like an error; SIGXFSZ (a file-size limit) becomes an error on write."""
+    previous: dict[int, Any] = {}
+    for signum, handler in ((signal.SIGTERM, _terminate), (signal.SIGXFSZ, signal.SIG_IGN)):
+        try:
+            previous[signum] = signal.signal(signum, handler)
+        except (ValueError, OSError):  # not the main thread
+            pass
+    return previous
+
+
+def _one_line(text: str) -> str:
+    return terminal_safe(" ".join(str(text).split()))
+
+
+_EXECUTOR_HELP = ("Where parallel work runs: serial, processes, dask, or a Dask scheduler address "
+                  "(tcp://host:8786). Results are the same whichever runs them.")
 
 
 @cli.command()
 @click.option("--out", type=click.Path(file_okay=False, path_type=Path),
               default=Path("evidence-demo"), show_default=True, help="Results folder.")
-def demo(out: Path) -> None:
+@click.option("--executor", default=None, help=_EXECUTOR_HELP + " [default: serial]")
+@click.option("--overwrite", is_flag=True,
+              help="Replace the folder even if it holds files evidence did not write.")
+def demo(out: Path, executor: str | None, overwrite: bool) -> None:
     """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
+    executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("analyses")
     try:
-        result = ev.run_demo(out, progress=progress.update if progress else None)
+        result = run_demo(out, executor=executor, overwrite=overwrite,
+                          progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
@@ -48,9 +93,9 @@ def demo(out: Path) -> None:
                f"{panel.years[0]}-{panel.years[-1]}.")
     if study.grade is not None:
         click.echo("")
-        click.echo(study.grade.summary())
+        click.echo(terminal_safe(study.grade.summary()))
     for name, reason in study.results.get("not_run", {}).items():
-        click.echo(f"not run: {name}: {reason}")
+        click.echo(terminal_safe(f"not run: {name}: {reason}"))
     click.echo("")
     click.echo(f"Wrote {len(result['files'])} files to {result['folder']}/: report.html, "
                "tables/, figures/, results.json, manifest.json, and the demo data and study file.")
@@ -61,20 +106,21 @@ def demo(out: Path) -> None:
 @click.argument("spec", type=click.Path(dir_okay=False, path_type=Path))
 @click.option("--out", type=click.Path(file_okay=False, path_type=Path),
               default=Path("results"), show_default=True, help="Results folder.")
-def study(spec: Path, out: Path) -> None:
+@click.option("--executor", default=None,
+              help=_EXECUTOR_HELP + " [default: the study file's [run] executor, else serial]")
+@click.option("--overwrite", is_flag=True,
+              help="Replace the folder even if it holds files evidence did not write.")
+def study(spec: Path, out: Path, executor: str | None, overwrite: bool) -> None:
     """Run a study file (TOML): report, tables, figures, results.json, manifest."""
+    executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("analyses")
     try:
-        result = ev.run_study(spec, out, progress=progress.update if progress else None)
+        result = run_study(spec, out, executor=executor, overwrite=overwrite,
+                           progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
-    if result.grade is not None:
-        click.echo(result.grade.summary())
-    for name, reason in result.results.get("not_run", {}).items():
-        click.echo(f"not run: {name}: {reason}")
-    click.echo(f"Wrote {len(result.files)} files to {result.folder}/ (report.html, tables/, "
-               "figures/, results.json, manifest.json).")
+    click.echo(terminal_safe(result.summary()))
     click.echo(CAUTION)
 
 
@@ -126,7 +172,7 @@ def rates_command(data: Path, unit_col: str | None, time_col: str | None, layout
                   fmt: str, output: Path | None) -> None:
     """Trend growth, Tapio class and OECD decoupling factor per unit."""
     panel = load(data, unit_col, time_col, layout)
-    result = ev.rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
+    result = rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
     emit(rates_table(result, fmt.lower()), output)
 
 
@@ -134,9 +180,27 @@ add_commands(cli)
 
 
 def main(argv: Sequence[str] | None = None) -> int:
-    """Entry point of the ``evidence`` console script; returns the exit code."""
+    """Entry point of the ``evidence`` console script; returns the exit code.
+
+    0 success; 2 bad input or usage (one line on stderr); 1 an internal failure; 143 terminated
+    by SIGTERM (after removing any half-written output folder).
+    """
     args = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in args
+    previous = _install_signals()
+    limit = os.environ.get("EVIDENCE_MAX_INPUT_MB")
+    try:
+        return _dispatch(args, debug)
+    finally:
+        for signum, handler in previous.items():
+            signal.signal(signum, handler)
+        if limit is None:
+            os.environ.pop("EVIDENCE_MAX_INPUT_MB", None)
+        else:
+            os.environ["EVIDENCE_MAX_INPUT_MB"] = limit
+
+
+def _dispatch(args: list[str], debug: bool) -> int:
     try:
         cli.main(args=args, prog_name=PROG, standalone_mode=False)
     except click.exceptions.Exit as exc:
@@ -144,21 +208,25 @@ def main(argv: Sequence[str] | None = None) -> int:
     except click.exceptions.Abort:
         click.echo(f"{PROG}: aborted", err=True)
         return 1
+    except Terminated:
+        click.echo(f"{PROG}: terminated; no output was left half-written", err=True)
+        return 128 + signal.SIGTERM
     except click.UsageError as exc:
-        click.echo(f"{PROG}: usage error: {exc.format_message()} (see '{PROG} --help')", err=True)
+        click.echo(f"{PROG}: usage error: {_one_line(exc.format_message())} (see '{PROG} "
+                   "--help')", err=True)
         return 2
     except click.ClickException as exc:
-        click.echo(f"{PROG}: error: {exc.format_message()}", err=True)
+        click.echo(f"{PROG}: error: {_one_line(exc.format_message())}", err=True)
         return 2
     except EvidenceError as exc:
         if debug:
             traceback.print_exc()
-        click.echo(f"{PROG}: error: {exc}", err=True)
+        click.echo(f"{PROG}: error: {_one_line(str(exc))}", err=True)
         return 2
     except Exception as exc:  # an internal failure: say so in one line
         if debug:
             traceback.print_exc()
-        click.echo(f"{PROG}: internal error: {type(exc).__name__}: {exc} "
+        click.echo(f"{PROG}: internal error: {type(exc).__name__}: {_one_line(str(exc))} "
                    "(re-run with --debug for the traceback)", err=True)
         return 1
     return 0

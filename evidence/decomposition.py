@@ -14,7 +14,7 @@ kaya1990 : Kaya, Y. (1990). Impact of carbon dioxide emission control on GNP gro
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -26,8 +26,9 @@ from evidence._typing import Window
 from evidence._validation import check_choice, check_window
 from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
+from evidence.results import ResultProtocol
 
-__all__ = ["log_mean", "lmdi_effects", "LMDIResult", "lmdi", "kaya"]
+__all__ = ["log_mean", "lmdi_effects", "LMDIResult", "lmdi", "kaya", "total_label"]
 
 #: Value that replaces zeros before logs (Ang 2005 recommends a small positive number).
 ZERO_REPLACEMENT = 1e-10
@@ -71,16 +72,56 @@ def lmdi_effects(start: np.ndarray, end: np.ndarray) -> tuple[np.ndarray, np.nda
     return additive, multiplicative
 
 
-@dataclass(frozen=True, eq=False)
-class LMDIResult:
-    """Effects of each factor per unit and for the sum over units (row ``"total"``)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class LMDIResult(ResultProtocol):
+    """Effects of each factor per unit and for the sum over units (row :attr:`total_row`,
+    ``"total"`` unless a unit has that name).
+
+    Attributes
+    ----------
+    additive : pandas.DataFrame
+        Per unit and in total: start, end, change, and one column per factor (changes in the
+        pressure's units, summing to ``change``).
+    multiplicative : pandas.DataFrame
+        The same with ``ratio`` and factor ratios (multiplying to ``ratio``).
+    factors : tuple of str
+        The factor columns, in order.
+    pressure : str
+        The decomposed pressure column.
+    window : (int, int)
+        The two years compared.
+    details : mapping
+        ``method``, ``zero_replacement``.
+    """
 
     additive: pd.DataFrame
     multiplicative: pd.DataFrame
     factors: tuple[str, ...]
     pressure: str
     window: Window
-    details: dict[str, Any] = field(default_factory=dict)
+    details: Mapping[str, Any] = field(default_factory=dict)
+
+    @property
+    def total_row(self) -> str:
+        """The label of the row that decomposes the sum over units (``"total"`` unless a unit
+        has that name)."""
+        return str(self.details.get("total_row", "total"))
+
+    def __repr__(self) -> str:
+        total = self.additive.loc[self.total_row]
+        effects = ", ".join(f"{k}={total[k]:.4g}" for k in self.factors)
+        return (f"LMDIResult(pressure={self.pressure!r}, window={self.window}, "
+                f"change={total['change']:.4g}, {effects})")
+
+    def summary(self) -> str:
+        """The total change and each factor's additive and multiplicative effect."""
+        add, mul = self.additive.loc[self.total_row], self.multiplicative.loc[self.total_row]
+        lines = [f"LMDI-I decomposition of {self.pressure}, {self.window[0]}-{self.window[1]}: "
+                 f"change {add['change']:.6g} (ratio {mul['ratio']:.4f}), "
+                 f"{len(self.additive) - 1} units"]
+        width = max(len(k) for k in self.factors)
+        lines += [f"  {k:<{width}}  {add[k]:>14.6g}  x {mul[k]:.4f}" for k in self.factors]
+        return "\n".join(lines)
 
     def to_frame(self, kind: str = "additive") -> pd.DataFrame:
         """The additive (changes in pressure units) or multiplicative (ratios) table."""
@@ -91,7 +132,21 @@ class LMDIResult:
         """JSON-safe contents."""
         return json_safe({"additive": self.additive, "multiplicative": self.multiplicative,
                           "factors": list(self.factors), "pressure": self.pressure,
-                          "window": list(self.window), "details": self.details})
+                          "window": list(self.window), "details": dict(self.details)})
+
+
+def total_label(units: Sequence[str]) -> str:
+    """The label of the all-units row: ``"total"``, or a longer label when a unit is so named.
+
+    Examples
+    --------
+    >>> total_label(["A", "B"]), total_label(["total", "B"])
+    ('total', 'total (all units)')
+    """
+    label = "total"
+    while label in units:
+        label = f"{label} (all units)"
+    return label
 
 
 def _ratio(end: float, start: float) -> float:
@@ -143,25 +198,36 @@ def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
     vt = sum(r[1] for r in rows_add)
     rows_add.append([v0, vt, vt - v0, *add_total])
     rows_mul.append([v0, vt, _ratio(vt, v0), *mul_total])
-    index = pd.Index([*units, "total"], name=panel.unit_name)
+    total = total_label(units)
+    index = pd.Index([*units, total], name=panel.unit_name)
     add = pd.DataFrame(rows_add, index=index, columns=["start", "end", "change", *factors])
     mul = pd.DataFrame(rows_mul, index=index, columns=["start", "end", "ratio", *factors])
     return LMDIResult(additive=add, multiplicative=mul, factors=factors, pressure=pressure,
                       window=(start, end), details={"method": "LMDI-I (Ang 2005)",
-                                                    "zero_replacement": ZERO_REPLACEMENT})
+                                                    "zero_replacement": ZERO_REPLACEMENT,
+                                                    "total_row": total})
 
 
-def kaya(panel: Panel, emissions: str, *, population: str, activity: str,
+def kaya(panel: Panel, pressure: str, *, population: str, activity: str,
          energy: str | None = None, window: Window | str | None = None) -> LMDIResult:
-    """Kaya decomposition: emissions = population × activity per person × energy per activity ×
-    emissions per energy (without ``energy``: population × activity per person × emissions per
-    activity), by :func:`lmdi`."""
+    """Kaya decomposition: pressure (emissions) = population × activity per person × energy per
+    activity × pressure per energy (without ``energy``: population × activity per person ×
+    pressure per activity), by :func:`lmdi`.
+
+    Examples
+    --------
+    >>> from evidence.demo import demo_panel
+    >>> res = kaya(demo_panel(), "ghg_territorial", population="population", activity="gdp",
+    ...            window=(2000, 2020))
+    >>> res.factors
+    ('population', 'affluence', 'emission_intensity')
+    """
     work = panel.with_per_capita(activity, population, name="affluence")
     if energy is None:
-        work = work.with_intensity(emissions, activity, name="emission_intensity")
+        work = work.with_intensity(pressure, activity, name="emission_intensity")
         factors = [population, "affluence", "emission_intensity"]
     else:
         work = (work.with_intensity(energy, activity, name="energy_intensity")
-                .with_intensity(emissions, energy, name="carbon_intensity"))
+                .with_intensity(pressure, energy, name="carbon_intensity"))
         factors = [population, "affluence", "energy_intensity", "carbon_intensity"]
-    return lmdi(work, emissions, factors, window=window)
+    return lmdi(work, pressure, factors, window=window)

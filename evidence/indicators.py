@@ -116,7 +116,8 @@ def trend_growth_batch(log_values: np.ndarray, years: np.ndarray, *,
     resid = y - y.mean(axis=0) - np.outer(x, slopes)
     v = (x[:, None] * resid).T[:, :, None]  # (N, T, 1): one batch per series
     s11 = n * long_run_cov(v, lags).long_run[:, 0, 0]
-    var = s11 / sxx**2 * n / (n - 2)
+    # two points leave no residual degrees of freedom: the error is undefined, not infinite
+    var = s11 / sxx**2 * n / (n - 2) if n > 2 else np.full_like(s11, np.nan)
     return slopes, np.sqrt(var), lags
 
 

@@ -421,11 +421,10 @@ def load_panel(source: Any, *, unit: str | None = None, time: str | None = None,
     units = _loading.parse_units(long[unit], unit)
     years = _loading.parse_years(long[time], units, time=time, year_range=year_range)
     _loading.check_duplicates(units, years, time=time)
-    data = {name: _loading.parse_values(long[name], name, units, years, missing_values).to_numpy()
-            for name in variables}
-    index = pd.MultiIndex.from_arrays([units.to_numpy(dtype=object), years.to_numpy()],
-                                      names=[unit, time])
-    frame = pd.DataFrame(data, index=index).sort_index()
+    values = np.empty((len(long), len(variables)))
+    for j, name in enumerate(variables):
+        values[:, j] = _loading.parse_values(long[name], name, units, years, missing_values).to_numpy()
+    frame = _indexed(units, years, values, variables, names=(unit, time))
     frame, excluded = _apply_min_years(frame, min_years=min_years, drop_short=drop_short, time=time)
     notes.extend(excluded)
     notes.extend(_loading.missing_notes(frame, variables))
@@ -433,6 +432,30 @@ def load_panel(source: Any, *, unit: str | None = None, time: str | None = None,
     audit = pd.DataFrame(notes, columns=_loading.AUDIT_COLUMNS)
     meta = {"source": label, "unit": unit, "time": time, "basis": _check_basis(basis, variables)}
     return Panel(frame, audit=audit, meta=meta)
+
+
+def _indexed(units: pd.Series, years: pd.Series, values: np.ndarray, columns: Sequence[str], *,
+             names: tuple[str, str]) -> pd.DataFrame:
+    """The (unit, time)-indexed frame, sorted, built from codes (no second hashing of labels)."""
+    if isinstance(units.dtype, pd.CategoricalDtype):
+        raw_codes, used = pd.factorize(units.cat.codes.to_numpy())
+        labels = units.cat.categories.to_numpy(dtype=object)[used]
+    else:
+        raw_codes, labels = pd.factorize(units.to_numpy(dtype=object))
+        labels = np.asarray(labels, dtype=object)
+    perm = np.argsort(labels.astype(str), kind="stable")  # levels in lexical order
+    rank = np.empty_like(perm)
+    rank[perm] = np.arange(perm.size)
+    unit_codes, unit_levels = rank[raw_codes], labels[perm]
+    year_codes, year_levels = pd.factorize(years.to_numpy(dtype=np.int64), sort=True)
+    order = np.lexsort((year_codes, unit_codes))
+    if np.any(order[1:] != order[:-1] + 1):  # files are often sorted already: no copy then
+        values = values[order]
+        unit_codes, year_codes = unit_codes[order], year_codes[order]
+    index = pd.MultiIndex(levels=[pd.Index(np.asarray(unit_levels, dtype=object), dtype=object),
+                                  pd.Index(year_levels)],
+                          codes=[unit_codes, year_codes], names=list(names), verify_integrity=False)
+    return pd.DataFrame(values, index=index, columns=list(columns), copy=False)
 
 
 def _apply_min_years(frame: pd.DataFrame, *, min_years: int, drop_short: bool,

@@ -114,9 +114,12 @@ class DaskExecutor:
         elif scheduler:
             self._client = Client(scheduler)
         else:
+            # no dashboard, and the cluster listens on this machine only (random ports)
+            local = {"host": "127.0.0.1", "dashboard_address": "127.0.0.1:0"} if processes \
+                else {"dashboard_address": "127.0.0.1:0"}
             self._cluster = LocalCluster(n_workers=jobs or os.cpu_count() or 1,
                                          threads_per_worker=1, processes=processes,
-                                         dashboard_address=None)
+                                         scheduler_kwargs={"dashboard": False}, **local)
             self._client = Client(self._cluster)
 
     def map(self, func: Callable[[T], R], tasks: Sequence[T], *,

@@ -45,7 +45,7 @@ def nile_checks() -> list[tuple[str, float, float, float]]:
 def table_checks() -> list[tuple[str, float, float, float]]:
     out = []
     for q in (1, 2, 3):
-        draws = null_draws(q, 0.15, reps=20000, seed=7, backend="processes")
+        draws = null_draws(q, 0.15, reps=20000, seed=7, executor="processes")
         for level in (0.10, 0.05, 0.01):
             published = _bp_tables.SUPF[(0.15, q, level)]
             for k in range(1, 6):

@@ -264,7 +264,7 @@ def test_bad_input_errors():
     good = np.r_[np.zeros(20), np.ones(20)] + np.tile([0.1, -0.1], 20)
     with pytest.raises(DataError, match="too few"):
         find_breaks(good[:12], years=range(2000, 2012))
-    with pytest.raises(DataError, match="missing value in year 2005"):
+    with pytest.raises(DataError, match="missing in 2005"):
         bad = good.copy()
         bad[5] = np.nan
         find_breaks(bad, years=range(2000, 2040))
@@ -305,3 +305,25 @@ def test_supf_k_equals_plain_formula_for_every_k(nile_result):
         assert_allclose(nile_result.tests[f"supF({k})"].statistic, expected, rtol=1e-12)
     assert_allclose(nile_result.tests["UDmax"].statistic,
                     max(nile_result.tests[f"supF({k})"].statistic for k in range(1, 6)))
+
+
+def test_score_long_run_equals_a_plain_bartlett_sum():
+    # Naive oracle: Bartlett sum sum_t s_t s_t' + sum_l w_l (G_l + G_l'), w_l = 1 - l/(L+1), no
+    # division by T (the scale of break_covariance's middle matrix).
+    from evidence.breaks.tests import score_long_run
+
+    rng = np.random.default_rng(8)
+    s = rng.normal(size=(30, 2))
+    naive = s.T @ s
+    for lag in range(1, 4):
+        gamma = s[lag:].T @ s[:-lag]
+        naive += (1 - lag / 4) * (gamma + gamma.T)
+    assert_allclose(score_long_run(s, 3), naive, rtol=1e-12)
+
+
+def test_break_result_protocol(nile_result):
+    assert str(nile_result) == nile_result.summary()
+    row = nile_result.to_frame()
+    assert len(row) == 1 and row.loc[0, "break_years"] == (1898,)
+    with pytest.raises(TypeError):
+        nile_result.details["model"] = "trend"

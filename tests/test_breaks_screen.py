@@ -71,7 +71,7 @@ def test_adjusted_pvalues(demo_screen):
     assert_allclose(demo_screen.table["pvalue_adjusted"], naive)
 
 
-def test_skipped_units_are_audited():
+def test_left_out_units_are_listed():
     rng = np.random.default_rng(4)
     rows = []
     for unit, years in (("Full", range(1990, 2024)), ("Short", range(2015, 2024)),
@@ -86,24 +86,25 @@ def test_skipped_units_are_audited():
     panel = load_panel(pd.DataFrame(rows), unit="unit", time="year")
     res = screen_breaks(panel, "x", model="level", max_breaks=2)
     assert list(res.table.index) == ["Full"]
-    reasons = dict(zip(res.audit["unit"], res.audit["reason"]))
+    assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]
+    reasons = dict(zip(res.excluded["unit"], res.excluded["reason"]))
     assert "2000" in reasons["Gappy"] and "constant" in reasons["Flat"]
     assert "too few" in reasons["Short"]
     with pytest.raises(DataError, match="no unit"):
         screen_breaks(panel.select(["Short"]), "x", model="level")
 
 
-def test_backends_give_identical_output(demo):
+def test_executors_give_identical_output(demo):
     small = demo.select(list(demo.units[:6]))
     serial = screen_breaks(small, "log_intensity", max_breaks=2, chunk=2)
-    procs = screen_breaks(small, "log_intensity", max_breaks=2, chunk=2, backend="processes", jobs=2)
+    procs = screen_breaks(small, "log_intensity", max_breaks=2, chunk=2, executor="processes")
     pd.testing.assert_frame_equal(serial.table, procs.table)
 
 
 @pytest.mark.slow
-def test_dask_backend_gives_identical_output(demo):
+def test_dask_executor_gives_identical_output(demo):
     serial = screen_breaks(demo, "log_intensity", max_breaks=3, chunk=7)
-    dask = screen_breaks(demo, "log_intensity", max_breaks=3, chunk=7, backend="dask", jobs=2)
+    dask = screen_breaks(demo, "log_intensity", max_breaks=3, chunk=7, executor="dask")
     pd.testing.assert_frame_equal(serial.table, dask.table)
 
 
@@ -161,3 +162,25 @@ def test_cli_prints_the_per_unit_table(tmp_path, capsys):
     assert payload["rows"][0]["unit"] == "Aldwyr"
     assert main(["breaks", str(csv), "--column", "nope"]) == 2
     assert main(["breaks", str(csv), "--column", "gdp", "--trim", "0.7"]) == 2
+
+
+def test_results_follow_the_protocol(demo_screen):
+    # one-line repr, str == summary, JSON-safe to_dict, a tidy to_frame, frozen details
+    assert "\n" not in repr(demo_screen) and repr(demo_screen).startswith("ScreenResult(")
+    assert str(demo_screen) == demo_screen.summary()
+    assert "last year of the old regime" in demo_screen.summary()
+    payload = json.loads(json.dumps(demo_screen.to_dict(), allow_nan=False))
+    assert payload["column"] == "log_intensity" and len(payload["table"]) == len(demo_screen.table)
+    assert "unit" in demo_screen.to_frame().columns
+    with pytest.raises(TypeError):
+        demo_screen.details["model"] = "level"
+    assert "<pre>" in demo_screen._repr_html_()
+
+
+def test_common_break_result_follows_the_protocol(demo):
+    res = common_breaks(demo.select(list(demo.units[:5])), "log_intensity", model="trend",
+                        max_breaks=1)
+    assert "\n" not in repr(res) and str(res) == res.summary()
+    json.dumps(res.to_dict(), allow_nan=False)
+    assert list(res.to_frame().columns) == ["break_year", "lower", "upper"]
+    assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]

@@ -69,7 +69,7 @@ def test_simulated_supf1_near_andrews():
     assert abs(cv[0.10] - 7.12) < 0.3 and abs(cv[0.05] - 8.68) < 0.4
 
 
-def test_simulation_is_seeded_and_backend_free():
+def test_simulation_is_seeded_and_executor_free():
     seeds = task_seeds(5, 2)
     a = simulate_chunk((1, 0.2, 40, 3, 4, seeds[0]))
     b = simulate_chunk((1, 0.2, 40, 3, 4, seeds[0]))
@@ -82,7 +82,7 @@ def test_simulation_is_seeded_and_backend_free():
 @pytest.mark.parametrize("q", [1, 2, 3])
 def test_simulated_critical_values_full_comparison(q):
     # 20 000 replications, all three published levels (10 %, 5 %, 1 %), eps = 0.15, k = 1..5.
-    draws = null_draws(q, 0.15, reps=20000, seed=7, backend="processes")
+    draws = null_draws(q, 0.15, reps=20000, seed=7, executor="processes")
     for k in range(1, 6):
         for level in (0.10, 0.05, 0.01):
             sim = np.quantile(draws[:, k - 1], 1 - level)

@@ -118,7 +118,9 @@ def test_internal_failure_exits_1(demo_csv, capsys, monkeypatch):
     def broken(*args, **kwargs):
         raise RuntimeError("boom")
 
-    monkeypatch.setattr(ev, "rates", broken)
+    import evidence.cli
+
+    monkeypatch.setattr(evidence.cli, "rates", broken)
     assert main(["rates", str(demo_csv), "--pressure", "dmc", "--activity", "gdp"]) == 1
     err = capsys.readouterr().err
     assert "internal error" in err and "boom" in err
@@ -143,7 +145,7 @@ def test_elasticity_command(demo_csv, capsys):
                  "--estimator", "fe,twfe,mg,ccemg,amg", "--ekc", "--population", "population"])
     assert code == 0
     out = capsys.readouterr().out
-    assert "(5)" in out and "CCE mean group" in out and "Lind-Mehlum" in out
+    assert "Augmented mean group" in out and "CCE mean group" in out and "Lind & Mehlum (2010)" in out
     assert main(["elasticity", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
                  "--estimator", "fe", "--format", "json"]) == 0
     assert len(json.loads(capsys.readouterr().out)["tables"]) == 2
@@ -166,10 +168,19 @@ def test_grade_and_decompose_commands(demo_csv, capsys):
                  "--required-rate", "0.05", "--no-breaks"]) == 0
     out = capsys.readouterr().out
     assert "Decoupling grade" in out and "basis-gap" in out
-    assert main(["decompose", str(demo_csv), "--emissions", "ghg_territorial", "--population",
+    assert main(["decompose", str(demo_csv), "--pressure", "ghg_territorial", "--population",
                  "population", "--activity", "gdp", "--energy", "energy", "--window", "2000:2020",
                  "--format", "csv"]) == 0
     lines = capsys.readouterr().out.splitlines()
     assert lines[0].startswith("region,start,end,change,population,affluence") and "total" in lines[-1]
     assert main(["grade", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
                  "--consumption", "ghg_consumption"]) == 2
+
+
+def test_study_and_demo_take_an_executor(tmp_path, capsys):
+    assert main(["study", str(tmp_path / "none.toml"), "--executor", "gpu"]) == 2
+    err = capsys.readouterr().err
+    assert "--executor: 'gpu' is not an executor" in err and len(err.strip().splitlines()) == 1
+    assert main(["demo", "--out", str(tmp_path / "d"), "--executor", "proceses"]) == 2
+    assert "Did you mean 'processes'?" in capsys.readouterr().err
+    assert not (tmp_path / "d").exists()

@@ -273,3 +273,38 @@ def test_stochastic_convergence_verdicts():
     not_conv = (walk.table["verdict"] == "not converging").mean()
     assert conv >= 0.6 and not_conv >= 0.6
     assert stationary.table.set_index("unit").loc["(panel)", "verdict"] == "converging"
+
+
+# ------------------------------------------------------------------------- result protocol
+def test_convergence_results_follow_the_protocol(tmp_path):
+    import json
+
+    from evidence.results import EXCLUDED_COLUMNS
+
+    frame = _convergent_frame(3)
+    frame.loc[0, "y"] = np.nan
+    panel = ev.load_panel(frame)
+    results = [beta_convergence(panel, "y"), sigma_convergence(panel, "y"),
+               gamma_convergence(panel, "y"),
+               club_convergence(ev.load_panel(_frame_from(_ps_panel(2, (1.0, 1.5), n_per=6))), "y")]
+    for res in results:
+        assert "\n" not in repr(res) and repr(res).startswith(type(res).__name__ + "(")
+        assert str(res) == res.summary() and res._repr_html_().startswith("<pre>")
+        payload = res.to_dict()
+        assert json.loads(json.dumps(payload, allow_nan=False)) == payload
+        assert isinstance(res.to_frame(), pd.DataFrame) and len(res.to_frame()) >= 1
+        if hasattr(res, "excluded"):
+            assert list(res.excluded.columns) == list(EXCLUDED_COLUMNS)
+        if hasattr(res, "details"):
+            with pytest.raises(TypeError):
+                res.details["x"] = 1  # frozen
+    beta, sigma = results[0], results[1]
+    # the unit with a missing first-year value is left out, named with its column and years
+    assert beta.excluded.iloc[0].tolist() == ["u00", "y", "1990, 2020", "missing value in 1990 or 2020"]
+    assert sigma.excluded.iloc[0][["unit", "column", "years"]].tolist() == ["u00", "y", "1990"]
+    assert list(results[3].to_frame().columns) == ["club", "units", "log_t", "b", "pvalue"]
+    written = results[3].plot(tmp_path / "clubs")
+    assert [p.suffix for p in written] == [".png", ".svg"]
+    import matplotlib.pyplot as plt
+
+    assert plt.get_fignums() == []  # the figure helper closes what it saves

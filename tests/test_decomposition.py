@@ -74,3 +74,18 @@ def test_zero_start_gives_nan_ratio_without_warning():
         res = lmdi(ev.load_panel(frame), "e", ["a", "b"])
     assert np.isnan(res.multiplicative.loc["A", "ratio"])
     assert res.additive.loc["total", "change"] == pytest.approx(8.0)
+
+
+def test_lmdi_result_follows_the_protocol():
+    import json
+
+    res = kaya(ev.demo_panel(), "ghg_territorial", population="population", activity="gdp",
+               window=(2000, 2020))
+    assert repr(res).startswith("LMDIResult(pressure='ghg_territorial', window=(2000, 2020)")
+    assert str(res) == res.summary() and "emission_intensity" in res.summary()
+    payload = res.to_dict()
+    assert json.loads(json.dumps(payload, allow_nan=False)) == payload
+    with pytest.raises(TypeError):
+        res.details["method"] = "x"  # frozen
+    with pytest.raises(ev.SpecError, match="kind"):
+        res.to_frame("ratio")

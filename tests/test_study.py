@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+from dataclasses import replace
 from html.parser import HTMLParser
 
 import pandas as pd
@@ -50,9 +51,9 @@ def test_minimal_spec_defaults(tmp_path):
     ("[window]\nstart = 2000\nend = 1990\n", "start must be before end"),
     ("[window]\nstart = 2000\n", "needs the key 'end'"),
     ("[criteria]\nalpah = 0.1\n", "unknown key [criteria] alpah (line"),
-    ("[criteria]\nalpha = \"five\"\n", "must be a float"),
-    ("[output]\nformats = [\"pdf\"]\n", "'pdf' is not a table format"),
-    ("[breaks]\nmax_breaks = true\n", "must be a int"),
+    ("[criteria]\nalpha = \"five\"\n", "must be a number, not str"),
+    ("[output]\nformats = [\"pdf\"]\n", "formats (line 12): 'pdf' is not an option"),
+    ("[breaks]\nmax_breaks = true\n", "must be an integer, not bool"),
 ])
 def test_malformed_specs(extra, fragment):
     with pytest.raises(SpecError) as info:
@@ -145,3 +146,69 @@ def test_word_tables(tmp_path):
     assert table.cell(0, 0).text == "unit" and table.cell(1, 0).text == "Alda"
     html = (tmp_path / "out" / "report.html").read_text()
     assert "Decoupling grade" in html
+
+
+def test_steps_registry_matches_the_schema_and_writes_nothing(tmp_path):
+    from evidence.study.spec import SCHEMA
+    from evidence.study.steps import STEPS
+
+    assert set(STEPS) == set(SCHEMA["analyses"])
+    _panel_csv(tmp_path)
+    spec = parse_spec(MINIMAL.replace('activity = "gdp"', 'activity = "gdp"\npopulation = "population"'),
+                      base=tmp_path)
+    panel = ev.load_panel(tmp_path / "panel.csv", unit="region")
+    before = set(tmp_path.rglob("*"))
+    output = STEPS["rates"](panel, spec)
+    assert set(tmp_path.rglob("*")) == before  # a step computes; the runner writes
+    assert [t.name for t in output.tables] == ["rates_co2"]
+    assert "co2" in output.results["rates"]
+    assert "Alda" in output.tables[0].render("markdown")
+    with pytest.raises(ev.SpecError):
+        STEPS["grade"](panel, replace(spec, criteria={"alpha": 2.0}))
+
+
+LIGHT = """
+[output]
+formats = ["csv"]
+figures = false
+[analyses]
+elasticity = ["fe"]
+convergence = []
+decomposition = false
+"""
+
+
+def test_study_result_protocol_and_executor_option(tmp_path):
+    from evidence.parallel import SerialExecutor
+
+    _panel_csv(tmp_path)
+    (tmp_path / "study.toml").write_text(MINIMAL + LIGHT + '[run]\nexecutor = "Serial"\n')
+    spec = read_spec(tmp_path / "study.toml")
+    assert spec.executor == "serial"
+    executor = SerialExecutor()
+    res = run_study(spec, tmp_path / "out", executor=executor)
+    assert repr(res).startswith("StudyResult(folder=") and "\n" not in repr(res)
+    assert str(res) == res.summary() and "Wrote" in res.summary()
+    assert res.steps == ("grade", "rates", "elasticity")
+    assert res.to_frame()["status"].tolist() == ["run", "run", "run"]
+    payload = res.to_dict()
+    assert json.loads(json.dumps(payload)) == payload and "grade" not in payload
+    manifest = json.loads((tmp_path / "out" / "manifest.json").read_text())
+    assert manifest["executor"] == "serial"
+    for bad in ('"gpu"', '"proceses"'):
+        with pytest.raises(SpecError, match=r"\[run\] executor \(line \d+\).*not an executor"):
+            parse_spec(MINIMAL + f"[run]\nexecutor = {bad}\n")
+    assert parse_spec(MINIMAL + '[run]\nexecutor = "tcp://10.0.0.1:8786"\n').executor == \
+        "tcp://10.0.0.1:8786"
+
+
+def test_study_reuses_a_callers_dask_client(tmp_path):
+    distributed = pytest.importorskip("dask.distributed")
+    _panel_csv(tmp_path)
+    (tmp_path / "study.toml").write_text(MINIMAL + LIGHT)
+    with distributed.Client(processes=False, n_workers=1, threads_per_worker=1,
+                            dashboard_address=None) as client:
+        res = run_study(tmp_path / "study.toml", tmp_path / "out", executor=client)
+        assert client.status == "running"  # the study never closes a caller's client
+    serial = run_study(tmp_path / "study.toml", tmp_path / "serial")
+    assert res.results == serial.results

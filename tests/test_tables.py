@@ -32,7 +32,7 @@ def test_latex_escapes_data(nasty_frame):
     out = render_frame(nasty_frame, "latex", title=NASTY, notes=[NASTY])
     assert r"50\%" in out and r"\_under\_" in out and r"\$x\$" in out and r"\#1" in out
     assert r"\{a\}" in out and r"\textbackslash{}d" in out
-    assert "\\begin{tabular}{lr}" in out and "\\toprule" in out and "\\bottomrule" in out
+    assert "D{.}{.}{-1}@{}}" in out and "\\toprule" in out and "\\bottomrule" in out
 
 
 def test_latex_escape_each_special_character():
@@ -71,3 +71,14 @@ def test_rates_table_carries_caution_and_basis(long_frame):
     assert "Alda" in text and "strong decoupling" in text
     csv = rates_table(res, "csv")
     assert csv.splitlines()[0].startswith("region,start,end,years,activity_trend")
+
+
+def test_table_option_errors_are_spec_errors(nasty_frame):
+    from evidence.tables import regression_table
+
+    with pytest.raises(ev.SpecError, match="at least one estimate"):
+        regression_table([])
+    with pytest.raises(ev.SpecError, match="digits"):
+        render_frame(nasty_frame, "text", digits=-1)
+    with pytest.raises(ev.SpecError, match="digits"):
+        render_frame(nasty_frame, "text", digits=2.5)

@@ -2,16 +2,29 @@
 
 from __future__ import annotations
 
+import re
 import sys
 from collections.abc import Callable
 from pathlib import Path
 
 import click
 
-import evidence as ev
+from evidence.errors import DataError
+from evidence.panel import Panel, load_panel
 from evidence.tables import FORMATS
 
-__all__ = ["data_options", "format_options", "emit", "load", "progress_bar"]
+__all__ = ["data_options", "format_options", "emit", "load", "progress_bar", "terminal_safe"]
+
+# Control characters (C0 but tab and newline, DEL, C1) and the bidirectional overrides that can
+# make a terminal show something other than the text.
+_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
+
+
+def terminal_safe(text: str) -> str:
+    """``text`` with control characters shown as escapes (``\\x1b``), so data-derived names (a
+    unit called ``"\\x1b[2J"``, say) cannot drive the terminal."""
+    return _UNSAFE.sub(lambda m: f"\\x{ord(m.group()):02x}" if ord(m.group()) < 0x100
+                       else f"\\u{ord(m.group()):04x}", text)
 
 
 def data_options(func: Callable) -> Callable:
@@ -37,18 +50,18 @@ def format_options(func: Callable) -> Callable:
 def emit(text: str, output: Path | None) -> None:
     """Print ``text``, or write it to ``output`` and say so on stderr."""
     if output is None:
-        click.echo(text, nl=False)
+        click.echo(terminal_safe(text), nl=False)
         return
     try:
         output.write_text(text, encoding="utf-8")
     except OSError as exc:
-        raise ev.DataError(f"cannot write '{output}': {exc.strerror}.") from None
+        raise DataError(f"cannot write '{output}': {exc.strerror}.") from None
     click.echo(f"wrote {output}", err=True)
 
 
-def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> ev.Panel:
+def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> Panel:
     """Load the panel named on the command line."""
-    return ev.load_panel(data, unit=unit_col, time=time_col, layout=layout)  # type: ignore[arg-type]
+    return load_panel(data, unit=unit_col, time=time_col, layout=layout)  # type: ignore[arg-type]
 
 
 class _Progress:

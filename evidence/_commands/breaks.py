@@ -39,15 +39,13 @@ def _intervals(lower: tuple, upper: tuple) -> str:
               show_default=True, help="Criterion choosing the number of breaks.")
 @click.option("--adjust", type=click.Choice(["bh", "holm"], case_sensitive=False), default="bh",
               show_default=True, help="Multiple-testing adjustment across units.")
-@click.option("--backend", type=click.Choice(["serial", "processes", "dask"], case_sensitive=False),
-              default="serial", show_default=True, help="Where the units are computed.")
-@click.option("--jobs", type=int, default=None, help="Workers for processes/dask.")
-@click.option("--scheduler", default=None, help="Dask scheduler address (tcp://host:8786).")
+@click.option("--executor", default="serial", show_default=True,
+              help="Where the units are computed: serial, processes, dask, or a Dask scheduler "
+                   "address (tcp://host:8786).")
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
             per: str | None, take_log: bool, model: str, max_breaks: int, trim: float, select: str,
-            adjust: str, backend: str, jobs: int | None, scheduler: str | None, fmt: str,
-            output: Path | None) -> None:
+            adjust: str, executor: str, fmt: str, output: Path | None) -> None:
     """Break years of COLUMN for every unit (Bai-Perron), with intervals and adjusted p-values."""
     panel = load(data, unit_col, time_col, layout)
     name = column
@@ -60,8 +58,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     bar = progress_bar("screening")
     try:
         result = eb.screen_breaks(panel, name, model=model.lower(), max_breaks=max_breaks, trim=trim,
-                                  select=select.lower(), adjust=adjust.lower(), backend=backend.lower(),
-                                  jobs=jobs, scheduler=scheduler,
+                                  select=select.lower(), adjust=adjust.lower(), executor=executor,
                                   progress=bar.update if bar else None)
     finally:
         if bar:
@@ -80,10 +77,10 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
              f"{'Benjamini-Hochberg' if adjust.lower() == 'bh' else 'Holm'} across units.",
              f"Break clustering across units: {result.clustering.statistic:.0f} units within "
              f"+-1 year, permutation p = {result.clustering.pvalue:.4f}.",
-             f"Units skipped: {len(result.audit)}" + (" (see the audit below)." if len(result.audit) else "."),
-             *result.details.get("warnings", []), CAUTION]
+             f"Rows left out: {len(result.excluded)}" + (" (listed below)." if len(result.excluded) else "."),
+             *result.warnings, CAUTION]
     text = render_frame(frame, fmt.lower(), title=f"Structural breaks in {name}", notes=notes,
                         index=False)
-    if len(result.audit) and fmt.lower() not in ("csv", "json"):
-        text += "\n" + render_frame(result.audit, fmt.lower(), title="Skipped units", index=False)
+    if len(result.excluded) and fmt.lower() not in ("csv", "json"):
+        text += "\n" + render_frame(result.excluded, fmt.lower(), title="Left out", index=False)
     emit(text, output)

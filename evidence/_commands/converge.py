@@ -8,8 +8,11 @@ from pathlib import Path
 import click
 import pandas as pd
 
-import evidence as ev
 from evidence._commands._common import data_options, emit, format_options, load
+from evidence._validation import check_choice
+from evidence.convergence import (beta_convergence, club_convergence, gamma_convergence,
+                                  sigma_convergence, stochastic_convergence)
+from evidence.panel import derived_name
 from evidence.tables import regression_table, render_frame, test_table
 
 __all__ = ["command"]
@@ -33,45 +36,41 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
             population: str | None, methods: str, window: str | None, fmt: str,
             output: Path | None) -> None:
     """Convergence of a column across units (per capita with --population)."""
+    chosen = [check_choice("--method", m, METHODS) for m in methods.split(",") if m.strip()]
     panel = load(data, unit_col, time_col, layout)
     if population:
-        panel = panel.with_per_capita(column, population)
-        column = f"{column}_per_capita"
-    chosen = [m.strip().lower() for m in methods.split(",") if m.strip()]
-    unknown = [m for m in chosen if m not in METHODS]
-    if unknown:
-        raise ev.SpecError(f"--method {unknown[0]!r} is not a method; use "
-                           f"{', '.join(sorted(METHODS))}.")
+        per_capita = derived_name("per_capita", column)
+        panel = panel.with_per_capita(column, population, name=per_capita)
+        column = per_capita
     fmt = fmt.lower()
     parts = []
     if "beta" in chosen:
-        beta = ev.beta_convergence(panel, column, window=window)
+        beta = beta_convergence(panel, column, window=window)
         parts.append(regression_table([beta.estimate], fmt, title=f"Beta convergence of {column}",
                                       notes=[f"Speed of convergence {beta.speed:.4f} a year "
                                              f"(s.e. {beta.speed_se:.4f}); half-life "
                                              f"{beta.half_life:.1f} years."]))
         parts.append(test_table([beta.test], fmt, title="Beta convergence test",
-                                notes=_excluded(beta.details["excluded"])))
+                                notes=_excluded(beta.excluded)))
     if "sigma" in chosen:
-        sigma = ev.sigma_convergence(panel, column, window=window)
+        sigma = sigma_convergence(panel, column, window=window)
         parts.append(render_frame(sigma.path.to_frame(), fmt, title=f"Dispersion of log {column}",
                                   digits=4))
         parts.append(test_table([sigma.trend_test, *sigma.first_last_tests], fmt,
                                 title="Sigma convergence tests", notes=_excluded(sigma.excluded)))
     if "gamma" in chosen:
-        gamma = ev.gamma_convergence(panel, column, window=window)
+        gamma = gamma_convergence(panel, column, window=window)
         parts.append(test_table([gamma.test], fmt, title="Gamma convergence (rank concordance)",
                                 notes=[f"Kendall index, last vs first year: "
                                        f"{gamma.path.iloc[-1]:.4f}", *_excluded(gamma.excluded)]))
     if "stochastic" in chosen:
-        stoch = ev.stochastic_convergence(panel, column, window=window)
+        stoch = stochastic_convergence(panel, column, window=window)
         parts.append(render_frame(stoch.table, fmt, title="Stochastic convergence by unit "
                                   "(log relative to the cross-section mean)", index=False))
     if "clubs" in chosen:
-        clubs = ev.club_convergence(panel, column, window=window)
+        clubs = club_convergence(panel, column, window=window)
         members = clubs.membership().reset_index()
-        tests = pd.DataFrame([{"club": i, "units": len(c), "log_t": t.statistic, "b": t.details["b"]}
-                              for i, (c, t) in enumerate(zip(clubs.clubs, clubs.tests), start=1)])
+        tests = clubs.to_frame()[["club", "units", "log_t", "b"]]
         parts.append(render_frame(tests, fmt, index=False, digits=3,
                                   title=f"Phillips-Sul clubs (overall log t "
                                         f"{clubs.overall.statistic:.3f}; 5 % critical value -1.65)"))

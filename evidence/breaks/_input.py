@@ -1,4 +1,8 @@
-"""Input checks shared by the break functions: series, years, trimming and the number of breaks."""
+"""Option checks shared by the break functions: trimming, the number of breaks, model, regressors.
+
+Series are cleaned by the package's one cleaner, :func:`evidence._arrays.clean_series`; panels
+become arrays through :meth:`evidence.panel.Panel.arrays`.
+"""
 
 from __future__ import annotations
 
@@ -7,64 +11,39 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from evidence._validation import check_choice
+from evidence._arrays import clean_series
+from evidence._validation import check_choice, check_int, check_number
 from evidence.breaks.segment import MODELS, min_length
 from evidence.errors import DataError, SpecError
 
-__all__ = ["as_series", "check_trim", "check_breaks", "check_model", "regressor_matrix", "SELECTIONS"]
+__all__ = ["series_input", "check_trim", "check_breaks", "check_model", "regressor_matrix", "SELECTIONS"]
 
 SELECTIONS = ("bic", "lwz", "sequential")
 
 
-def as_series(y: Any, years: Any = None, *, name: str = "series") -> tuple[np.ndarray, np.ndarray, str]:
-    """Values, integer years and a label; leading/trailing NaN are dropped, inner NaN raise."""
-    if isinstance(y, pd.Series):
-        label = str(y.name) if y.name is not None else name
-        values = pd.to_numeric(y, errors="coerce").to_numpy(dtype=float)
-        index = np.asarray(y.index if years is None else years)
-    else:
-        label = name
-        values = np.asarray(y, dtype=float)
-        if values.ndim != 1:
-            raise DataError(f"{label}: y must be one-dimensional; got shape {values.shape}.")
-        index = np.arange(1, values.size + 1) if years is None else np.asarray(years)
-    if index.size != values.size:
-        raise DataError(f"{label}: years has {index.size} entries but y has {values.size}.")
-    try:
-        index = index.astype(int)
-    except (TypeError, ValueError):
-        raise DataError(f"{label}: the index must be integer years.") from None
-    if np.any(np.diff(index) != 1):
-        raise DataError(f"{label}: years must be consecutive and increasing "
-                        f"({index[0]}..{index[-1]}); fill or cut the gap first.")
-    ok = np.isfinite(values)
-    if not ok.any():
-        raise DataError(f"{label}: no finite values.")
-    first, last = np.argmax(ok), ok.size - 1 - np.argmax(ok[::-1])
-    inner = np.flatnonzero(~ok[first:last + 1]) + first
-    if inner.size:
-        raise DataError(f"{label}: missing value in year {index[inner[0]]} inside the series "
-                        f"({index[first]}-{index[last]}); interpolate it or shorten the window.")
-    values, index = values[first:last + 1], index[first:last + 1]
-    if np.ptp(values) == 0:
-        raise DataError(f"{label}: the series is constant ({values[0]:g}) over "
-                        f"{index[0]}-{index[-1]}; there is nothing to break.")
-    return values, index, label
+def series_input(y: Any, years: Any, purpose: str) -> tuple[np.ndarray, np.ndarray, str, str]:
+    """Values, integer years, a label for messages and the series' name (``"series"`` if none).
+
+    Leading and trailing missing values are dropped; a missing value inside the series, a
+    constant series or non-consecutive years raise ``DataError`` (``clean_series``). Arrays
+    without ``years`` are numbered from 1.
+    """
+    name = str(y.name) if isinstance(y, pd.Series) and y.name is not None else "series"
+    data = clean_series(y, years, name=None if name == "series" else name, min_obs=1,
+                        purpose=purpose)
+    return data.values, data.years, data.label, name
 
 
 def check_trim(trim: Any) -> float:
     """``trim`` must be a fraction in (0, 0.5)."""
-    if isinstance(trim, bool) or not isinstance(trim, (int, float)) or not 0 < trim < 0.5:
-        raise SpecError(f"trim={trim!r} must be a fraction strictly between 0 and 0.5 "
-                        "(common choices: 0.05, 0.10, 0.15, 0.20).")
-    return float(trim)
+    return check_number("trim", trim, low=0.0, high=0.5, inclusive=False,
+                        hint=" (common choices: 0.05, 0.10, 0.15, 0.20)")
 
 
 def check_breaks(label: str, nobs: int, q: int, p: int, trim: float, max_breaks: Any,
                  first: int, last: int) -> int:
     """Minimum regime length ``h``; raises when T is too short or ``max_breaks`` impossible."""
-    if isinstance(max_breaks, bool) or not isinstance(max_breaks, (int, np.integer)) or max_breaks < 1:
-        raise SpecError(f"max_breaks={max_breaks!r} must be an integer of at least 1.")
+    max_breaks = check_int("max_breaks", max_breaks, minimum=1)
     h = min_length(nobs, trim)
     need = q + 1
     if h < need or 2 * h > nobs:

@@ -21,7 +21,7 @@ i.i.d. normal regressors for user regressors) and unit-variance Gaussian errors,
 two-grid extrapolation.
 
 Replications are split into tasks with independent seeds (``evidence.parallel.task_seeds``), run
-through the executor and cached on disk (``evidence._cache``), so any backend gives the same draws.
+through the executor and cached on disk (``evidence._cache``), so any executor gives the same draws.
 """
 
 from __future__ import annotations
@@ -32,7 +32,7 @@ import numpy as np
 from evidence._cache import load_cached, save_cached
 from evidence.breaks.segment import (min_length, optimal_partitions, regime_design,
                                      ssr_table_general, ssr_tables)
-from evidence.parallel import run_tasks, task_seeds
+from evidence.parallel import ExecutorLike, task_seeds, using_executor
 
 __all__ = ["NULL_SEED", "NULL_REPS", "NULL_GRID", "max_k", "null_draws", "simulate_chunk"]
 
@@ -114,13 +114,14 @@ def simulate_chunk(task: tuple) -> np.ndarray:
 
 
 def null_draws(q: int, trim: float, *, design: str = "level", units: int = 1, reps: int = NULL_REPS,
-               grid: int = NULL_GRID, seed: int = NULL_SEED, backend: str = "serial",
-               jobs: int | None = None, scheduler: str | None = None) -> np.ndarray:
+               grid: int = NULL_GRID, seed: int = NULL_SEED,
+               executor: ExecutorLike = "serial") -> np.ndarray:
     """Draws of the limiting supF(k), k = 1..max_k(trim), for q changing regressors (cached).
 
     ``design`` is ``"level"`` (Bai & Perron's functional: constant and stationary regressors) or
     ``"trend"`` (a regime-wise trend; q >= 2); ``units`` > 1 pools that many independent trend
-    series with common breaks (q = 2 only).
+    series with common breaks (q = 2 only). ``executor`` runs the seeded tasks (see
+    :func:`evidence.parallel.using_executor`); the draws do not depend on it.
 
     Returns an array of shape ``(reps, max_k(trim))``. The first call for a given
     ``(q, trim, reps, grid, seed)`` simulates (seconds to minutes) and stores the draws; later
@@ -138,7 +139,7 @@ def null_draws(q: int, trim: float, *, design: str = "level", units: int = 1, re
     sizes = [min(_TASK_REPS, reps - i * _TASK_REPS) for i in range(n_tasks)]
     tasks = [(int(q), trim, int(grid), k_max, size, s, design, int(units))
              for size, s in zip(sizes, seeds)]
-    draws = np.concatenate(run_tasks(simulate_chunk, tasks, backend=backend, jobs=jobs,
-                                     scheduler=scheduler))
+    with using_executor(executor) as runner:
+        draws = np.concatenate(runner.map(simulate_chunk, tasks))
     save_cached("bp-null", params, {"draws": draws})
     return draws

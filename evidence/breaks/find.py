@@ -27,16 +27,18 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from evidence._validation import check_choice
+from evidence._hac import long_run_cov, newey_west_lags
+from evidence._validation import check_alpha, check_choice, check_int
 from evidence.breaks import tests as bt
-from evidence.breaks._input import (SELECTIONS, as_series, check_breaks, check_model, check_trim,
-                                     regressor_matrix)
+from evidence.breaks._input import (SELECTIONS, check_breaks, check_model, check_trim,
+                                     regressor_matrix, series_input)
 from evidence.breaks._simulate import NULL_GRID, NULL_REPS, NULL_SEED, null_draws
 from evidence.breaks.dates import break_interval
 from evidence.breaks.result import CONVENTION, BreakResult
 from evidence.breaks.segment import (optimal_partitions, regime_design, segment_bounds,
                                      ssr_table_general, ssr_tables)
 from evidence.errors import SpecError
+from evidence.parallel import ExecutorLike
 from evidence.results import TestResult
 
 __all__ = ["find_breaks", "information_criteria", "regime_fit", "SHORT_TREND_WARNING"]
@@ -123,8 +125,7 @@ def _test(name: str, statistic: float, draws: np.ndarray | None, cv: dict[float,
 def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: float = 0.15,
                 select: str = "bic", alpha: float = 0.05, regressors: Any = None, fixed: Any = None,
                 robust: bool = False, regime_variances: bool = False, hac_lags: int | None = None,
-                years: Any = None, backend: str = "serial", jobs: int | None = None,
-                scheduler: str | None = None) -> BreakResult:
+                years: Any = None, executor: ExecutorLike = "serial") -> BreakResult:
     """Find multiple structural breaks in one series (Bai–Perron global least squares).
 
     Parameters
@@ -153,8 +154,10 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
         Tests allow a different error variance (or long-run variance) in each regime.
     years : sequence of int, optional
         Years of an array ``y`` (default 1..T).
-    backend, jobs, scheduler
-        Executor of the one-off simulation of the null distributions (see ``evidence.parallel``).
+    executor : str, executor or dask Client
+        Runs the one-off simulation of the null distributions (``"serial"``, ``"processes"``,
+        ``"dask"``, a scheduler address or a running Client, which is never closed; see
+        :func:`evidence.parallel.using_executor`). The result does not depend on it.
 
     Returns
     -------
@@ -178,9 +181,11 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
     model = check_model(model)
     select = check_choice("select", select, SELECTIONS)
     trim = check_trim(trim)
-    if not isinstance(alpha, float) or not 0 < alpha < 0.5:
-        raise SpecError(f"alpha={alpha!r} must be a fraction between 0 and 0.5, e.g. 0.05.")
-    values, index, label = as_series(y, years)
+    alpha = check_alpha(alpha)
+    if alpha >= 0.5:
+        raise SpecError(f"alpha={alpha!r} must be below 0.5, e.g. 0.05.")
+    hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
+    values, index, _, label = series_input(y, years, "find_breaks")
     nobs = values.size
     if model == "trend" and regressors is not None:
         raise SpecError("model='trend' with changing regressors is not supported yet: its null "
@@ -196,7 +201,7 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
         z_names += extra_names
     q, p = z.shape[1], 0 if x is None else x.shape[1]
     h = check_breaks(label, nobs, q, p, trim, max_breaks, int(index[0]), int(index[-1]))
-    lags = bt.hac_lags_default(nobs) if hac_lags is None else int(hac_lags)
+    lags = newey_west_lags(nobs) if hac_lags is None else hac_lags
     ssr, breaks, table = _partitions(values, z, x, model, extra is None, h, max_breaks)
     opts = {"robust": robust, "regime_variances": regime_variances, "hac_lags": lags}
 
@@ -211,7 +216,7 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
 
     design = "trend" if model == "trend" else "level"
     tabled = design == "level"  # the published tables assume regressors with stable moments
-    draws = null_draws(q, trim, design=design, backend=backend, jobs=jobs, scheduler=scheduler)
+    draws = null_draws(q, trim, design=design, executor=executor)
     k_avail = draws.shape[1]
     base = {"model": model, "trim": trim, "q": q, "p": p, "robust": robust,
             "regime_variances": regime_variances, "hac_lags": lags if robust else None}
@@ -308,7 +313,8 @@ def _describe(values, z, x, cut, fit, index, z_names, robust, lags, alpha):  # n
         zb, ub = z[start:end + 1], fit["resid"][start:end + 1]
         n = end - start + 1
         scores = zb * ub[:, None]
-        omega = bt._long_run(scores, min(lags, n - 1), True) / n if robust else (ub @ ub / n) * (zb.T @ zb) / n
+        omega = (long_run_cov(scores, min(lags, n - 1), prewhiten=True).long_run if robust
+                 else (ub @ ub / n) * (zb.T @ zb) / n)
         moments.append((zb.T @ zb / n, omega))
         for c, name in enumerate(z_names):
             rows.append({"regime": r + 1, "term": name, "first_year": int(index[start]),

@@ -5,16 +5,18 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
+from evidence._figures import finish_figure, pyplot
+
 __all__ = ["plot_breaks"]
 
 
-def plot_breaks(result: Any, *, path: str | Path | None = None):  # noqa: ANN201
-    """Plot the series, fitted regimes and interval bands; save a PNG when ``path`` is given."""
-    import matplotlib
+def plot_breaks(result: Any, *, path: str | Path | None = None) -> Any:
+    """Plot the series, fitted regimes and interval bands.
 
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
+    With ``path`` the figure is written (and closed) by :func:`evidence._figures.finish_figure`
+    and the paths written are returned; without it the open figure is returned.
+    """
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.4, 3.6), dpi=100)
     ax.plot(result.data.index, result.data.to_numpy(), ".", color="0.35", label=result.series)
     bounds = [int(result.data.index[0]) - 1, *result.break_years, int(result.data.index[-1])]
@@ -29,7 +31,4 @@ def plot_breaks(result: Any, *, path: str | Path | None = None):  # noqa: ANN201
     ax.set_xlabel("year (dashed line: after the break year, the last year of the old regime)",
                   fontsize=8)
     fig.tight_layout()
-    if path is not None:
-        fig.savefig(path, metadata={"Software": None})
-    plt.close(fig)
-    return fig
+    return finish_figure(fig, path)

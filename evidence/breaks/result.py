@@ -11,15 +11,15 @@ from typing import Any
 import pandas as pd
 
 from evidence._json import json_safe
-from evidence.results import TestResult, format_number, format_pvalue
+from evidence.results import ResultProtocol, TestResult, format_number, format_pvalue
 
 __all__ = ["BreakResult", "CONVENTION"]
 
 CONVENTION = "A break year is the last year of the old regime; the new regime starts the year after."
 
 
-@dataclass(frozen=True, eq=False)
-class BreakResult:
+@dataclass(frozen=True, eq=False, repr=False)
+class BreakResult(ResultProtocol):
     """Breaks found in one series.
 
     Attributes
@@ -72,11 +72,10 @@ class BreakResult:
     warnings: tuple[str, ...] = ()
 
     def __post_init__(self) -> None:
+        super().__post_init__()
         object.__setattr__(self, "partitions", MappingProxyType(dict(self.partitions)))
         object.__setattr__(self, "tests", MappingProxyType(dict(self.tests)))
-        object.__setattr__(self, "details", MappingProxyType(dict(self.details)))
         object.__setattr__(self, "break_years", tuple(int(b) for b in self.break_years))
-        object.__setattr__(self, "warnings", tuple(str(w) for w in self.warnings))
 
     def __repr__(self) -> str:
         years = ", ".join(str(b) for b in self.break_years) or "none"
@@ -117,6 +116,18 @@ class BreakResult:
         lines.append(f"  reference: {self.reference}")
         lines.extend(f"  warning: {w}" for w in self.warnings)
         return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """One tidy row: the series, its years, the breaks with their intervals and the UDmax test."""
+        ud = self.tests.get("UDmax")
+        return pd.DataFrame([{
+            "series": self.series, "model": self.model, "first_year": int(self.data.index[0]),
+            "last_year": int(self.data.index[-1]), "nobs": self.nobs, "n_breaks": self.n_breaks,
+            "break_years": self.break_years,
+            "lower": tuple(int(v) for v in self.intervals["lower"]),
+            "upper": tuple(int(v) for v in self.intervals["upper"]),
+            "udmax": ud.statistic if ud is not None else float("nan"),
+            "pvalue": ud.pvalue if ud is not None else float("nan")}])
 
     def to_dict(self) -> dict[str, Any]:
         """All fields as JSON-safe Python objects."""

@@ -25,16 +25,16 @@ holm1979 : Holm, S. (1979). A simple sequentially rejective multiple test proced
 
 from __future__ import annotations
 
-from collections.abc import Callable
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 import pandas as pd
-from statsmodels.stats.multitest import multipletests
 
-from evidence._typing import Seed
-from evidence._validation import check_choice, format_years
+from evidence._json import json_safe
+from evidence._typing import DEFAULT_SEED, Seed
+from evidence._validation import adjust_pvalues, check_alpha, check_choice, check_int, check_seed
 from evidence.breaks import tests as bt
 from evidence.breaks._input import check_model, check_trim
 from evidence.breaks._simulate import null_draws
@@ -44,34 +44,94 @@ from evidence.breaks.result import CONVENTION
 from evidence.breaks.segment import MODELS, min_length, optimal_partitions, regime_design, ssr_tables
 from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
-from evidence.parallel import run_tasks, task_seeds
-from evidence.results import TestResult
+from evidence.parallel import ExecutorLike, task_seeds, using_executor
+from evidence.results import ResultProtocol, TestResult, excluded_frame, format_pvalue
 
 __all__ = ["screen_breaks", "common_breaks", "ScreenResult", "CommonBreakResult", "ADJUSTMENTS"]
 
-ADJUSTMENTS = {"bh": "fdr_bh", "holm": "holm"}
+#: Multiple-testing adjustments across units (``evidence._validation.adjust_pvalues``).
+ADJUSTMENTS = ("bh", "holm")
+_ADJUST_NAMES = {"bh": "Benjamini-Hochberg", "holm": "Holm"}
 
 
-@dataclass(frozen=True, eq=False)
-class ScreenResult:
-    """Per-unit breaks of one column: ``table`` (one row per unit), ``counts`` (units breaking in
-    each year), ``clustering`` (permutation test), ``audit`` (units skipped and why)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class ScreenResult(ResultProtocol):
+    """Per-unit breaks of one column.
+
+    Attributes
+    ----------
+    column : str
+        The column screened.
+    table : pandas.DataFrame
+        One row per unit (index ``unit``): years, number and years of breaks, interval bounds,
+        supF(1), UDmax, its p-value and the adjusted p-value.
+    counts : pandas.Series
+        Units with a break in each year.
+    clustering : TestResult
+        Permutation test of whether break years cluster across units.
+    excluded : pandas.DataFrame
+        Units and years left out (unit, column, years, reason).
+    details, reference, warnings
+        Options, sources and cautions.
+    """
 
     column: str
     table: pd.DataFrame
     counts: pd.Series
     clustering: TestResult
-    audit: pd.DataFrame
-    details: dict[str, Any] = field(default_factory=dict)
+    excluded: pd.DataFrame
+    details: Mapping[str, Any] = field(default_factory=dict)
     reference: str = "baiperron2003; benjaminihochberg1995"
+    warnings: tuple[str, ...] = ()
 
     def __repr__(self) -> str:
+        flagged = int((self.table["n_breaks"] > 0).sum()) if len(self.table) else 0
         return (f"ScreenResult(column={self.column!r}, units={len(self.table)}, "
-                f"skipped={len(self.audit)})")
+                f"with_breaks={flagged}, excluded={len(self.excluded)})")
+
+    def to_frame(self) -> pd.DataFrame:
+        """The per-unit table with ``unit`` as a column."""
+        return self.table.reset_index()
+
+    def summary(self) -> str:
+        """Units screened, units with breaks, the most common break years, clustering, exclusions."""
+        tab = self.table
+        flagged = tab[tab["n_breaks"] > 0]
+        lines = [f"Break screen of {self.column}: {len(tab)} unit(s), {len(flagged)} with at least "
+                 f"one break ({self.details.get('model')} model, trim {self.details.get('trim')}, "
+                 f"selection {self.details.get('select')})", f"  {CONVENTION}"]
+        alpha = float(self.details.get("alpha", 0.05))
+        adj = _ADJUST_NAMES.get(str(self.details.get("adjust")), str(self.details.get("adjust")))
+        lines.append(f"  UDmax significant at {alpha:g} after {adj} adjustment: "
+                     f"{int((tab['pvalue_adjusted'] < alpha).sum())} unit(s)")
+        top = self.counts[self.counts > 0].sort_values(ascending=False, kind="stable").head(5)
+        if len(top):
+            lines.append("  most common break years: " + ", ".join(f"{y} ({n})" for y, n in top.items()))
+        if self.clustering.applicable:
+            lines.append(f"  clustering: {self.clustering.statistic:.0f} units within "
+                         f"+-{self.clustering.details.get('spread')} year(s), permutation p "
+                         f"{format_pvalue(self.clustering.pvalue)}")
+        for row in flagged.itertuples():
+            years = ", ".join(f"{b} ({lo}-{hi})" for b, lo, hi in zip(row.break_years, row.lower, row.upper))
+            lines.append(f"    {row.Index}: {years}   p {format_pvalue(row.pvalue)}")
+        if len(self.excluded):
+            lines.append(f"  left out: {len(self.excluded)} row(s); see .excluded")
+        lines.append(f"  reference: {self.reference}")
+        lines.extend(f"  warning: {w}" for w in self.warnings)
+        return "\n".join(lines)
+
+    def to_dict(self) -> dict[str, Any]:
+        """All fields as JSON-safe Python objects."""
+        return json_safe({"column": self.column, "table": self.to_frame().to_dict(orient="records"),
+                          "counts": {str(k): int(v) for k, v in self.counts.items()},
+                          "clustering": self.clustering.to_dict(),
+                          "excluded": self.excluded.to_dict(orient="records"),
+                          "details": dict(self.details), "reference": self.reference,
+                          "warnings": list(self.warnings)})
 
 
-@dataclass(frozen=True, eq=False)
-class CommonBreakResult:
+@dataclass(frozen=True, eq=False, repr=False)
+class CommonBreakResult(ResultProtocol):
     """Common break years of a panel column, their intervals, and the pooled test."""
 
     column: str
@@ -80,9 +140,45 @@ class CommonBreakResult:
     intervals: pd.DataFrame
     ssr: pd.Series
     test: TestResult
-    audit: pd.DataFrame
-    details: dict[str, Any] = field(default_factory=dict)
+    excluded: pd.DataFrame
+    details: Mapping[str, Any] = field(default_factory=dict)
     reference: str = "bai2010"
+    warnings: tuple[str, ...] = ()
+
+    _repr_fields = ("column", "n_breaks", "break_years")
+
+    def __post_init__(self) -> None:
+        super().__post_init__()
+        object.__setattr__(self, "break_years", tuple(int(b) for b in self.break_years))
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per common break: break year and interval."""
+        return self.intervals.copy()
+
+    def summary(self) -> str:
+        """Break years with intervals, the pooled test and what was left out."""
+        lines = [f"Common breaks in {self.column}: {self.n_breaks} break(s) across "
+                 f"{self.details.get('units')} unit(s) ({self.details.get('model')} model)",
+                 f"  {CONVENTION}"]
+        for row in self.intervals.itertuples(index=False):
+            lines.append(f"  break {row.break_year}   interval {row.lower}-{row.upper}")
+        lines.append(f"  {self.test.test}: {self.test.statistic:.4f}, p {format_pvalue(self.test.pvalue)}")
+        if len(self.excluded):
+            lines.append(f"  left out: {len(self.excluded)} row(s); see .excluded")
+        lines.append(f"  reference: {self.reference}")
+        lines.extend(f"  warning: {w}" for w in self.warnings)
+        return "\n".join(lines)
+
+    def to_dict(self) -> dict[str, Any]:
+        """All fields as JSON-safe Python objects."""
+        return json_safe({"column": self.column, "n_breaks": self.n_breaks,
+                          "break_years": list(self.break_years),
+                          "intervals": self.intervals.to_dict(orient="records"),
+                          "ssr": {str(k): v for k, v in self.ssr.items()},
+                          "test": self.test.to_dict(),
+                          "excluded": self.excluded.to_dict(orient="records"),
+                          "details": dict(self.details), "reference": self.reference,
+                          "warnings": list(self.warnings)})
 
 
 def _unit_task(task: tuple) -> list[dict[str, Any]]:
@@ -115,55 +211,47 @@ def _unit_task(task: tuple) -> list[dict[str, Any]]:
     return rows
 
 
-def _series_of(panel: Panel, column: str, audit: list[dict[str, Any]]) -> dict[tuple[int, int], list]:
-    """Units grouped by their span of years; units with inner gaps or constant values audited."""
-    wide = panel.wide(column)
+def _series_of(panel: Panel, column: str) -> tuple[dict[tuple[int, int], list], list[dict[str, Any]]]:
+    """Units grouped by their span of years, through ``Panel.arrays`` (gaps and constants excluded)."""
+    block = panel.arrays(column, span="own", gaps="exclude", short="exclude", constant="exclude",
+                         min_years=2, require_units=0, purpose="screen_breaks")
+    excluded = block.excluded.to_dict(orient="records")
+    values = block.column(0)
     groups: dict[tuple[int, int], list] = {}
-    for unit in wide.columns:
-        s = wide[unit]
-        ok = s.notna().to_numpy()
-        if not ok.any():
-            audit.append({"unit": unit, "column": column, "reason": "no values"})
-            continue
-        first, last = np.argmax(ok), ok.size - 1 - np.argmax(ok[::-1])
-        inner = ~ok[first:last + 1]
-        years = s.index.to_numpy()[first:last + 1].astype(int)
-        vals = s.to_numpy(dtype=float)[first:last + 1]
-        if inner.any():
-            missing = format_years(years[inner])
-            audit.append({"unit": unit, "column": column,
-                          "reason": f"missing value(s) inside the series in {missing}"})
-            continue
-        if np.ptp(vals) == 0:
-            audit.append({"unit": unit, "column": column, "reason": "constant series"})
-            continue
-        groups.setdefault((int(years[0]), int(years[-1])), []).append((unit, vals))
-    return groups
+    for i, unit in enumerate(block.units):
+        lo, hi = int(block.first[i]), int(block.last[i])
+        groups.setdefault((int(block.years[lo]), int(block.years[hi])), []).append(
+            (unit, values[lo:hi + 1, i]))
+    return groups, excluded
 
 
 def screen_breaks(panel: Panel, column: str, *, model: str = "trend", max_breaks: int = 5,
                   trim: float = 0.15, select: str = "bic", alpha: float = 0.05, adjust: str = "bh",
-                  spread: int = 1, reps: int = 999, seed: Seed = 0, backend: str = "serial",
-                  jobs: int | None = None, scheduler: str | None = None, chunk: int = 250,
+                  spread: int = 1, reps: int = 999, seed: Seed = DEFAULT_SEED,
+                  executor: ExecutorLike = "serial", chunk: int = 250,
                   progress: Callable[[int, int], None] | None = None) -> ScreenResult:
     """Find breaks in ``column`` for every unit of ``panel`` (one row per unit).
 
     Units too short for ``trim`` and ``max_breaks``, with missing values inside their series or
-    constant, are skipped and listed in ``audit``. ``pvalue`` is the UDmax p-value (no break vs
-    1..max_breaks), ``pvalue_adjusted`` its Benjamini–Hochberg (``adjust="bh"``) or Holm
+    constant, are left out and listed in ``excluded``. ``pvalue`` is the UDmax p-value (no break
+    vs 1..max_breaks), ``pvalue_adjusted`` its Benjamini–Hochberg (``adjust="bh"``) or Holm
     (``"holm"``) adjustment across the screened units. ``spread``, ``reps`` and ``seed`` set the
-    clustering permutation test. Break years are the last year of the old regime.
+    clustering permutation test. ``executor`` runs chunks of ``chunk`` units (``"serial"``,
+    ``"processes"``, ``"dask"``, a scheduler address or a running Client, never closed here);
+    the output does not depend on it. Break years are the last year of the old regime.
     """
     panel.require(column)
     model = check_model(model)
     trim = check_trim(trim)
     select = check_choice("select", select, ("bic", "lwz"))
-    adjust = check_choice("adjust", adjust, tuple(ADJUSTMENTS))
-    if isinstance(chunk, bool) or not isinstance(chunk, int) or chunk < 1:
-        raise SpecError(f"chunk={chunk!r} must be a positive integer.")
+    adjust = check_choice("adjust", adjust, ADJUSTMENTS)
+    chunk = check_int("chunk", chunk, minimum=1)
+    max_breaks = check_int("max_breaks", max_breaks, minimum=1)
+    spread = check_int("spread", spread, minimum=0)
+    reps = check_int("reps", reps, minimum=1)
+    seed = check_seed(seed)
     q = MODELS[model]
-    audit: list[dict[str, Any]] = []
-    groups = _series_of(panel, column, audit)
+    groups, excluded = _series_of(panel, column)
     design = "trend" if model == "trend" else "level"
     draws = null_draws(q, trim, design=design)
     tasks = []
@@ -172,9 +260,9 @@ def screen_breaks(panel: Panel, column: str, *, model: str = "trend", max_breaks
         h = min_length(nobs, trim)
         if h < q + 1 or (max_breaks + 1) * h > nobs:
             for unit, _ in members:
-                audit.append({"unit": unit, "column": column,
-                              "reason": f"{nobs} years ({first}-{last}) too few for trim={trim} "
-                                        f"and max_breaks={max_breaks}"})
+                excluded.append({"unit": unit, "column": column, "years": f"{first}-{last}",
+                                 "reason": f"unit excluded: {nobs} years too few for trim={trim} "
+                                           f"and max_breaks={max_breaks}"})
             continue
         kk = min(max_breaks, draws.shape[1])
         weights = bt.wdmax_weights(q, trim, draws, kk, use_table=design == "level")
@@ -183,23 +271,25 @@ def screen_breaks(panel: Panel, column: str, *, model: str = "trend", max_breaks
             part = members[start:start + chunk]
             tasks.append(([u for u, _ in part], np.vstack([v for _, v in part]), years, model, h,
                           max_breaks, select, alpha, draws, weights))
+    excluded_table = excluded_frame(sorted(excluded, key=lambda r: str(r["unit"])))
     if not tasks:
         raise DataError(f"no unit of '{column}' can be screened; see the reasons: "
-                        + "; ".join(f"{a['unit']}: {a['reason']}" for a in audit[:5]))
-    rows = [r for part in run_tasks(_unit_task, tasks, backend=backend, jobs=jobs,
-                                    scheduler=scheduler, progress=progress) for r in part]
+                        + "; ".join(f"{a['unit']}: {a['reason']}" for a in excluded[:5]))
+    with using_executor(executor) as runner:
+        parts = runner.map(_unit_task, tasks, progress=progress)
+        executor_name = getattr(runner, "name", "custom")
+    rows = [r for part in parts for r in part]
     table = pd.DataFrame(rows).set_index("unit").sort_index()
-    table["pvalue_adjusted"] = multipletests(table["pvalue"].to_numpy(), method=ADJUSTMENTS[adjust])[1]
+    table["pvalue_adjusted"] = adjust_pvalues(table["pvalue"].to_numpy(), adjust)
     counts, clustering = _clustering(table, spread=spread, reps=reps, seed=seed, trim=trim)
-    audit_frame = pd.DataFrame(audit, columns=["unit", "column", "reason"])
     shortest = int((table["last_year"] - table["first_year"]).min()) + 1
     warnings = [SHORT_TREND_WARNING.format(nobs=shortest)] if design == "trend" and shortest < 60 else []
-    details = {"warnings": warnings,
-               "model": model, "trim": trim, "max_breaks": max_breaks, "select": select,
-               "adjust": adjust, "convention": CONVENTION, "backend": backend,
+    details = {"model": model, "trim": trim, "max_breaks": max_breaks, "select": select,
+               "alpha": alpha, "adjust": adjust, "convention": CONVENTION,
+               "executor": executor_name, "seed": seed if isinstance(seed, int) else None,
                "pvalue": f"UDmax, simulated limiting distribution ({design} design)"}
     return ScreenResult(column=column, table=table, counts=counts, clustering=clustering,
-                        audit=audit_frame, details=details)
+                        excluded=excluded_table, details=details, warnings=tuple(warnings))
 
 
 def _clustering(table: pd.DataFrame, *, spread: int, reps: int, seed: Seed,
@@ -263,16 +353,22 @@ def common_breaks(panel: Panel, column: str, *, model: str = "level", max_breaks
     panel.require(column)
     model = check_model(model)
     trim = check_trim(trim)
-    wide = panel.wide(column)
-    audit = [{"unit": u, "column": column, "reason": "missing values in the common years"}
-             for u in wide.columns if wide[u].isna().any()]
-    keep = [u for u in wide.columns if not wide[u].isna().any() and np.ptp(wide[u].to_numpy()) > 0]
-    audit += [{"unit": u, "column": column, "reason": "constant series"} for u in wide.columns
-              if u not in keep and not wide[u].isna().any()]
-    if len(keep) < 2:
-        raise DataError(f"common_breaks needs at least two complete units of '{column}'.")
-    values = wide[keep].to_numpy(dtype=float).T
-    years = wide.index.to_numpy().astype(int)
+    max_breaks = check_int("max_breaks", max_breaks, minimum=1)
+    alpha = check_alpha(alpha)
+    block = panel.arrays(column, span="own", gaps="exclude", short="exclude", constant="exclude",
+                         min_years=2, require_units=0, purpose="common_breaks")
+    excluded = block.excluded.to_dict(orient="records")
+    full = (block.first == 0) & (block.last == block.years.size - 1)
+    for i in np.flatnonzero(~full):
+        span = f"{block.years[block.first[i]]}-{block.years[block.last[i]]}"
+        excluded.append({"unit": block.units[i], "column": column, "years": span,
+                         "reason": "unit excluded: does not cover every year of the panel "
+                                   f"({block.years[0]}-{block.years[-1]})"})
+    if full.sum() < 2:
+        raise DataError(f"common_breaks needs at least two units of '{column}' with values in every "
+                        f"year {block.years[0]}-{block.years[-1]}; {int(full.sum())} have them.")
+    values = block.column(0)[:, full].T
+    years = block.years.astype(int)
     n_units, nobs = values.shape
     q = MODELS[model]
     h = min_length(nobs, trim)
@@ -319,6 +415,6 @@ def common_breaks(panel: Panel, column: str, *, model: str = "level", max_breaks
         column=column, n_breaks=m, break_years=tuple(int(years[b]) for b in cut[:m]),
         intervals=pd.DataFrame(rows, columns=["break_year", "lower", "upper"]),
         ssr=pd.Series(total_ssr[0], index=pd.RangeIndex(max_breaks + 1, name="m"), name="ssr"),
-        test=test, audit=pd.DataFrame(audit, columns=["unit", "column", "reason"]),
+        test=test, excluded=excluded_frame(sorted(excluded, key=lambda r: str(r["unit"]))),
         details={"model": model, "trim": trim, "units": n_units, "convention": CONVENTION,
                  "interval": "pooled break size, equal moments across regimes (Bai 2010)"})

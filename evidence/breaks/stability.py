@@ -32,7 +32,7 @@ from scipy import stats
 from statsmodels.regression.recursive_ls import RecursiveLS
 from statsmodels.stats.diagnostic import breaks_cusumolsresid
 
-from evidence.breaks._input import as_series, check_model, regressor_matrix
+from evidence.breaks._input import check_model, regressor_matrix, series_input
 from evidence.breaks.segment import regime_design
 from evidence.errors import DataError, SpecError
 from evidence.results import TestResult
@@ -42,7 +42,7 @@ __all__ = ["chow_test", "cusum_test", "ols_cusum_test"]
 
 def _design(y: Any, model: str, regressors: Any, years: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
     model = check_model(model)
-    values, index, label = as_series(y, years)
+    values, index, label, _ = series_input(y, years, "a stability test")
     z = regime_design(model, values.size)
     extra, _ = regressor_matrix(regressors, values.size, label, "regressors")
     if extra is not None:

@@ -32,20 +32,15 @@ import math
 
 import numpy as np
 
+from evidence._hac import long_run_cov
 from evidence.breaks import _bp_tables
 from evidence.breaks.segment import segment_bounds
-from evidence.indicators import newey_west_lags
 
 __all__ = ["supf_homoskedastic", "break_covariance", "wald_equal_regimes", "split_segments",
            "table_critical_values", "simulated_critical_values", "tail_pvalue", "wdmax_weights",
-           "hac_lags_default"]
+           "score_long_run"]
 
 LEVELS = (0.10, 0.05, 0.01)
-
-
-def hac_lags_default(nobs: int) -> int:
-    """Newey–West rule of thumb ``floor(4 (T/100)^(2/9))`` (common practice)."""
-    return newey_west_lags(nobs)
 
 
 def supf_homoskedastic(ssr: np.ndarray, nobs: int, q: int, p: int) -> np.ndarray:
@@ -57,36 +52,13 @@ def supf_homoskedastic(ssr: np.ndarray, nobs: int, q: int, p: int) -> np.ndarray
         return ((ssr[..., :1] - ssr[..., 1:]) / k) / (ssr[..., 1:] / dof)
 
 
-def _bartlett(scores: np.ndarray, lags: int) -> np.ndarray:
-    omega = scores.T @ scores
-    for lag in range(1, lags + 1):
-        weight = 1.0 - lag / (lags + 1.0)
-        gamma = scores[lag:].T @ scores[:-lag]
-        omega += weight * (gamma + gamma.T)
-    return omega
+def score_long_run(scores: np.ndarray, hac_lags: int, prewhiten: bool = False) -> np.ndarray:
+    """Bartlett long-run covariance of the rows of ``scores``, summed over the rows (not averaged).
 
-
-def _long_run(scores: np.ndarray, lags: int, prewhiten: bool = False) -> np.ndarray:
-    """Bartlett-kernel long-run covariance of the rows of ``scores`` (sum, not average).
-
-    With ``prewhiten`` the scores are first filtered by a VAR(1), ``s_t = B' s_{t-1} + v_t``
-    (Andrews & Monahan 1992), the kernel is applied to ``v`` and the result recoloured with
-    ``(I - B')^{-1}``; a VAR whose largest root exceeds 0.97 in modulus is shrunk to 0.97.
+    ``evidence._hac.long_run_cov`` (an average over T, optionally VAR(1)-prewhitened as in
+    Andrews & Monahan 1992) times the number of rows.
     """
-    if not prewhiten or scores.shape[0] < 3 * scores.shape[1] + 2:
-        return _bartlett(scores, lags)
-    active = np.abs(scores).sum(axis=0) > 0
-    sub = scores[:, active]
-    coef, *_ = np.linalg.lstsq(sub[:-1], sub[1:], rcond=None)
-    root = float(np.max(np.abs(np.linalg.eigvals(coef)))) if coef.size else 0.0
-    if root > 0.97:
-        coef *= 0.97 / root
-    resid = sub[1:] - sub[:-1] @ coef
-    inner = _bartlett(resid, lags) * sub.shape[0] / resid.shape[0]
-    recolour = np.linalg.inv(np.eye(coef.shape[0]) - coef.T)
-    out = np.zeros((scores.shape[1], scores.shape[1]))
-    out[np.ix_(active, active)] = recolour @ inner @ recolour.T
-    return out
+    return scores.shape[0] * long_run_cov(scores, hac_lags, prewhiten=prewhiten).long_run
 
 
 def break_covariance(design: np.ndarray, resid: np.ndarray, bounds: list[tuple[int, int]], *,
@@ -104,13 +76,13 @@ def break_covariance(design: np.ndarray, resid: np.ndarray, bounds: list[tuple[i
     if not robust and not regime_variances:
         meat = (resid @ resid / nobs) * (design.T @ design)
     elif not regime_variances:
-        meat = _long_run(scores, hac_lags, prewhiten)
+        meat = score_long_run(scores, hac_lags, prewhiten)
     else:
         meat = np.zeros((design.shape[1], design.shape[1]))
         for start, end in bounds:
             block = slice(start, end + 1)
             if robust:
-                meat += _long_run(scores[block], min(hac_lags, end - start), prewhiten)
+                meat += score_long_run(scores[block], min(hac_lags, end - start), prewhiten)
             else:
                 xb = design[block]
                 rb = resid[block]

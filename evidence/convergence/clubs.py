@@ -11,21 +11,23 @@ phillipssul2009 : Phillips, P. C. B. & Sul, D. (2009). Economic transition and g
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
+from pathlib import Path
 from typing import Any
 
 import numpy as np
 import pandas as pd
 from scipy import stats
 
+from evidence._figures import finish_figure, pyplot
 from evidence._json import json_safe
 from evidence._typing import Window
 from evidence._validation import check_window
 from evidence.errors import DataError, SpecError
 from evidence.indicators import trend_growth_batch
 from evidence.panel import Panel
-from evidence.results import TestResult
+from evidence.results import ResultProtocol, TestResult
 
 __all__ = ["ClubResult", "log_t_statistic", "log_t_test", "club_convergence", "hp_trends"]
 
@@ -53,10 +55,14 @@ def log_t_statistic(x: np.ndarray, *, trim: float = 0.3) -> tuple[float, float, 
     big_h = ((h - 1.0) ** 2).mean(axis=1)
     first = max(int(math.floor(trim * n_years)), 2)
     t = np.arange(first, n_years + 1, dtype=float)
+    if not (big_h[0] > 0 and np.all(big_h[first - 1:] > 0)):
+        # identical units in a year: the regression is undefined, and such a group is not
+        # accepted as converging by the test (t is NaN, never above the critical value)
+        return math.nan, math.nan, t.size
     y = np.log(big_h[0] / big_h[first - 1:]) - 2.0 * np.log(np.log(t))
     slope, se, _ = trend_growth_batch(y[:, None], np.log(t))
     b, se, n = float(slope[0]), float(se[0]), t.size
-    return b / se, b, n
+    return (b / se if se > 0 else math.nan), b, n
 
 
 def _prepare(panel: Panel, column: str, window: Window | str | None, smoothing: float | None,
@@ -87,6 +93,10 @@ def _prepare(panel: Panel, column: str, window: Window | str | None, smoothing: 
                         f"'{wide.columns[col]}', year {years[row]}; the relative transition path "
                         "needs positive values (use logs of values above 1, e.g. a smaller unit "
                         "of measure).")
+    same = np.ptp(values, axis=1) == 0
+    if same.any():
+        raise DataError(f"every unit has the same (filtered) '{column}' in {years[same][0]}; the "
+                        "log t test needs the units to differ.")
     if years.size < 10:
         raise DataError(f"the window {start}:{end} has {years.size} years; the log t test needs "
                         "at least 10.")
@@ -123,9 +133,27 @@ def _check_trim(trim: float) -> None:
         raise SpecError(f"trim={trim!r} must be between 0 and 0.5 (Phillips & Sul use 0.3).")
 
 
-@dataclass(frozen=True, eq=False)
-class ClubResult:
-    """Convergence clubs: membership, each club's log t test, merges, and transition paths."""
+@dataclass(frozen=True, eq=False, repr=False)
+class ClubResult(ResultProtocol):
+    """Convergence clubs: membership, each club's log t test, merges, and transition paths.
+
+    Attributes
+    ----------
+    clubs : tuple of tuple of str
+        The units of each club, club 1 first (highest last-year values).
+    divergent : tuple of str
+        Units that belong to no club.
+    tests : tuple of TestResult
+        The log t test of each club.
+    overall : TestResult
+        The log t test of all units.
+    merges : pandas.DataFrame
+        Each merge tried (clubs, log t, merged).
+    transition : pandas.DataFrame
+        Relative transition paths (unit / club mean), one column per unit in a club.
+    details : mapping
+        ``trim``, ``smoothing``, ``sieve``, ``log``, ``critical_value``, ``window``.
+    """
 
     clubs: tuple[tuple[str, ...], ...]
     divergent: tuple[str, ...]
@@ -133,13 +161,24 @@ class ClubResult:
     overall: TestResult
     merges: pd.DataFrame
     transition: pd.DataFrame
-    details: dict[str, Any] = field(default_factory=dict)
+    details: Mapping[str, Any] = field(default_factory=dict)
+
+    def __repr__(self) -> str:
+        return (f"ClubResult(clubs={len(self.clubs)}, sizes={tuple(len(c) for c in self.clubs)}, "
+                f"divergent={len(self.divergent)}, overall_log_t={self.overall.statistic:.3f})")
 
     def membership(self) -> pd.DataFrame:
         """One row per unit: its club (0 for divergent units)."""
         rows = [{"unit": u, "club": i} for i, club in enumerate(self.clubs, start=1) for u in club]
         rows += [{"unit": u, "club": 0} for u in self.divergent]
         return pd.DataFrame(rows).set_index("unit")
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per club: its size, log t statistic, ``b`` and p-value."""
+        return pd.DataFrame(
+            [{"club": i, "units": len(c), "log_t": t.statistic, "b": t.details["b"],
+              "pvalue": t.pvalue} for i, (c, t) in enumerate(zip(self.clubs, self.tests), start=1)],
+            columns=["club", "units", "log_t", "b", "pvalue"])
 
     def summary(self) -> str:
         """Clubs with their members and log t statistics."""
@@ -158,15 +197,15 @@ class ClubResult:
         return json_safe({"clubs": [list(c) for c in self.clubs], "divergent": list(self.divergent),
                           "tests": [t.to_dict() for t in self.tests],
                           "overall": self.overall.to_dict(), "merges": self.merges,
-                          "details": self.details})
+                          "details": dict(self.details)})
 
-    def plot(self, path: Any = None) -> Any:
-        """Relative transition paths (unit / club mean), one panel per club."""
-        import matplotlib
+    def plot(self, path: str | Path | None = None) -> Any:
+        """Relative transition paths (unit / club mean), one panel per club.
 
-        matplotlib.use("Agg")
-        import matplotlib.pyplot as plt
-
+        With ``path`` the figure is written (and closed) and the paths written are returned;
+        without, the open figure is returned.
+        """
+        plt = pyplot()
         k = max(len(self.clubs), 1)
         fig, axes = plt.subplots(1, k, figsize=(3.2 * k, 3.0), dpi=100, squeeze=False)
         for ax, club, i in zip(axes[0], self.clubs, range(1, k + 1)):
@@ -174,10 +213,7 @@ class ClubResult:
             ax.axhline(1.0, color="0.5", linewidth=0.8)
             ax.set_title(f"club {i}")
         fig.tight_layout()
-        if path is not None:
-            fig.savefig(path, metadata={"Software": None})
-            plt.close(fig)
-        return fig
+        return finish_figure(fig, path)
 
 
 def _t(values: np.ndarray, idx: Sequence[int], trim: float) -> float:

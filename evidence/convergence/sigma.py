@@ -11,6 +11,7 @@ boylemccarthy1997 : Boyle, G. E. & McCarthy, T. G. (1997). A simple measure of Î
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -24,7 +25,7 @@ from evidence._validation import check_choice, check_window, format_years
 from evidence.errors import DataError, SpecError
 from evidence.indicators import trend_growth_batch
 from evidence.panel import Panel
-from evidence.results import TestResult
+from evidence.results import ResultProtocol, TestResult, excluded_frame, format_pvalue
 
 __all__ = ["SigmaResult", "GammaResult", "sigma_convergence", "gamma_convergence",
            "dispersion", "carree_klomp_tests", "kendall_concordance"]
@@ -71,6 +72,14 @@ def carree_klomp_tests(first: np.ndarray, last: np.ndarray) -> tuple[TestResult,
     x, y = np.log(first), np.log(last)
     v1, vt = x.var(), y.var()
     c = float(np.mean((x - x.mean()) * (y - y.mean())))
+    if not (v1 > 0 and vt > 0 and v1 * vt - c * c > 0):
+        reason = ("the logs do not vary across units in the first or last year"
+                  if not (v1 > 0 and vt > 0) else
+                  "the last year's logs are an exact linear function of the first year's")
+        return (TestResult.inapplicable("Carree-Klomp T2 (equal dispersion)", reason=reason,
+                                        nobs=n, reference="carreeklomp1997"),
+                TestResult.inapplicable("Carree-Klomp T3 (dispersion fell)", reason=reason,
+                                        nobs=n, reference="carreeklomp1997"))
     t2 = (n - 2.5) * math.log1p((v1 - vt) ** 2 / (4 * (v1 * vt - c * c)))
     beta = c / v1
     t3 = math.sqrt(n) * (v1 / vt - 1.0) / (2.0 * math.sqrt(max(1.0 - beta * beta, 1e-12)))
@@ -90,9 +99,27 @@ def carree_klomp_tests(first: np.ndarray, last: np.ndarray) -> tuple[TestResult,
     return two, three
 
 
-@dataclass(frozen=True, eq=False)
-class SigmaResult:
-    """The dispersion path, its trend test and the first-versus-last-year tests."""
+@dataclass(frozen=True, eq=False, repr=False)
+class SigmaResult(ResultProtocol):
+    """The dispersion path, its trend test and the first-versus-last-year tests.
+
+    Attributes
+    ----------
+    path : pandas.Series
+        Dispersion each year of the window.
+    measure : str
+        ``"sd_log"``, ``"cv"`` or ``"weighted_sd_log"``.
+    trend_test : TestResult
+        One-sided test of a falling dispersion trend.
+    first_last_tests : (TestResult, TestResult)
+        Carreeâ€“Klomp T2 and T3.
+    excluded : pandas.DataFrame
+        Units left out (unit, column, years, reason): the same units every year.
+    window : (int, int)
+        First and last year.
+    details : mapping
+        ``units`` used.
+    """
 
     path: pd.Series
     measure: str
@@ -100,22 +127,32 @@ class SigmaResult:
     first_last_tests: tuple[TestResult, TestResult]
     excluded: pd.DataFrame
     window: Window
-    details: dict[str, Any] = field(default_factory=dict)
+    details: Mapping[str, Any] = field(default_factory=dict)
+
+    def __repr__(self) -> str:
+        return (f"SigmaResult(measure={self.measure!r}, window={self.window}, "
+                f"first={self.path.iloc[0]:.4f}, last={self.path.iloc[-1]:.4f}, "
+                f"trend_pvalue={format_pvalue(self.trend_test.pvalue)})")
 
     def summary(self) -> str:
         """Dispersion at the ends of the window and the tests."""
         lines = [f"Sigma convergence ({self.measure}), {self.window[0]}-{self.window[1]}: "
                  f"{self.path.iloc[0]:.4f} -> {self.path.iloc[-1]:.4f}",
                  self.trend_test.summary(), *(t.summary() for t in self.first_last_tests)]
+        lines += [f"excluded: {r.unit} ({r.reason})" for r in self.excluded.itertuples()]
         return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """The dispersion path, one row per year."""
+        return self.path.to_frame()
 
     def to_dict(self) -> dict[str, Any]:
         """JSON-safe contents."""
         return json_safe({"path": self.path, "measure": self.measure,
                           "trend_test": self.trend_test.to_dict(),
                           "first_last_tests": [t.to_dict() for t in self.first_last_tests],
-                          "excluded": self.excluded, "window": list(self.window),
-                          "details": self.details})
+                          "excluded": self.excluded.to_dict(orient="records"),
+                          "window": list(self.window), "details": dict(self.details)})
 
 
 def _balanced(panel: Panel, columns: list[str], start: int, end: int) -> tuple[dict, pd.DataFrame]:
@@ -129,14 +166,14 @@ def _balanced(panel: Panel, columns: list[str], start: int, end: int) -> tuple[d
         miss = wide.isna().to_numpy()
         for j, unit in enumerate(panel.units):
             if miss[:, j].any() and unit not in reasons:
-                reasons[unit] = f"no '{c}' in {format_years(np.asarray(years)[miss[:, j]])}"
+                reasons[unit] = (c, format_years(np.asarray(years)[miss[:, j]]))
         lacking |= miss.any(axis=0)
     keep = [u for u, bad in zip(panel.units, lacking) if not bad]
     if len(keep) < 3:
         raise DataError(f"only {len(keep)} units have complete data in {start}:{end}; "
                         "dispersion needs at least 3.")
-    excluded = pd.DataFrame([{"unit": u, "reason": r} for u, r in reasons.items()],
-                            columns=["unit", "reason"])
+    excluded = excluded_frame({"unit": u, "column": c, "years": y,
+                               "reason": f"no '{c}' in {y}"} for u, (c, y) in reasons.items())
     values = {c: w[keep] for c, w in wides.items()}
     for c in columns:
         if (values[c].to_numpy() <= 0).any():
@@ -168,16 +205,25 @@ def sigma_convergence(panel: Panel, column: str, *, measure: str = "sd_log",
     level = values[column].to_numpy()
     path = dispersion(level, measure=measure,
                       weights=None if weights is None else values[weights].to_numpy())
+    if not np.any(path > 0):
+        raise DataError(f"every unit has the same '{column}' in every year of {start}:{end}; "
+                        "there is no dispersion to follow.")
     slope, se, lags = trend_growth_batch(path[:, None], years, hac_lags=hac_lags)
-    t = float(slope[0] / se[0])
     n = years.size
-    trend = TestResult(test="sigma convergence (dispersion trend < 0)", statistic=t,
-                       pvalue=float(stats.t.cdf(t, n - 2)),
-                       critical_values={a: float(stats.t.ppf(a, n - 2)) for a in (0.01, 0.05, 0.10)},
-                       null="dispersion trend >= 0", alternative="dispersion falls over time",
-                       nobs=n, details={"slope": float(slope[0]), "std_error": float(se[0]),
-                                        "hac_lags": lags, "measure": measure},
-                       reference="neweywest1987")
+    label = "sigma convergence (dispersion trend < 0)"
+    if np.isfinite(se[0]) and se[0] > 0:
+        t = float(slope[0] / se[0])
+        trend = TestResult(test=label, statistic=t, pvalue=float(stats.t.cdf(t, n - 2)),
+                           critical_values={a: float(stats.t.ppf(a, n - 2))
+                                            for a in (0.01, 0.05, 0.10)},
+                           null="dispersion trend >= 0", alternative="dispersion falls over time",
+                           nobs=n, details={"slope": float(slope[0]), "std_error": float(se[0]),
+                                            "hac_lags": lags, "measure": measure},
+                           reference="neweywest1987")
+    else:  # an exactly linear path, or too few years for a standard error
+        trend = TestResult.inapplicable(label, nobs=n, reference="neweywest1987",
+                                        reason=f"the trend's standard error is {se[0]:g} "
+                                               f"({n} years); nothing to test against")
     tests = carree_klomp_tests(level[0], level[-1])
     return SigmaResult(path=pd.Series(path, index=pd.Index(years, name=panel.time_name),
                                       name=measure),
@@ -192,19 +238,47 @@ def kendall_concordance(first: np.ndarray, later: np.ndarray) -> float:
     return float(np.var(rt + r0) / np.var(2 * r0))
 
 
-@dataclass(frozen=True, eq=False)
-class GammaResult:
-    """Rank concordance of each year with the base year, and the test for the last year."""
+@dataclass(frozen=True, eq=False, repr=False)
+class GammaResult(ResultProtocol):
+    """Rank concordance of each year with the base year, and the test for the last year.
+
+    Attributes
+    ----------
+    path : pandas.Series
+        Kendall's index of each year against the first (1 in the first year).
+    test : TestResult
+        The chi-squared test that the first and last rankings are unrelated.
+    excluded : pandas.DataFrame
+        Units left out (unit, column, years, reason).
+    window : (int, int)
+        First and last year.
+    """
 
     path: pd.Series
     test: TestResult
     excluded: pd.DataFrame
     window: Window
 
+    def __repr__(self) -> str:
+        return (f"GammaResult(window={self.window}, index_last={self.path.iloc[-1]:.4f}, "
+                f"pvalue={format_pvalue(self.test.pvalue)})")
+
+    def summary(self) -> str:
+        """The index in the last year and the test."""
+        lines = [f"Gamma convergence, {self.window[0]}-{self.window[1]}: Kendall index of the last "
+                 f"year against the first {self.path.iloc[-1]:.4f}", self.test.summary()]
+        lines += [f"excluded: {r.unit} ({r.reason})" for r in self.excluded.itertuples()]
+        return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """The index path, one row per year."""
+        return self.path.to_frame()
+
     def to_dict(self) -> dict[str, Any]:
         """JSON-safe contents."""
         return json_safe({"path": self.path, "test": self.test.to_dict(),
-                          "excluded": self.excluded, "window": list(self.window)})
+                          "excluded": self.excluded.to_dict(orient="records"),
+                          "window": list(self.window)})
 
 
 def gamma_convergence(panel: Panel, column: str, *,
@@ -221,6 +295,9 @@ def gamma_convergence(panel: Panel, column: str, *,
                   else (panel.years[0], panel.years[-1]))
     values, excluded = _balanced(panel, [column], start, end)
     level = values[column].to_numpy()
+    if np.ptp(level[0]) == 0:
+        raise DataError(f"every unit has the same '{column}' in {start}; there is no ranking to "
+                        "compare later years with.")
     path = np.array([kendall_concordance(level[0], level[t]) for t in range(level.shape[0])])
     n = level.shape[1]
     chi = 2 * (n - 1) * path[-1]

@@ -1,45 +1,33 @@
 """Figures of a study: indexed series with break years, sub-window heat maps, decomposition bars.
 
-Each figure is written as PNG and SVG with fixed metadata, so the same inputs give the same files.
+Each figure is written as PNG and SVG with fixed metadata through the package's one figure helper
+(:mod:`evidence._figures`), so the same inputs give the same files and every figure is closed.
 """
 
 from __future__ import annotations
 
 from collections.abc import Sequence
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 import pandas as pd
 
+from evidence._figures import finish_figure, pyplot
 from evidence.panel import Panel
 
 __all__ = ["save", "indexed_figure", "heatmap_figure", "decomposition_figure"]
 
 
-def _plt():  # noqa: ANN202
-    import matplotlib
-
-    matplotlib.use("Agg")
-    matplotlib.rcParams["svg.hashsalt"] = "evidence"
-    import matplotlib.pyplot as plt
-
-    return plt
-
-
-def save(fig, stem: Path) -> list[Path]:  # noqa: ANN001
+def save(fig: Any, stem: Path) -> list[Path]:
     """Write ``stem.png`` and ``stem.svg`` and close the figure."""
-    plt = _plt()
-    png, svg = stem.with_suffix(".png"), stem.with_suffix(".svg")
-    fig.savefig(png, metadata={"Software": None})
-    fig.savefig(svg, metadata={"Date": None, "Creator": None})
-    plt.close(fig)
-    return [png, svg]
+    return finish_figure(fig, stem, formats=("png", "svg"))
 
 
 def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[str],
                    window: tuple[int, int], breaks: dict[str, Sequence[int]]):  # noqa: ANN201
     """Activity and pressures of one unit indexed to the window's first year, with break years."""
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.4, 3.8), dpi=100)
     start, end = window
     for column, style in zip((activity, *pressures), ("-", "--", ":", "-.", "--")):
@@ -62,7 +50,7 @@ def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[s
 
 def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noqa: ANN201
     """Start × end map of the sub-windows in which a claim holds (1) or not (0)."""
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(4.8, 4.2), dpi=100)
     masked = np.ma.masked_invalid(np.asarray(matrix, dtype=float))
     ax.imshow(masked.T, origin="lower", cmap="RdYlGn", vmin=0, vmax=1,
@@ -76,7 +64,7 @@ def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noq
 
 def decomposition_figure(effects: pd.DataFrame, title: str):  # noqa: ANN201
     """Bars of the additive LMDI effects (one group per row of ``effects``)."""
-    plt = _plt()
+    plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.4, 3.6), dpi=100)
     effects.plot.bar(ax=ax, width=0.8)
     ax.axhline(0.0, color="0.4", linewidth=0.8)

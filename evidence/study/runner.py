@@ -1,13 +1,13 @@
 """``run_study``: from a study file to an output folder of report, tables, figures and results.
 
-The runner only calls the public API and formats what it returns. An analysis that cannot run on
-the data (too few years, missing columns for an optional part) is reported as "not run" with its
-reason in the report and in ``results.json`` — never silently dropped.
+The runner loads the data, runs each step of :data:`evidence.study.steps.STEPS` that the spec
+turns on, and writes what the steps hand back. An analysis that cannot run on the data (too few
+years, missing columns for an optional part) is reported as "not run" with its reason in the
+report and in ``results.json`` — never silently dropped.
 """
 
 from __future__ import annotations
 
-import hashlib
 import json
 import platform
 import time
@@ -18,61 +18,121 @@ from importlib import metadata
 from pathlib import Path
 from typing import Any
 
-import evidence as ev
-from evidence._json import json_safe
-from evidence.errors import DataError, EvidenceError
-from evidence.study import figures as figs
-from evidence.study.report import Section, render_report
-from evidence.study.spec import StudySpec, read_spec
-from evidence.tables._docx import html_to_docx
-from evidence.tables import (audit_table, grade_table, rates_table, regression_table,
-                             render_frame, test_table)
+import pandas as pd
 
-__all__ = ["StudyResult", "run_study"]
+from evidence._files import check_source
+from evidence._json import json_safe
+from evidence._validation import format_years
+from evidence._version import __version__
+from evidence.errors import DataError, EvidenceError
+from evidence.panel import Panel, load_panel
+from evidence.parallel import ExecutorLike, using_executor
+from evidence.results import ResultProtocol
+from evidence.study import figures as figs
+from evidence.study._output import OutputFolder, file_hash
+from evidence.study.report import Section, render_report
+from evidence.study.spec import StudySpec, check_against_data, check_executor, read_spec
+from evidence.study.steps import AUDIT, STEPS, StepOutput
+from evidence.tables import html_to_docx
+
+__all__ = ["StudyResult", "run_study", "run_into"]
 
 _DEPENDENCIES = ("numpy", "scipy", "pandas", "statsmodels", "linearmodels", "arch", "matplotlib")
 _EXT = {"text": "txt", "markdown": "md", "latex": "tex", "html": "html", "csv": "csv",
         "json": "json", "docx": "docx"}
 
 
-@dataclass(frozen=True)
-class StudyResult:
-    """What a study run wrote (``files``) and computed (``results``, JSON-safe)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class StudyResult(ResultProtocol):
+    """What a study run wrote and computed.
+
+    Attributes
+    ----------
+    folder : pathlib.Path
+        The output folder.
+    files : tuple of pathlib.Path
+        Every file written, in the order written.
+    results : dict
+        The contents of ``results.json`` (JSON-safe): the spec, each step's results, and
+        ``not_run`` (step → reason).
+    grade : GradeResult or None
+        The grade, when the grade step ran.
+    steps : tuple of str
+        The analyses the spec turned on, in report order (run or not run).
+    """
 
     folder: Path
     files: tuple[Path, ...]
     results: dict[str, Any]
-    grade: Any
+    grade: Any = None
+    steps: tuple[str, ...] = ()
+
+    _private_fields = ("grade",)
+
+    def __repr__(self) -> str:
+        return (f"StudyResult(folder='{self.folder}', files={len(self.files)}, "
+                f"not_run={len(self.results.get('not_run', {}))})")
+
+    def summary(self) -> str:
+        """The grade's counts, the analyses not run and what was written."""
+        lines = [] if self.grade is None else [self.grade.summary()]
+        lines += [f"not run: {name}: {reason}"
+                  for name, reason in self.results.get("not_run", {}).items()]
+        lines.append(f"Wrote {len(self.files)} files to {self.folder}/ (report.html, tables/, "
+                     "figures/, results.json, manifest.json).")
+        return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per analysis of the study: run or not run, and why not."""
+        not_run = self.results.get("not_run", {})
+        return pd.DataFrame([{"analysis": name, "status": "not run" if name in not_run else "run",
+                              "reason": not_run.get(name, "")} for name in self.steps],
+                            columns=["analysis", "status", "reason"])
 
 
 class _Writer:
-    def __init__(self, folder: Path, formats: tuple[str, ...]) -> None:
-        self.folder, self.formats, self.files = folder, formats, []
-        (folder / "tables").mkdir(parents=True, exist_ok=True)
-        (folder / "figures").mkdir(parents=True, exist_ok=True)
+    """Writes the tables and figures of the steps into the new output folder and lists them."""
 
-    def table(self, name: str, render: Callable[[str], str]) -> str:
+    def __init__(self, folder: OutputFolder, formats: tuple[str, ...]) -> None:
+        self.folder, self.formats = folder, formats
+        self.not_drawn: dict[str, str] = {}
+        folder.path("tables/.").mkdir(exist_ok=True)
+        folder.path("figures/.").mkdir(exist_ok=True)
+
+    def table(self, name: str, render: Callable[[str], str], source: str | None = None) -> str:
         for fmt in self.formats:
-            path = self.folder / "tables" / f"{name}.{_EXT[fmt]}"
+            relative = f"tables/{name}.{_EXT[fmt]}"
             if fmt == "docx":
-                html_to_docx(render("html"), path)
+                html_to_docx(render("html"), self.folder.path(relative))
             else:
-                path.write_text(render(fmt), encoding="utf-8")
-            self.files.append(path)
+                self.folder.path(relative).write_text(render(fmt), encoding="utf-8")
+            self.folder.record(relative, source)
         return render("html")
 
-    def figure(self, fig: Any, name: str) -> Path:
-        paths = figs.save(fig, self.folder / "figures" / name)
-        self.files.extend(paths)
-        return paths[0]
+    def section(self, output: StepOutput) -> Section:
+        """Write the step's tables and figures; the report section that shows them."""
+        import matplotlib
 
-
-def _hash(path: Path) -> str:
-    return hashlib.sha256(path.read_bytes()).hexdigest()
+        fragments = tuple(self.table(t.name, t.render, t.source) for t in output.tables)
+        shown = []
+        for figure in output.figures:
+            # data-derived text (unit names) is shown as written, never parsed as mathtext
+            with matplotlib.rc_context({"text.parse_math": False}):
+                try:
+                    drawn = figure.draw()
+                except EvidenceError as exc:
+                    self.not_drawn[figure.label or figure.name] = str(exc)
+                    continue
+                paths = figs.save(drawn, self.folder.path(f"figures/{figure.name}"))
+            for path in paths:
+                self.folder.record(f"figures/{path.name}", figure.source)
+            if figure.in_report:
+                shown.append(paths[0])
+        return Section(output.title, fragments, tuple(shown), note=output.note)
 
 
 def _versions() -> dict[str, str]:
-    out = {"evidence": ev.__version__, "python": platform.python_version()}
+    out = {"evidence": __version__, "python": platform.python_version()}
     for name in _DEPENDENCIES:
         try:
             out[name] = metadata.version(name)
@@ -81,223 +141,149 @@ def _versions() -> dict[str, str]:
     return out
 
 
-def _criteria(spec: StudySpec) -> ev.Criteria:
-    return ev.Criteria(**{**spec.criteria, "seed": spec.seed,
-                          **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
+def _load(spec: StudySpec) -> Panel:
+    """The study's panel, with the columns, units and years the spec names checked."""
+    basis = {p.column: p.basis for p in spec.pressures}
+    basis.update({p.consumption: "consumption" for p in spec.pressures if p.consumption})
+    panel = load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
+    check_against_data(spec, panel.columns, panel.units, panel.years)
+    return _without_nonpositive(panel, spec)
+
+
+def _without_nonpositive(panel: Panel, spec: StudySpec) -> Panel:
+    """The panel without units that have a zero or negative value where the study takes logs or
+    divides (pressures, activity, population, energy, in the window); each is listed in the
+    audit. One bad cell excludes its unit, not an analysis."""
+    columns = [c for c in (*spec.pressure_columns, *spec.consumption.values(), spec.activity,
+                           spec.population, spec.energy) if c]
+    frame = panel.frame
+    if spec.window is not None:
+        years = frame.index.get_level_values(1)
+        frame = frame[(years >= spec.window[0]) & (years <= spec.window[1])]
+    rows = []
+    for column in dict.fromkeys(columns):
+        bad = frame[column] <= 0
+        for unit, cells in bad[bad].groupby(level=0):
+            rows.append({"unit": unit, "column": column,
+                         "years": format_years(cells.index.get_level_values(1)),
+                         "count": int(cells.size),
+                         "reason": "unit excluded from the study: zero or negative value where "
+                                   "logs or ratios are taken"})
+    if not rows:
+        return panel
+    dropped = {r["unit"] for r in rows}
+    kept = [u for u in panel.units if u not in dropped]
+    if not kept:
+        first = rows[0]
+        raise DataError(f"every unit has a zero or negative value in the columns the study "
+                        f"takes logs of (e.g. unit '{first['unit']}', column '{first['column']}', "
+                        f"{first['years']}); fix the cells or mark them missing.")
+    frame = panel.frame
+    kept_rows = frame[frame.index.get_level_values(0).isin(kept)]
+    audit = pd.concat([panel.audit, pd.DataFrame(rows, columns=list(panel.audit.columns))],
+                      ignore_index=True)
+    return Panel(kept_rows.copy(), audit=audit, meta=panel.meta)
 
 
 def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
+              executor: ExecutorLike = None, overwrite: bool = False,
               progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Run the study described by ``spec`` (a TOML file or a parsed spec) into folder ``out``.
 
     Writes ``report.html`` (self-contained), ``tables/`` in every requested format, ``figures/``
-    (PNG and SVG), ``results.json`` (identical for the same inputs and seed) and
-    ``manifest.json`` (versions, input hash, spec, seeds, start time, run time).
+    (PNG and SVG), ``results.json`` (identical for the same inputs and seed, whichever executor)
+    and ``manifest.json`` (versions, the input's hash taken before anything was written, the
+    spec, seeds, every file written with its hash, the data-derived names behind file names).
+
+    The folder is written as a transaction (:mod:`evidence.study._output`): the new run appears
+    complete or not at all. An existing ``out`` must be an earlier, unchanged run of this
+    package, else the run stops before any work — unless ``overwrite=True`` replaces it. A run
+    never writes into the folder that holds its own data or study file.
+
+    ``executor`` (default: the spec's ``[run] executor``, else ``"serial"``) is opened once for
+    the whole study and handed to every step through ``spec.executor``: ``"serial"``,
+    ``"processes"``, ``"dask"``, a scheduler address ``"tcp://host:8786"``, an executor or a
+    ``dask.distributed.Client`` (which the study never closes).
     """
-    started, clock = datetime.now(timezone.utc), time.perf_counter()
+    source = None if isinstance(spec, StudySpec) else Path(spec)
     spec = spec if isinstance(spec, StudySpec) else read_spec(spec)
-    folder = Path(out)
+    chosen = spec.executor if executor is None else executor
+    if isinstance(chosen, str):
+        chosen = check_executor(chosen)
+    inputs = [spec.data_file, *([source] if source is not None else [])]
+    hashes = _input_hashes(spec, source)
+    with OutputFolder(out, overwrite=overwrite, inputs=inputs) as folder:
+        return run_into(spec, folder, chosen, hashes, progress=progress)
+
+
+def _input_hashes(spec: StudySpec, source: Path | None) -> dict[str, Any]:
+    """Hashes of the inputs, taken before anything is written."""
+    check_source(spec.data_file)
+    out = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
+    if source is not None:
+        out["study_file"] = {"file": source.name, "sha256": file_hash(source)}
+    return out
+
+
+def run_into(spec: StudySpec, folder: OutputFolder, executor: ExecutorLike,
+             inputs: dict[str, Any], *,
+             progress: Callable[[int, int], None] | None = None) -> StudyResult:
+    """Run ``spec`` into an open output folder and commit it (the runner behind ``run_study``
+    and ``run_demo``)."""
+    started, clock = datetime.now(timezone.utc), time.perf_counter()
+    panel = _load(spec)
     try:
-        folder.mkdir(parents=True, exist_ok=True)
+        with using_executor(executor) as opened:
+            spec = replace(spec, executor=opened)
+            writer = _Writer(folder, spec.formats)
+            results, sections, grade, steps = _steps(panel, spec, writer, progress)
+            _write_outputs(spec, folder, results, sections)
+            manifest = {"versions": _versions(), "input": inputs, "spec": json_safe(spec.raw),
+                        "seeds": {"study": spec.seed},
+                        "executor": getattr(opened, "name", str(opened)),
+                        "started": started.isoformat(timespec="seconds"),
+                        "run_seconds": round(time.perf_counter() - clock, 2)}
     except OSError as exc:
-        raise DataError(f"cannot create the output folder '{folder}': {exc.strerror}.") from None
-    writer = _Writer(folder, spec.formats)
-    basis = {p.column: p.basis for p in spec.pressures}
-    basis.update({p.consumption: "consumption" for p in spec.pressures if p.consumption})
-    panel = ev.load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
-    columns = [spec.activity, *basis, *(c for c in (spec.population, spec.energy) if c)]
-    panel.require(*columns)
-    source = " ".join(s for s in (spec.source, spec.release and f"(release {spec.release})") if s)
-    notes = [f"Data: {source}"] if source else []
-    analyses = {"rates": True, "grade": True, "elasticity": ["fe", "ccemg"], "roots": [],
-                "dependence": False, "convergence": ["beta", "sigma", "clubs"],
-                "decomposition": True, **spec.analyses}
+        raise DataError(f"cannot write the results to '{folder.shown}': "
+                        f"{exc.strerror or exc}.") from None
+    files = tuple(folder.final(rel) for rel in folder.files)
+    try:
+        manifest_path = folder.commit(manifest)
+    except OSError as exc:
+        raise DataError(f"cannot write the results to '{folder.shown}': "
+                        f"{exc.strerror or exc}.") from None
+    return StudyResult(folder=folder.shown, files=(*files, manifest_path), results=results,
+                       grade=grade, steps=tuple(steps))
+
+
+def _steps(panel: Panel, spec: StudySpec, writer: _Writer,
+           progress: Callable[[int, int], None] | None) -> tuple[dict, list, Any, list[str]]:
+    """Run every step the spec turns on; a step's data or option error makes it "not run"."""
     results: dict[str, Any] = {"spec": json_safe(spec.raw), "not_run": {}}
     sections: list[Section] = []
-    steps = [name for name, on in analyses.items() if on]
-    pressures = [p.column for p in spec.pressures]
-    consumption = {p.column: p.consumption for p in spec.pressures if p.consumption}
-
-    def step(name: str, func: Callable[[], Section | None]) -> None:
+    steps = [name for name in STEPS if spec.analyses.get(name)]
+    grade = None
+    for name in steps:
         try:
-            section = func()
+            output = STEPS[name](panel, spec)
+            section = writer.section(output)
         except EvidenceError as exc:
             results["not_run"][name] = str(exc)
             sections.append(Section(f"{name}: not run", note=str(exc)))
-            return
-        if section is not None:
+        else:
+            results.update(output.results)
+            grade = output.value if name == "grade" else grade
             sections.append(section)
         if progress is not None:
             progress(len(sections), len(steps) + 1)
-
-    grade_holder: dict[str, Any] = {}
-
-    def do_grade() -> Section:
-        res = ev.grade(panel, pressures, spec.activity, window=spec.window,
-                       criteria=_criteria(spec), consumption=consumption)
-        grade_holder["result"] = res
-        results["grade"] = res.to_dict()
-        fragment = writer.table("grade", lambda f: grade_table(res, f, notes=notes))
-        figures = []
-        if spec.figures:
-            for unit in panel.units:
-                breaks = {p: res.records[(unit, p)].get("break_years") or []
-                          for p in pressures if (unit, p) in res.records}
-                win = res.details["windows"][pressures[0]]
-                shown = [*pressures, *consumption.values()]
-                figures.append(writer.figure(figs.indexed_figure(
-                    panel, unit, spec.activity, shown, tuple(win), breaks), f"indexed_{_slug(unit)}"))
-                _intensity_figure(writer, panel, unit, pressures[0], spec, tuple(win), results)
-                rec = res.records.get((unit, pressures[0]))
-                if rec is not None:
-                    writer.figure(figs.heatmap_figure(
-                        rec["subwindow_matrix"], list(range(win[0], win[1] + 1)),
-                        f"{unit}: sub-windows where the {rec['claim_tested']} claim holds"),
-                        f"subwindows_{_slug(unit)}")
-        return Section("Grade", (fragment,), tuple(figures[:6]),
-                       note="Each axis is reported separately; the grade summarises them and "
-                            "never replaces them. Figures for every unit are in figures/.")
-
-    def do_rates() -> Section:
-        fragments = []
-        for p in [*pressures, *consumption.values()]:
-            res = ev.rates(panel, p, spec.activity, window=spec.window)
-            results.setdefault("rates", {})[p] = res.to_dict()
-            fragments.append(writer.table(f"rates_{p}", lambda f, r=res: rates_table(r, f, notes=notes)))
-        return Section("Decoupling indicators", tuple(fragments))
-
-    def do_elasticity() -> Section:
-        fragments = []
-        for p in pressures:
-            fits = [ev.elasticity(panel, p, spec.activity, estimator=e, window=spec.window)
-                    for e in analyses["elasticity"]]
-            tests = [replace(t, test=f"({i}) {t.test}") for i, fit in enumerate(fits, start=1)
-                     for t in ev.decoupling_tests(fit)]
-            results.setdefault("elasticity", {})[p] = [f.to_dict() for f in fits]
-            fragments.append(writer.table(f"elasticity_{p}", lambda f, fs=fits, pp=p: regression_table(
-                fs, f, title=f"Elasticity of {pp} with respect to {spec.activity}", notes=notes)))
-            fragments.append(writer.table(f"elasticity_tests_{p}", lambda f, ts=tests: test_table(
-                ts, f, title="One-sided decoupling tests")))
-        return Section("Elasticities", tuple(fragments))
-
-    def do_roots() -> Section:
-        fragments = []
-        base = panel.window(spec.window) if spec.window else panel
-        for column in [*pressures, spec.activity]:
-            work = base.with_log(column)
-            res = ev.root_battery(work, f"log_{column}", tests=tuple(analyses["roots"]))
-            results.setdefault("roots", {})[column] = res.to_dict()
-            fragments.append(writer.table(f"roots_{column}", lambda f, r=res: render_frame(
-                r.to_frame() if f in ("csv", "json") else r.decision_table(), f,
-                title=f"Unit-root battery, log {column} (p-values; decision at 5 %)",
-                index=False, notes=notes)))
-        return Section("Unit roots", tuple(fragments))
-
-    def do_dependence() -> Section:
-        tests = []
-        base = panel.window(spec.window) if spec.window else panel
-        for column in pressures:
-            tests.append(ev.pesaran_cd_test(base.with_log(column), f"log_{column}"))
-        results["dependence"] = [t.to_dict() for t in tests]
-        return Section("Cross-sectional dependence", (writer.table(
-            "dependence", lambda f: test_table(tests, f, title="Pesaran CD test")),))
-
-    def do_convergence() -> Section | None:
-        if not spec.population:
-            raise DataError("convergence needs [roles] population (per-capita pressure).")
-        work = panel.with_per_capita(pressures[0], spec.population)
-        column = f"{pressures[0]}_per_capita"
-        fragments, figures = [], []
-        chosen = analyses["convergence"]
-        if "beta" in chosen:
-            beta = ev.beta_convergence(work, column, window=spec.window)
-            results["beta_convergence"] = beta.to_dict()
-            fragments.append(writer.table("beta_convergence", lambda f: test_table(
-                [beta.test], f, title=f"Beta convergence of {column}",
-                notes=[f"Speed {beta.speed:.4f} a year, half-life {beta.half_life:.1f} years."])))
-        if "sigma" in chosen:
-            sigma = ev.sigma_convergence(work, column, window=spec.window)
-            results["sigma_convergence"] = sigma.to_dict()
-            fragments.append(writer.table("sigma_convergence", lambda f: test_table(
-                [sigma.trend_test, *sigma.first_last_tests], f, title="Sigma convergence")))
-        if "stochastic" in chosen:
-            stoch = ev.stochastic_convergence(work, column, window=spec.window)
-            results["stochastic_convergence"] = stoch.to_dict()
-            fragments.append(writer.table("stochastic_convergence", lambda f: render_frame(
-                stoch.table, f, index=False, title=f"Stochastic convergence of {column}")))
-        if "clubs" in chosen:
-            clubs = ev.club_convergence(work, column, window=spec.window)
-            results["clubs"] = clubs.to_dict()
-            fragments.append(writer.table("clubs", lambda f: render_frame(
-                clubs.membership().reset_index(), f, index=False,
-                title=f"Phillips-Sul clubs (overall log t {clubs.overall.statistic:.3f})")))
-            if spec.figures:
-                figures.append(writer.figure(clubs.plot(), "club_transitions"))
-        return Section("Convergence", tuple(fragments), tuple(figures))
-
-    def do_decomposition() -> Section | None:
-        if not spec.population:
-            raise DataError("the Kaya decomposition needs [roles] population.")
-        res = ev.kaya(panel, pressures[0], population=spec.population, activity=spec.activity,
-                      energy=spec.energy, window=spec.window)
-        results["decomposition"] = res.to_dict()
-        fragment = writer.table("decomposition", lambda f: render_frame(
-            res.to_frame("additive"), f, title=f"LMDI-I decomposition of the change in "
-            f"{pressures[0]}, {res.window[0]}-{res.window[1]}", notes=notes))
-        figures = ()
-        if spec.figures:
-            effects = res.to_frame("additive").loc[["total"], list(res.factors)]
-            figures = (writer.figure(figs.decomposition_figure(effects, "Kaya effects, all units"),
-                                     "decomposition"),)
-        return Section("Decomposition", (fragment,), figures)
-
-    runners = {"grade": do_grade, "rates": do_rates, "elasticity": do_elasticity,
-               "roots": do_roots, "dependence": do_dependence, "convergence": do_convergence,
-               "decomposition": do_decomposition}
-    for name in ("grade", "rates", "elasticity", "roots", "dependence", "convergence",
-                 "decomposition"):
-        if analyses.get(name):
-            step(name, runners[name])
-    sections.append(Section("Audit: data not used", (writer.table(
-        "audit", lambda f: audit_table(panel.audit, f, notes=notes)),)))
-    return _finish(spec, folder, writer, results, sections, started, clock, grade_holder)
+    sections.append(writer.section(AUDIT(panel, spec)))
+    if writer.not_drawn:
+        results["figures_not_drawn"] = dict(writer.not_drawn)
+    return results, sections, grade, steps
 
 
-def _finish(spec: StudySpec, folder: Path, writer: _Writer, results: dict[str, Any],
-            sections: list[Section], started: datetime, clock: float,
-            grade_holder: dict[str, Any]) -> StudyResult:
-    report = folder / "report.html"
-    report.write_text(render_report(spec.title, spec.claim, spec.source, sections),
-                      encoding="utf-8")
+def _write_outputs(spec: StudySpec, folder: OutputFolder, results: dict[str, Any],
+                   sections: list[Section]) -> None:
+    folder.write_text("report.html", render_report(spec.title, spec.claim, spec.source, sections))
     payload = json.dumps(json_safe(results), indent=2, sort_keys=True, allow_nan=False) + "\n"
-    (folder / "results.json").write_text(payload, encoding="utf-8")
-    manifest = {"versions": _versions(),
-                "input": {"file": spec.data_file.name, "sha256": _hash(spec.data_file)},
-                "spec": json_safe(spec.raw), "seeds": {"study": spec.seed},
-                "started": started.isoformat(timespec="seconds"),
-                "run_seconds": round(time.perf_counter() - clock, 2)}
-    (folder / "manifest.json").write_text(json.dumps(manifest, indent=2) + "\n", encoding="utf-8")
-    files = (*writer.files, report, folder / "results.json", folder / "manifest.json")
-    return StudyResult(folder=folder, files=tuple(files), results=results,
-                       grade=grade_holder.get("result"))
-
-
-def _intensity_figure(writer: _Writer, panel: ev.Panel, unit: str, pressure: str, spec: StudySpec,
-                      window: tuple[int, int], results: dict[str, Any]) -> None:
-    """Log intensity of one unit with its fitted trend regimes and break-date intervals."""
-    column = f"{pressure}_per_{spec.activity}"
-    work = panel.with_intensity(pressure, spec.activity).with_log(column)
-    series = work.series(unit, f"log_{column}").loc[window[0]:window[1]].dropna()
-    options = {k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}
-    try:
-        found = ev.find_breaks(series, model="trend", **options)
-    except EvidenceError as exc:
-        results.setdefault("figures_not_drawn", {})[f"intensity {unit}"] = str(exc)
-        return
-    writer.figure(found.plot(), f"intensity_{_slug(unit)}")
-
-
-def _slug(text: str) -> str:
-    import re
-
-    return re.sub(r"[^A-Za-z0-9]+", "-", text).strip("-").lower() or "unit"
+    folder.write_text("results.json", payload)

@@ -130,7 +130,7 @@ def main() -> None:
         serial = screen_breaks(panel, "x", max_breaks=max_breaks, chunk=50)
         s_time = time.perf_counter() - start
         start = time.perf_counter()
-        dask = screen_breaks(panel, "x", max_breaks=max_breaks, chunk=50, backend="dask", jobs=2)
+        dask = screen_breaks(panel, "x", max_breaks=max_breaks, chunk=50, executor="dask")
         d_time = time.perf_counter() - start
         print(f"dask     : local cluster (2 workers) {d_time:6.2f} s vs serial {s_time:6.2f} s "
               f"on {units} units; identical output: {serial.table.equals(dask.table)}")
