@@ -159,8 +159,11 @@ SCHEMA: dict[str, dict[str, Key]] = {
                  "short_window": Key(int, check=_int(2, 1000)),
                  "required_rate": Key(float, check=_number(0.0, 1.0, hint=" (0.05 = 5 % a year)")),
                  "budgets": Key(dict, check=_budgets),
-                 "interval": Key(str, check=_choice(("hac", "bootstrap"))),
-                 "reps": Key(int, check=_int(99, 1_000_000))},  # bootstrap replications
+                 "interval": Key(str, check=_choice(("test", "bootstrap"))),
+                 "reps": Key(int, check=_int(99, 1_000_000)),  # bootstrap replications
+                 "trend_test": Key(str, check=_choice(("perron-yabu", "dan-j", "ps-j",
+                                                       "perron-yabu-normal", "hac-fixed-b",
+                                                       "hac")))},
     "breaks": {"max_breaks": Key(int, check=_int(1, 10)),
                "trim": Key(float, check=_number(0.0, 0.5, hint=", e.g. 0.15"))},
     "analyses": {"rates": Key(bool), "grade": Key(bool),

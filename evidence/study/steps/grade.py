@@ -57,9 +57,14 @@ def _unit_figures(panel: Panel, spec: StudySpec, res: GradeResult) -> tuple[Figu
         rec = records.get((unit, pressures[0]))
         if rec is not None:
             out.append(FigureOut(f"subwindows_{safe_name(unit)}", lambda u=unit, r=rec: figs.heatmap_figure(
-                r["subwindow_matrix"], list(range(window[0], window[1] + 1)),
+                r["subwindow_matrix"], _span_years(r["span"]),
                 f"{u}: sub-windows where the {r['claim_tested']} claim holds"), source=unit))
     return tuple(out)
+
+
+def _span_years(span: str) -> list[int]:
+    start, end = (int(v) for v in span.split("-"))
+    return list(range(start, end + 1))
 
 
 def _intensity_figure(panel: Panel, unit: str, pressure: str, spec: StudySpec,
