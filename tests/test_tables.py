@@ -82,3 +82,19 @@ def test_table_option_errors_are_spec_errors(nasty_frame):
         render_frame(nasty_frame, "text", digits=-1)
     with pytest.raises(ev.SpecError, match="digits"):
         render_frame(nasty_frame, "text", digits=2.5)
+
+
+def test_markdown_neutralises_html_and_links():
+    frame = pd.DataFrame({"unit": ["<script>alert(1)</script>", "[a](javascript:x)", "a & b"],
+                          "value": [1.0, 2.0, 3.0]}).set_index("unit")
+    out = render_frame(frame, "markdown", title="<b>t</b>", notes=["<i>n</i>"])
+    assert "<script>" not in out and "<b>" not in out and "<i>" not in out
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in out and "\\[a\\](javascript:x)" in out
+    assert "a &amp; b" in out
+
+
+def test_latex_cells_stay_on_one_line():
+    frame = pd.DataFrame({"unit": ["A\n\nB", "C\r\nD\tE"], "value": [1.0, 2.0]}).set_index("unit")
+    out = render_frame(frame, "latex")
+    body = out.split("\\midrule")[1]
+    assert "\n\n" not in out and "A B & 1.000" in body and "C D E & 2.000" in body
