@@ -23,16 +23,16 @@ from evidence.cointegration._westerlund import westerlund_raw
 
 # Pedroni (1999) Table 2: heterogeneous intercepts, m = 1 and m = 2; intercepts and trends, m = 1.
 PEDRONI_PUBLISHED = {
-    ("c", 1): ((8.62, -6.02, -1.73, -9.05, -2.03), (60.75, 31.27, 0.93, 35.98, 0.66)),
-    ("c", 2): ((11.754, -9.495, -2.177, -12.938, -2.453), (104.546, 57.610, 0.964, 51.49, 0.618)),
-    ("ct", 1): ((17.86, -10.54, -2.29, -13.65, -2.53), (101.68, 39.52, 0.66, 50.91, 0.56)),
+    ("constant", 1): ((8.62, -6.02, -1.73, -9.05, -2.03), (60.75, 31.27, 0.93, 35.98, 0.66)),
+    ("constant", 2): ((11.754, -9.495, -2.177, -12.938, -2.453), (104.546, 57.610, 0.964, 51.49, 0.618)),
+    ("trend", 1): ((17.86, -10.54, -2.29, -13.65, -2.53), (101.68, 39.52, 0.66, 50.91, 0.56)),
 }
 # Westerlund (2007) Table 1, K = 1: (mean, variance) for constant and constant + trend.
 WESTERLUND_PUBLISHED = {
-    ("Gt", "c"): (-1.7776, 0.8071), ("Ga", "c"): (-7.1423, 29.6336),
-    ("Pt", "c"): (-1.4476, 0.9885), ("Pa", "c"): (-4.2303, 19.7090),
-    ("Gt", "ct"): (-2.3664, 0.6603), ("Ga", "ct"): (-12.0116, 46.2420),
-    ("Pt", "ct"): (-2.1124, 0.7649), ("Pa", "ct"): (-8.9326, 37.5948),
+    ("Gt", "constant"): (-1.7776, 0.8071), ("Ga", "constant"): (-7.1423, 29.6336),
+    ("Pt", "constant"): (-1.4476, 0.9885), ("Pa", "constant"): (-4.2303, 19.7090),
+    ("Gt", "trend"): (-2.3664, 0.6603), ("Ga", "trend"): (-12.0116, 46.2420),
+    ("Pt", "trend"): (-2.1124, 0.7649), ("Pa", "trend"): (-8.9326, 37.5948),
 }
 
 
@@ -60,14 +60,14 @@ def main() -> int:
     for _ in range(200):
         x = np.cumsum(rng.standard_normal((50, 500)), axis=1)[:, :, None]
         y = np.cumsum(rng.standard_normal((50, 500)), axis=1)
-        e, _ = static_residuals(y, x, "c")
+        e, _ = static_residuals(y, x, "constant")
         raw = pedroni_raw(e, np.diff(y, axis=1), np.diff(x, axis=1), np.zeros(50, int),
-                          trend="c", bandwidth=0)
+                          trend="constant", bandwidth=0)
         draws.append([raw[k] / np.sqrt(50) for k in names])
         k = kao_raw(y, x, 0, bandwidth=0)
         kao.append((k["t_rho"], k["t_df"]))
     mean, var = np.mean(draws, axis=0), np.var(np.array(draws) * np.sqrt(50), axis=0)
-    mu, v = _pedroni_tables.MOMENTS["c"][1]
+    mu, v = _pedroni_tables.MOMENTS["constant"][1]
     print("Pedroni (1999) Table 2, intercepts, m = 1: published vs simulated (N=50, T=500, 200 draws)")
     for name, a, b, c, d in zip(names, mu, mean, v, var):
         ok = abs(a - b) <= 0.03 * abs(a) + 0.1
@@ -79,11 +79,11 @@ def main() -> int:
     for _ in range(200):
         x = np.cumsum(rng.standard_normal((20, 500)), axis=1)[:, :, None]
         y = np.cumsum(rng.standard_normal((20, 500)), axis=1)
-        raw = westerlund_raw(y, x, zeros, zeros, "c")
+        raw = westerlund_raw(y, x, zeros, zeros, "constant")
         west.append([raw["Gt"], raw["Ga"], raw["Pt"] / np.sqrt(20), raw["Pa"]])
     print("Westerlund (2007) Table 1, constant, K = 1: published vs simulated (N=20, T=500, 200 draws)")
     for j, stat in enumerate(("Gt", "Ga", "Pt", "Pa")):
-        mean, var = (m[0] for m in _westerlund_tables.MOMENTS[stat]["c"])
+        mean, var = (m[0] for m in _westerlund_tables.MOMENTS[stat]["constant"])
         sim = float(np.mean([w[j] for w in west]))
         ok = abs(sim - mean) <= 4 * np.sqrt(var / 20 / 200) + 0.02 * abs(mean)
         failures += not ok

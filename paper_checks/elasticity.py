@@ -19,7 +19,7 @@ def main() -> int:
     data = data[data.firm != "American Steel"].assign(year=lambda d: d.year.astype(int))
     panel = ev.load_panel(data[["firm", "year", "invest", "value", "capital"]], unit="firm")
     est = ev.elasticity(panel, "invest", "value", controls=["capital"], log=False,
-                        cov="unadjusted")
+                        cov="classical")
     failures = 0
     print(f"{'term':<10} {'published b':>12} {'ours':>12} {'published se':>13} {'ours':>12}")
     for term, (b, se) in PUBLISHED.items():

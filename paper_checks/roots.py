@@ -18,12 +18,13 @@ from evidence.roots.dependence import pesaran_cd_test
 
 # (trend, p, T, published mean, published variance): Im, Pesaran & Shin (2003), Table 3, as
 # collected in reference_values.md section 3.1
-IPS_CELLS = [("c", 0, 10, -1.504, 1.069), ("c", 2, 30, -1.460, 0.865), ("c", 4, 100, -1.495, 0.771),
-             ("c", 8, 25, -1.212, 1.217), ("ct", 0, 50, -2.176, 0.633), ("ct", 3, 20, -2.032, 0.983),
-             ("ct", 8, 70, -2.046, 0.728)]
+IPS_CELLS = [("constant", 0, 10, -1.504, 1.069), ("constant", 2, 30, -1.460, 0.865),
+             ("constant", 4, 100, -1.495, 0.771), ("constant", 8, 25, -1.212, 1.217),
+             ("trend", 0, 50, -2.176, 0.633), ("trend", 3, 20, -2.032, 0.983),
+             ("trend", 8, 70, -2.046, 0.728)]
 # (N, T, trend, truncated): Pesaran (2007), Table II cells compared with our simulation
-CIPS_CELLS = [(10, 10, "c", False), (20, 20, "c", False), (30, 30, "ct", False),
-              (10, 10, "ct", True), (50, 50, "n", False)]
+CIPS_CELLS = [(10, 10, "constant", False), (20, 20, "constant", False), (30, 30, "trend", False),
+              (10, 10, "trend", True), (50, 50, "none", False)]
 CIPS_REPLICATIONS = 20000
 CIPS_TOLERANCE = 0.045      # about 3 Monte Carlo s.e. of a tail quantile at 20 000 draws
 
@@ -37,8 +38,7 @@ def _lines() -> list[tuple[str, str, str, bool]]:
                     (m[0], v[0]) == (mean, var)))
     for n, t, trend, trunc in CIPS_CELLS:
         table = table_critical_values(n, t, trend, trunc)
-        draws = simulate_cips(n, t, trend=trend, truncate=trunc, replications=CIPS_REPLICATIONS,
-                              seed=7)
+        draws = simulate_cips(n, t, trend=trend, truncate=trunc, reps=CIPS_REPLICATIONS, seed=7)
         sim = {a: float(np.quantile(draws, a)) for a in (0.01, 0.05, 0.10)}
         same = all(abs(sim[a] - table[a]) <= CIPS_TOLERANCE for a in table)
         name = "CIPS*" if trunc else "CIPS"

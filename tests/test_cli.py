@@ -145,7 +145,7 @@ def test_elasticity_command(demo_csv, capsys):
                  "--estimator", "fe,twfe,mg,ccemg,amg", "--ekc", "--population", "population"])
     assert code == 0
     out = capsys.readouterr().out
-    assert "(5)" in out and "CCE mean group" in out and "Lind-Mehlum" in out
+    assert "Augmented mean group" in out and "CCE mean group" in out and "Lind & Mehlum (2010)" in out
     assert main(["elasticity", str(demo_csv), "--pressure", "ghg_territorial", "--activity", "gdp",
                  "--estimator", "fe", "--format", "json"]) == 0
     assert len(json.loads(capsys.readouterr().out)["tables"]) == 2

@@ -92,8 +92,8 @@ def test_bootstrap_reproducible():
     rng = np.random.default_rng(35)
     y, x = _var_panel(rng, 8, 30, causal=0.0, common=1.5)
     panel = to_panel(y, x)
-    a = dumitrescu_hurlin_test(panel, "y", "x1", bootstrap=29, seed=3)
-    b = dumitrescu_hurlin_test(panel, "y", "x1", bootstrap=29, seed=3)
+    a = dumitrescu_hurlin_test(panel, "y", "x1", inference="bootstrap", reps=29, seed=3)
+    b = dumitrescu_hurlin_test(panel, "y", "x1", inference="bootstrap", reps=29, seed=3)
     assert a.pvalue == b.pvalue == a.details["bootstrap_pvalue"]
     assert a.details["seed"] == 3 and 0 < a.pvalue <= 1
 
@@ -119,7 +119,8 @@ def test_bootstrap_size_under_cross_section_dependence():
     asym, boot = [], []
     for r in range(100):
         y, x = _var_panel(rng, 10, 30, causal=0.0, common=2.0)
-        res = dumitrescu_hurlin_test(to_panel(y, x), "y", "x1", bootstrap=49, seed=r)
+        res = dumitrescu_hurlin_test(to_panel(y, x), "y", "x1", inference="bootstrap", reps=49,
+                                     seed=r)
         asym.append(res.details["z_bar_tilde_pvalue"] < 0.05)
         boot.append(res.pvalue < 0.05)
     assert np.mean(boot) <= 0.10

@@ -39,7 +39,7 @@ def test_mg_equals_mean_of_statsmodels_uecm(coint_panel):
         if i == 0:
             assert_allclose(est.details["unit_long_run"]["u00"]["x1"], thetas[0][0], rtol=1e-9)
     assert_allclose(est.params[["x1", "x2"]].to_numpy(), np.mean(thetas, axis=0), rtol=1e-9)
-    assert_allclose(est.params["ec"], np.mean(phis), rtol=1e-9)
+    assert_allclose(est.params["error-correction speed"], np.mean(phis), rtol=1e-9)
     sd = np.std(np.array(thetas)[:, 0], ddof=1) / np.sqrt(10)  # Pesaran & Smith (1995) MG s.e.
     assert_allclose(est.std_errors["x1"], sd, rtol=1e-9)
 
@@ -124,17 +124,20 @@ def test_bad_input():
     frame = panel.frame.reset_index()
     frame.loc[frame["unit"] == "u03", "x1"] = 1.0
     from evidence.panel import load_panel
-    with pytest.raises(DataError, match="'x1' is constant for unit 'u03'"):
+    with pytest.raises(DataError, match="column 'x1' is constant .* for unit 'u03'"):
         long_run(load_panel(frame, unit="unit", time="year"), "y", "x1", estimator="pmg")
     with pytest.raises(SpecError, match="estimator='gmm'"):
         long_run(panel, "y", "x1", estimator="gmm")
     with pytest.raises(SpecError, match="intercepts only"):
-        long_run(panel, "y", "x1", estimator="pmg", trend="ct")
+        long_run(panel, "y", "x1", estimator="pmg", trend="trend")
     with pytest.raises(SpecError, match="lags=0"):
         long_run(panel, "y", "x1", estimator="mg", lags=0)
 
 
-@pytest.mark.parametrize("trend", ["n", "c", "ct"])
+ARCH = {"none": "n", "constant": "c", "trend": "ct"}
+
+
+@pytest.mark.parametrize("trend", ["none", "constant", "trend"])
 def test_one_unit_pooled_fmols_equals_arch(trend):
     # With one unit the pooled FMOLS formula is Phillips-Hansen FMOLS: arch FullyModifiedOLS,
     # same Bartlett bandwidth, coefficients and standard errors equal.
@@ -142,18 +145,18 @@ def test_one_unit_pooled_fmols_equals_arch(trend):
                     endogenous=0.5)
     est = long_run(to_panel(y, x), "y", ["x1", "x2"], estimator="fmols", trend=trend, hac_lags=3)
     ref = FullyModifiedOLS(pd.Series(y[0]), pd.DataFrame(x[0], columns=["x1", "x2"]),
-                           trend=trend).fit(bandwidth=3)  # reference: arch
+                           trend=ARCH[trend]).fit(bandwidth=3)  # reference: arch
     assert_allclose(est.params.to_numpy(), ref.params[["x1", "x2"]].to_numpy(), rtol=1e-10)
     assert_allclose(est.std_errors.to_numpy(), ref.std_errors[["x1", "x2"]].to_numpy(), rtol=1e-10)
 
 
-@pytest.mark.parametrize("trend", ["c", "ct"])
+@pytest.mark.parametrize("trend", ["constant", "trend"])
 def test_one_unit_pooled_dols_equals_arch(trend):
     # With one unit pooled DOLS is DOLS: arch DynamicOLS with the same lags and leads. (Standard
     # errors differ by design: ours scale (x'x)^-1 by the residual long-run variance.)
     y, x = simulate(np.random.default_rng(25), 1, 70, coint=True, k=2, beta=[0.8, -0.3])
     est = long_run(to_panel(y, x), "y", ["x1", "x2"], estimator="dols", lags=2, leads=1,
                    trend=trend)
-    ref = DynamicOLS(pd.Series(y[0]), pd.DataFrame(x[0], columns=["x1", "x2"]), trend=trend,
+    ref = DynamicOLS(pd.Series(y[0]), pd.DataFrame(x[0], columns=["x1", "x2"]), trend=ARCH[trend],
                      lags=2, leads=1).fit()  # reference: arch
     assert_allclose(est.params.to_numpy(), ref.params[["x1", "x2"]].to_numpy(), rtol=1e-10)

@@ -58,12 +58,12 @@ def test_pedroni_moments_reproduced_by_simulation():
     for _ in range(100):
         x = np.cumsum(rng.standard_normal((50, 500)), axis=1)[:, :, None]
         y = np.cumsum(rng.standard_normal((50, 500)), axis=1)
-        e, _ = static_residuals(y, x, "c")
+        e, _ = static_residuals(y, x, "constant")
         raw = pedroni_raw(e, np.diff(y, axis=1), np.diff(x, axis=1), np.zeros(50, int),
-                          trend="c", bandwidth=0)
+                          trend="constant", bandwidth=0)
         draws.append([raw[k] / np.sqrt(50) for k in names])
     mean = np.mean(draws, axis=0)
-    mu = np.array(_pedroni_tables.MOMENTS["c"][1][0])
+    mu = np.array(_pedroni_tables.MOMENTS["constant"][1][0])
     # tolerance: 3 % of |mu| plus Monte Carlo error (observed 8.73, -6.04, -1.74, -8.94, -2.03)
     assert np.all(np.abs(mean - mu) <= 0.03 * np.abs(mu) + 0.1), (mean, mu)
 
@@ -98,7 +98,7 @@ def test_westerlund_bootstrap_under_cross_section_dependence():
     asym, boot = [], []
     for r in range(100):
         y, x = simulate(rng, 10, 40, coint=False, common=2.0)
-        res = westerlund_test(to_panel(y, x), "y", "x1", bootstrap=49, seed=r)
+        res = westerlund_test(to_panel(y, x), "y", "x1", inference="bootstrap", reps=49, seed=r)
         asym.append([t.details["asymptotic_pvalue"] < 0.05 for t in res])
         boot.append([t.pvalue < 0.05 for t in res])
     assert np.all(np.mean(boot, axis=0) <= 0.13), np.mean(boot, axis=0)
@@ -106,7 +106,7 @@ def test_westerlund_bootstrap_under_cross_section_dependence():
     power = []
     for r in range(20):
         y, x = simulate(rng, 10, 40, coint=True, rho=0.5, common=2.0)
-        res = westerlund_test(to_panel(y, x), "y", "x1", bootstrap=49, seed=r)
+        res = westerlund_test(to_panel(y, x), "y", "x1", inference="bootstrap", reps=49, seed=r)
         power.append([t.pvalue < 0.05 for t in res])
     assert np.all(np.mean(power, axis=0) >= 0.8), np.mean(power, axis=0)
 
@@ -145,11 +145,11 @@ def test_westerlund_moments_reproduced_by_simulation():
     for _ in range(reps):
         x = np.cumsum(rng.standard_normal((n_units, 500)), axis=1)[:, :, None]
         y = np.cumsum(rng.standard_normal((n_units, 500)), axis=1)
-        raw = westerlund_raw(y, x, zeros, zeros, "c")
+        raw = westerlund_raw(y, x, zeros, zeros, "constant")
         draws.append([raw["Gt"], raw["Ga"], raw["Pt"] / np.sqrt(n_units), raw["Pa"]])
     mean = np.mean(draws, axis=0)
     table = _westerlund_tables.MOMENTS
-    expected = np.array([table[s]["c"][0][0] for s in ("Gt", "Ga", "Pt", "Pa")])
-    variance = np.array([table[s]["c"][1][0] for s in ("Gt", "Ga", "Pt", "Pa")])
+    expected = np.array([table[s]["constant"][0][0] for s in ("Gt", "Ga", "Pt", "Pa")])
+    variance = np.array([table[s]["constant"][1][0] for s in ("Gt", "Ga", "Pt", "Pa")])
     se = np.sqrt(variance / n_units / reps)
     assert np.all(np.abs(mean - expected) <= 4 * se + 0.02 * np.abs(expected)), (mean, expected)

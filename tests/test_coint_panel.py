@@ -27,14 +27,14 @@ def test_pedroni_table_matches_published():
     # Pedroni (1999), OBES 61(S1), Table 2 (via reference_values.md 6.2), intercepts, m = 1:
     # mu: panel v 8.62, panel rho -6.02, panel t -1.73, group rho -9.05, group t -2.03;
     # v: 60.75, 31.27, 0.93, 35.98, 0.66
-    mu, v = _pedroni_tables.MOMENTS["c"][1]
+    mu, v = _pedroni_tables.MOMENTS["constant"][1]
     assert mu == (8.62, -6.02, -1.73, -9.05, -2.03)
     assert v == (60.75, 31.27, 0.93, 35.98, 0.66)
     # Pedroni (1999), Table 2, intercepts and trends, m = 3 and m = 7
-    assert _pedroni_tables.MOMENTS["ct"][3] == ((24.556, -17.600, -2.967, -21.116, -3.179),
+    assert _pedroni_tables.MOMENTS["trend"][3] == ((24.556, -17.600, -2.967, -21.116, -3.179),
                                                 (198.167, 83.815, 0.686, 81.832, 0.548))
-    assert _pedroni_tables.MOMENTS["ct"][7][1][0] == 348.217
-    assert _pedroni_tables.MOMENTS["c"][5] == ((22.715, -21.013, -3.241, -24.775, -3.452),
+    assert _pedroni_tables.MOMENTS["trend"][7][1][0] == 348.217
+    assert _pedroni_tables.MOMENTS["constant"][5] == ((22.715, -21.013, -3.241, -24.775, -3.452),
                                                (231.864, 119.546, 0.800, 98.278, 0.553))
 
 
@@ -43,13 +43,13 @@ def test_westerlund_table_matches_published():
     # E(Gt) -1.7776 Var 0.8071; E(Ga) -7.1423 Var 29.6336; E(Pt) -1.4476 Var 0.9885;
     # E(Pa) -4.2303 Var 19.7090
     m = _westerlund_tables.MOMENTS
-    assert (m["Gt"]["c"][0][0], m["Gt"]["c"][1][0]) == (-1.7776, 0.8071)
-    assert (m["Ga"]["c"][0][0], m["Ga"]["c"][1][0]) == (-7.1423, 29.6336)
-    assert (m["Pt"]["c"][0][0], m["Pt"]["c"][1][0]) == (-1.4476, 0.9885)
-    assert (m["Pa"]["c"][0][0], m["Pa"]["c"][1][0]) == (-4.2303, 19.7090)
+    assert (m["Gt"]["constant"][0][0], m["Gt"]["constant"][1][0]) == (-1.7776, 0.8071)
+    assert (m["Ga"]["constant"][0][0], m["Ga"]["constant"][1][0]) == (-7.1423, 29.6336)
+    assert (m["Pt"]["constant"][0][0], m["Pt"]["constant"][1][0]) == (-1.4476, 0.9885)
+    assert (m["Pa"]["constant"][0][0], m["Pa"]["constant"][1][0]) == (-4.2303, 19.7090)
     # trend, K = 6 and none, K = 3
-    assert m["Pa"]["ct"][0][5] == -17.6515 and m["Ga"]["ct"][1][5] == 94.0024
-    assert m["Gt"]["n"][0][2] == -1.7093 and m["Pt"]["n"][1][2] == 1.7177
+    assert m["Pa"]["trend"][0][5] == -17.6515 and m["Ga"]["trend"][1][5] == 94.0024
+    assert m["Gt"]["none"][0][2] == -1.7093 and m["Pt"]["none"][1][2] == 1.7177
 
 
 # ------------------------------------------------------------------ plain-loop oracles
@@ -99,7 +99,7 @@ def _pedroni_loop(y, x, lags, band):
 
 def test_pedroni_equals_loop():
     y, x = simulate(np.random.default_rng(11), 6, 40, coint=False)
-    res = pedroni_test(to_panel(y, x), "y", "x1", trend="c", lags=2, hac_lags=3)
+    res = pedroni_test(to_panel(y, x), "y", "x1", trend="constant", lags=2, hac_lags=3)
     ref = _pedroni_loop(y, x, 2, 3)
     for name in PEDRONI_STATISTICS:
         assert_allclose(res[name].details["unstandardised"], ref[name], rtol=1e-8, err_msg=name)
@@ -133,7 +133,7 @@ def test_kao_equals_loop():
 
 def test_westerlund_equals_statsmodels_loop():
     y, x = simulate(np.random.default_rng(13), 5, 40, coint=True)
-    res = westerlund_test(to_panel(y, x), "y", "x1", trend="c", lags=1, leads=1)
+    res = westerlund_test(to_panel(y, x), "y", "x1", trend="constant", lags=1, leads=1)
     gt, ga, yy, ydy, ratio = [], [], 0.0, 0.0, []
     for i in range(5):
         dy, dx = np.diff(y[i]), np.diff(x[i, :, 0])
@@ -181,10 +181,10 @@ def test_results_shape_and_json():
 def test_westerlund_bootstrap_reproducible_and_backends_agree():
     y, x = simulate(np.random.default_rng(15), 6, 36, coint=False, common=1.0)
     panel = to_panel(y, x)
-    a = westerlund_test(panel, "y", "x1", bootstrap=19, seed=5)
-    b = westerlund_test(panel, "y", "x1", bootstrap=19, seed=5)
+    a = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=19, seed=5)
+    b = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=19, seed=5)
     assert [r.pvalue for r in a] == [r.pvalue for r in b]
-    assert a["Gt"].details["bootstrap"] == 19 and a["Gt"].details["seed"] == 5
+    assert a["Gt"].details["reps"] == 19 and a["Gt"].details["seed"] == 5
     assert all(0 < r.pvalue <= 1 for r in a)
     assert a["Pt"].pvalue == a["Pt"].details["bootstrap_pvalue"]
 
@@ -193,8 +193,9 @@ def test_westerlund_bootstrap_reproducible_and_backends_agree():
 def test_westerlund_bootstrap_processes_backend():
     y, x = simulate(np.random.default_rng(15), 6, 36, coint=False, common=1.0)
     panel = to_panel(y, x)
-    a = westerlund_test(panel, "y", "x1", bootstrap=9, seed=5)
-    b = westerlund_test(panel, "y", "x1", bootstrap=9, seed=5, backend="processes")
+    a = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=9, seed=5)
+    b = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=9, seed=5,
+                        executor="processes")
     assert [r.pvalue for r in a] == [r.pvalue for r in b]
 
 
@@ -214,21 +215,23 @@ def test_bad_input():
     frame.loc[(frame["unit"] == "u01") & (frame["year"] == 1970), "y"] = np.nan
     from evidence.panel import load_panel
     gappy = load_panel(frame, unit="unit", time="year")
-    with pytest.raises(DataError, match="'y' is missing for unit 'u01' in 1970"):
+    with pytest.raises(DataError, match="unit 'u01' has no value of 'y' in year 1970"):
         pedroni_test(gappy, "y", "x1")
     frame = panel.frame.reset_index()
     frame.loc[frame["unit"] == "u02", "x1"] = 3.0
     flat = load_panel(frame, unit="unit", time="year")
-    with pytest.raises(DataError, match="'x1' is constant for unit 'u02'"):
+    with pytest.raises(DataError, match="column 'x1' is constant .* for unit 'u02'"):
         kao_test(flat, "y", "x1")
     with pytest.raises(DataError, match="needs at least"):
         westerlund_test(panel, "y", "x1", lags=6, leads=6)
-    with pytest.raises(SpecError, match="trend='n'"):
-        pedroni_test(panel, "y", "x1", trend="n")
+    with pytest.raises(SpecError, match="trend='none'"):
+        pedroni_test(panel, "y", "x1", trend="none")
     with pytest.raises(SpecError, match="intercepts only"):
-        kao_test(panel, "y", "x1", trend="ct")
-    with pytest.raises(SpecError, match="bootstrap"):
-        westerlund_test(panel, "y", "x1", bootstrap=-1)
+        kao_test(panel, "y", "x1", trend="trend")
+    with pytest.raises(SpecError, match="reps=-1"):
+        westerlund_test(panel, "y", "x1", inference="bootstrap", reps=-1)
+    with pytest.raises(SpecError, match="trend='c' is not an option"):
+        westerlund_test(panel, "y", "x1", trend="c")
     with pytest.raises(DataError, match="not in the data"):
         pedroni_test(panel, "y", "gdp")
 

@@ -41,13 +41,17 @@ def _pair(n: int = 80, seed: int = 3, k: int = 1) -> tuple[pd.Series, pd.DataFra
 
 
 # --------------------------------------------------------- wrappers equal the libraries
-@pytest.mark.parametrize("trend", ["n", "c", "ct"])
-@pytest.mark.parametrize("lags", ["aic", "bic", 2])
+ARCH = {"none": "n", "constant": "c", "trend": "ct"}
+
+
+@pytest.mark.parametrize("trend", ["none", "constant", "trend"])
+@pytest.mark.parametrize("lags", ["aic", "bic", "sequential-t", 2])
 def test_engle_granger_equals_arch(trend, lags):
     y, x = _pair(k=2)
     res = engle_granger_test(y, x, trend=trend, lags=lags)
-    kw = {"method": lags} if isinstance(lags, str) else {"lags": lags}
-    ref = engle_granger(y, x, trend=trend, **kw)  # reference: arch engle_granger
+    method = {"sequential-t": "t-stat"}.get(lags, lags)
+    kw = {"method": method} if isinstance(lags, str) else {"lags": lags}
+    ref = engle_granger(y, x, trend=ARCH[trend], **kw)  # reference: arch engle_granger
     assert_allclose(res.statistic, ref.stat, rtol=1e-12)
     assert_allclose(res.pvalue, ref.pvalue, rtol=1e-12)
     assert_allclose(res.critical_values[0.05], ref.critical_values[5], rtol=1e-12)
@@ -57,12 +61,12 @@ def test_engle_granger_equals_arch(trend, lags):
 @pytest.mark.parametrize("variant", ["Zt", "Za", "Pu", "Pz"])
 def test_phillips_ouliaris_equals_arch(variant):
     y, x = _pair()
-    res = phillips_ouliaris_test(y, x, trend="c", variant=variant)
+    res = phillips_ouliaris_test(y, x, trend="constant", variant=variant)
     ref = phillips_ouliaris(y, x, trend="c", test_type=variant)  # reference: arch
     assert_allclose([res.statistic, res.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
 
 
-@pytest.mark.parametrize(("trend", "det"), [("n", -1), ("c", 0), ("ct", 1)])
+@pytest.mark.parametrize(("trend", "det"), [("none", -1), ("constant", 0), ("trend", 1)])
 def test_johansen_equals_statsmodels(trend, det):
     y, x = _pair(k=2)
     res = johansen_test(y, x, trend=trend, lags=2)
@@ -80,7 +84,8 @@ def test_ardl_bounds_danish_example():
     # UECM(lrm, 3, data[["lry","ibo","ide"]], 3, trend="c").fit().bounds_test(case=3)
     # -> F = 5.99305, p(upper) = 0.00205, p(lower) = 0.000138.
     data = danish_data.load_pandas().data
-    res = ardl_bounds_test(data["lrm"], data[["lry", "ibo", "ide"]], trend="c", lags=3, case=3)
+    res = ardl_bounds_test(data["lrm"], data[["lry", "ibo", "ide"]], trend="constant", lags=3,
+                           case=3)
     assert_allclose(res.statistic, 5.99305, atol=1e-5)
     assert_allclose(res.pvalue, 0.00205, atol=1e-5)
     assert_allclose(res.details["lower_pvalue"], 0.000138, atol=1e-6)
@@ -88,7 +93,7 @@ def test_ardl_bounds_danish_example():
 
 def test_ardl_bounds_equals_statsmodels():
     y, x = _pair(k=2, n=70)
-    res = ardl_bounds_test(y, x, trend="c", lags=2)
+    res = ardl_bounds_test(y, x, trend="constant", lags=2)
     ref = UECM(y.reset_index(drop=True), 2, x.reset_index(drop=True), 2, trend="c").fit() \
         .bounds_test(3)  # reference: statsmodels UECM.bounds_test
     assert_allclose(res.statistic, ref.statistic, rtol=1e-12)
@@ -101,7 +106,7 @@ def test_ardl_bounds_equals_statsmodels():
                                                  ("ccr", CanonicalCointegratingReg)])
 def test_cointegrating_regression_equals_arch(estimator, cls):
     y, x = _pair(k=2)
-    est = cointegrating_regression(y, x, estimator=estimator, trend="c", lags=1, leads=1)
+    est = cointegrating_regression(y, x, estimator=estimator, trend="constant", lags=1, leads=1)
     if estimator == "dols":
         ref = cls(y, x, trend="c", lags=1, leads=1).fit(cov_type="kernel")  # reference: arch
     else:

@@ -25,7 +25,7 @@ def grunfeld() -> ev.Panel:
 
 def test_grunfeld_within_matches_published(grunfeld):
     est = elasticity(grunfeld, "invest", "value", controls=["capital"], log=False,
-                     cov="unadjusted")
+                     cov="classical")
     # Baltagi, Econometric Analysis of Panel Data, Table 2.1 (attribution from memory), within
     # estimator; values to 7 digits from R plm 2.6.2 (shared/reference_values.md section 12.2).
     assert_allclose(est.params["value"], 0.1101238, atol=5e-7)
@@ -38,16 +38,16 @@ def test_grunfeld_within_matches_published(grunfeld):
 
 
 @pytest.mark.parametrize(("cov", "config"), [
-    ("robust", {"cov_type": "robust"}),
-    ("cluster", {"cov_type": "clustered", "cluster_entity": True, "group_debias": True}),
-    ("twoway_cluster", {"cov_type": "clustered", "cluster_entity": True, "cluster_time": True,
-                        "group_debias": True}),
-    ("driscoll_kraay", {"cov_type": "kernel", "kernel": "bartlett", "bandwidth": 3}),
+    ("heteroskedastic", {"cov_type": "robust"}),
+    ("unit-cluster", {"cov_type": "clustered", "cluster_entity": True, "group_debias": True}),
+    ("two-way-cluster", {"cov_type": "clustered", "cluster_entity": True, "cluster_time": True,
+                         "group_debias": True}),
+    ("driscoll-kraay", {"cov_type": "kernel", "kernel": "bartlett", "bandwidth": 3}),
 ])
 @pytest.mark.parametrize("estimator", ["fe", "twfe"])
 def test_covariances_equal_linearmodels(grunfeld, cov, config, estimator):
     est = elasticity(grunfeld, "invest", "value", controls=["capital"], log=False,
-                     estimator=estimator, cov=cov, hac_lags=3 if cov == "driscoll_kraay" else None)
+                     estimator=estimator, cov=cov, hac_lags=3 if cov == "driscoll-kraay" else None)
     frame = grunfeld.frame
     # Reference library: linearmodels PanelOLS called directly with the same settings.
     ref = PanelOLS(frame["invest"], frame[["value", "capital"]], entity_effects=True,
@@ -79,7 +79,7 @@ def test_driscoll_kraay_and_cluster_by_hand():
     # Driscoll & Kraay (1998): h_t = sum_i x_it e_it, Bartlett weights 1 - l/(L+1), L = 2
     h = pd.Series(x * e).groupby(frame.year.to_numpy()).sum().to_numpy()
     s = h @ h + sum(2 * (1 - lag / 3) * (h[lag:] @ h[:-lag]) for lag in (1, 2))
-    dk = elasticity(panel, "y", "x", log=False, cov="driscoll_kraay", hac_lags=2)
+    dk = elasticity(panel, "y", "x", log=False, cov="driscoll-kraay", hac_lags=2)
     assert_allclose(dk.params["x"], beta, rtol=1e-12)
     # debiased scale n/(n - k - effects) (linearmodels debiased=True counts the unit effects)
     assert_allclose(dk.std_errors["x"] ** 2, s / (x @ x) ** 2 * n / (n - k - effects), rtol=1e-10)
@@ -87,7 +87,7 @@ def test_driscoll_kraay_and_cluster_by_hand():
     # G/(G-1) (n-1)/(n-k) of Stata's xtreg, fe vce(cluster) (common practice; G = 4 clusters);
     # unit effects nested in the clusters are not counted
     g = pd.Series(x * e).groupby(frame.unit.to_numpy()).sum().to_numpy()
-    cl = elasticity(panel, "y", "x", log=False, cov="cluster")
+    cl = elasticity(panel, "y", "x", log=False, cov="unit-cluster")
     expected = (g @ g) / (x @ x) ** 2 * 4 / 3 * (n - 1) / (n - k)
     assert_allclose(cl.std_errors["x"] ** 2, expected, rtol=1e-10)
 
@@ -167,7 +167,7 @@ def test_robust_mean_option(grunfeld):
 
 
 def test_decoupling_tests_are_one_sided(grunfeld):
-    est = elasticity(grunfeld, "invest", "value", log=False, cov="unadjusted")
+    est = elasticity(grunfeld, "invest", "value", log=False, cov="classical")
     relative, absolute = decoupling_tests(est)
     b, se = est.params["value"], est.std_errors["value"]
     from scipy import stats
@@ -179,9 +179,9 @@ def test_decoupling_tests_are_one_sided(grunfeld):
 
 def test_time_varying_elasticity(grunfeld):
     path = time_varying_elasticity(grunfeld, "invest", "value", width=10, log=False,
-                                   cov="unadjusted")
+                                   cov="classical")
     assert len(path.table) == 11 and list(path.table.columns[:3]) == ["start", "end", "elasticity"]
-    first = elasticity(grunfeld, "invest", "value", log=False, cov="unadjusted",
+    first = elasticity(grunfeld, "invest", "value", log=False, cov="classical",
                        window=(1935, 1944))
     assert path.table.loc[0, "elasticity"] == pytest.approx(first.params["value"])
     periods = time_varying_elasticity(grunfeld, "invest", "value", log=False,
@@ -209,7 +209,7 @@ def test_bad_input(grunfeld):
     with pytest.raises(DataError, match="column 'invest' is 0 at unit 'Atlantic Refining', year 1938"):
         elasticity(ev.load_panel(bad, unit="firm"), "invest", "value")
     with pytest.raises(SpecError, match="cov="):
-        elasticity(panel, "invest", "value", estimator="mg", cov="robust")
+        elasticity(panel, "invest", "value", estimator="mg", cov="heteroskedastic")
     with pytest.raises(SpecError, match="'amg', 'ccemg'"):
         elasticity(panel, "invest", "value", estimator="gmm")
 
@@ -226,8 +226,9 @@ def test_residuals_are_returned(grunfeld, tmp_path):
     fit = sm.OLS(g["invest"], sm.add_constant(g["value"])).fit()
     assert_allclose(mg.resid.loc["IBM"].to_numpy(), fit.resid.to_numpy(), atol=1e-8)
     path = time_varying_elasticity(grunfeld, "invest", "value", width=8, log=False)
-    path.plot(tmp_path / "path.png")
+    assert path.plot(tmp_path / "path.png") == [tmp_path / "path.png"]
     assert (tmp_path / "path.png").stat().st_size > 1000
+    assert "ElasticityPath(" in repr(path) and "Elasticity by window" in str(path)
 
 
 def test_regression_table_lists_what_was_left_out(grunfeld):
@@ -236,5 +237,6 @@ def test_regression_table_lists_what_was_left_out(grunfeld):
     est = elasticity(ev.load_panel(frame, unit="firm"), "invest", "value", controls="capital",
                      log=False)
     assert est.params.index.tolist() == ["value", "capital"]
-    assert "(1) left out: American" not in ev.regression_table([est])
-    assert "(1) left out: Atlantic Refining 1935 missing value" in ev.regression_table([est])
+    assert "left out: American" not in ev.regression_table([est])
+    assert "Fixed effects (unit) left out: Atlantic Refining capital 1935 missing value" in (
+        ev.regression_table([est]))

@@ -115,7 +115,7 @@ def _ekc_frame(seed: int, inverted: bool) -> pd.DataFrame:
 
 
 def test_ekc_recovers_turning_point_and_rejects_monotone():
-    res = ekc(ev.load_panel(_ekc_frame(1, True)), "co2", "gdp", cov="robust")
+    res = ekc(ev.load_panel(_ekc_frame(1, True)), "co2", "gdp", cov="heteroskedastic")
     point = res.turning_points.iloc[0]
     # planted: -3.0 / (2 * -0.4) = 3.75 (constructed in the test)
     assert point.point == pytest.approx(3.75, abs=0.1)
@@ -125,7 +125,7 @@ def test_ekc_recovers_turning_point_and_rejects_monotone():
     assert point.level == pytest.approx(math.exp(point.point))
     assert res.u_test.reject(0.01)
     assert "Wagner" in res.warnings[0]
-    flat = ekc(ev.load_panel(_ekc_frame(2, False)), "co2", "gdp", cov="robust")
+    flat = ekc(ev.load_panel(_ekc_frame(2, False)), "co2", "gdp", cov="heteroskedastic")
     assert not flat.u_test.reject(0.05)
 
 

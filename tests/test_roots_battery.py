@@ -57,15 +57,17 @@ def test_series_battery_decides_clear_cases():
         root_battery(walk, tests=("ips",))          # panel tests need a panel
 
 
-def test_battery_lists_skipped_units():
+def test_battery_lists_excluded_units():
     panel = ev.demo_panel()
     frame = panel.frame.reset_index()
     unit = panel.units[0]
     frame.loc[(frame.iloc[:, 0] == unit) & (frame.iloc[:, 1] == 2000), "dmc"] = np.nan
     gappy = ev.load_panel(frame, unit=panel.unit_name, time=panel.time_name)
     res = root_battery(gappy, "dmc", tests=("adf", "kpss"))
-    skipped = res.skipped[res.skipped["unit"] == unit]
+    skipped = res.excluded[res.excluded["unit"] == unit]
     assert len(skipped) == 4 and skipped["reason"].str.contains("missing in 2000").all()
+    assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]
+    assert set(skipped["column"]) == {"dmc", "diff_dmc"}
     assert res.decisions.set_index("unit").loc[unit, "decision"] == "inconclusive"
     with pytest.raises(SpecError, match="tests="):
         root_battery(gappy, "dmc", tests=("adf", "nope"))
@@ -87,7 +89,7 @@ def test_cli_battery_and_dependence(capsys):
     assert main(["roots", DEMO_CSV, "--column", "ghg_territorial", "--log", "--tests",
                  "adf,kpss,ips"]) == 0
     out = capsys.readouterr().out
-    assert "Unit-root battery: log_ghg_territorial" in out and "decision" in out
+    assert "Unit-root battery: ln ghg_territorial" in out and "decision" in out
     assert main(["roots", DEMO_CSV, "--column", "dmc", "--dependence", "--format", "json"]) == 0
     payload = json.loads(capsys.readouterr().out)
     assert [r["test"] for r in payload["rows"]][0] == "Pesaran CD"
@@ -96,7 +98,7 @@ def test_cli_battery_and_dependence(capsys):
     csv = capsys.readouterr().out
     assert csv.splitlines()[0].startswith("unit,series,test,statistic,pvalue") and "decision" in csv
     assert main(["roots", DEMO_CSV, "--column", "energy", "--tests", "adf,kpss", "--differences",
-                 "--lags", "2", "--trend", "ct", "--format", "markdown"]) == 0
+                 "--lags", "2", "--trend", "trend", "--format", "markdown"]) == 0
     assert "| decision |" in capsys.readouterr().out
     assert main(["roots", DEMO_CSV, "--column", "nope"]) == 2
     assert "not in the data" in capsys.readouterr().err

@@ -121,7 +121,7 @@ def test_panel_column_with_trend_is_detrended_per_unit(grunfeld10):
     x = np.column_stack([np.ones_like(t), t])
     resid = wide - x @ np.linalg.lstsq(x, wide.to_numpy(), rcond=None)[0]
     long = resid.stack().reorder_levels([1, 0]).sort_index()
-    assert_allclose(pesaran_cd_test(panel, "invest", trend="ct").statistic,
+    assert_allclose(pesaran_cd_test(panel, "invest", trend="trend").statistic,
                     pesaran_cd_test(long).statistic, rtol=1e-10)
 
 

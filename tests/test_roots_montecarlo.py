@@ -44,20 +44,20 @@ def panel_draw(rng: np.random.Generator, t: int, n: int, rho: float, factor: flo
 def rejection_rates(reps: int, t: int, n: int, rho: float, factor: float, seed: int,
                     cips_draws: np.ndarray) -> dict[str, float]:
     rng = np.random.default_rng(seed)
-    means, variances, _ = ips_moments(np.zeros(n, int), np.full(n, t - 1), "c")
+    means, variances, _ = ips_moments(np.zeros(n, int), np.full(n, t - 1), "constant")
     cips_cv = float(np.quantile(cips_draws, 0.05))
     bandwidth = int(round(3.21 * t ** (1 / 3)))
     hits = dict.fromkeys(("ips", "llc", "breitung", "fisher", "cips", "hadri"), 0)
     for _ in range(reps):
         y = panel_draw(rng, t, n, rho, factor)
-        tstats = adf_tstats(y, "c", 0)
+        tstats = adf_tstats(y, "constant", 0)
         hits["ips"] += ips_w(tstats, means, variances) < Z05
-        hits["llc"] += llc_statistic(y, "c", np.zeros(n, int), bandwidth)["statistic"] < Z05
-        hits["breitung"] += breitung_statistic(y, "c") < Z05
+        hits["llc"] += llc_statistic(y, "constant", np.zeros(n, int), bandwidth)["statistic"] < Z05
+        hits["breitung"] += breitung_statistic(y, "constant") < Z05
         p = np.clip([mackinnonp(float(s), regression="c") for s in tstats], 1e-16, 1 - 1e-16)
         hits["fisher"] += combine_pvalues(np.asarray(p))["pm"][1] < 0.05
-        hits["cips"] += cips_statistic(cadf_tstats(y, "c", 0), "c", True) < cips_cv
-        hits["hadri"] += hadri_statistic(y, "c", True, 0)[0] > -Z05
+        hits["cips"] += cips_statistic(cadf_tstats(y, "constant", 0), "constant", True) < cips_cv
+        hits["hadri"] += hadri_statistic(y, "constant", True, 0)[0] > -Z05
     return {k: v / reps for k, v in hits.items()}
 
 
@@ -67,7 +67,7 @@ def cips_null(tmp_path_factory):
     old = os.environ.get("EVIDENCE_CACHE_DIR")
     os.environ["EVIDENCE_CACHE_DIR"] = str(tmp_path_factory.mktemp("cache"))
     try:
-        yield simulate_cips(10, 30, trend="c", lags=0, truncate=True, replications=2000, seed=99)
+        yield simulate_cips(10, 30, trend="constant", lags=0, truncate=True, reps=2000, seed=99)
     finally:
         if old is None:
             os.environ.pop("EVIDENCE_CACHE_DIR", None)

@@ -14,6 +14,7 @@ from arch.unitroot import ADF, DFGLS, KPSS, PhillipsPerron, ZivotAndrews
 from numpy.testing import assert_allclose
 
 from evidence.errors import DataError, SpecError
+from evidence.roots._common import ARCH_TREND
 from evidence.roots import _lee_strazicich_tables as ls_tables
 from evidence.roots._lm_breaks import break_grid, lm_search, lm_statistics
 from evidence.roots.series import (
@@ -42,14 +43,16 @@ def _ar1(n: int = 60, phi: float = 0.5, seed: int = 8) -> np.ndarray:
 
 
 # ------------------------------------------------------------- wrappers agree with arch
-@pytest.mark.parametrize("trend", ["n", "c", "ct"])
-@pytest.mark.parametrize("lags", ["aic", "bic", "t-stat", 0, 3])
+@pytest.mark.parametrize("trend", ["none", "constant", "trend"])
+@pytest.mark.parametrize("lags", ["aic", "bic", "sequential-t", 0, 3])
 def test_adf_equals_arch(trend, lags):
     y = _walk()
     ours = adf_test(y, trend=trend, lags=lags, max_lags=6)
-    # reference library: arch.unitroot.ADF called directly with the same options
-    ref = ADF(y.to_numpy(), trend=trend, lags=lags if isinstance(lags, int) else None, max_lags=6,
-              method=lags if isinstance(lags, str) else "aic")
+    # reference library: arch.unitroot.ADF called directly with the same options (arch's name of
+    # the sequential-t rule is "t-stat")
+    method = {"sequential-t": "t-stat"}.get(lags, lags) if isinstance(lags, str) else "aic"
+    ref = ADF(y.to_numpy(), trend=ARCH_TREND[trend], lags=lags if isinstance(lags, int) else None,
+              max_lags=6, method=method)
     assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
     assert ours.details["lags"] == ref.lags and ours.nobs == ref.nobs
     assert_allclose(ours.critical_values[0.05], ref.critical_values["5%"], rtol=1e-12)
@@ -57,35 +60,36 @@ def test_adf_equals_arch(trend, lags):
     assert ours.details["sample"] == f"{1964 + ref.lags + 1}:2023"
 
 
-@pytest.mark.parametrize("trend", ["n", "c", "ct"])
+@pytest.mark.parametrize("trend", ["none", "constant", "trend"])
 def test_pp_equals_arch(trend):
     y = _walk()
-    for lags in (None, 4):
-        ours = pp_test(y, trend=trend, lags=lags)
-        ref = PhillipsPerron(y.to_numpy(), trend=trend, lags=lags)  # arch, reference library
+    for hac_lags, arch_lags in ((None, 4), (4, 4), (2, 2)):
+        # default bandwidth: floor(4 (60/100)^(2/9)) = 3 (Newey & West 1994) -- checked below
+        ours = pp_test(y, trend=trend, hac_lags=hac_lags)
+        expected = 3 if hac_lags is None else arch_lags
+        ref = PhillipsPerron(y.to_numpy(), trend=ARCH_TREND[trend], lags=expected)  # arch
         assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
-        assert ours.details["bandwidth"] == ref.lags and ours.nobs == ref.nobs
+        assert ours.details["hac_lags"] == ref.lags and ours.nobs == ref.nobs
 
 
-@pytest.mark.parametrize("trend", ["c", "ct"])
+@pytest.mark.parametrize("trend", ["constant", "trend"])
 def test_kpss_equals_arch(trend):
     y = _ar1()
-    ours = kpss_test(y, trend=trend, lags=3)
-    ref = KPSS(y, trend=trend, lags=3)  # arch, reference library
+    ours = kpss_test(y, trend=trend, hac_lags=3)
+    ref = KPSS(y, trend=ARCH_TREND[trend], lags=3)  # arch, reference library
     assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
     auto = kpss_test(y, trend=trend)
-    with pytest.warns(DeprecationWarning):
-        ref_auto = KPSS(y, trend=trend)
-    assert_allclose(auto.statistic, ref_auto.stat, rtol=1e-12)
-    assert auto.details["bandwidth"] == ref_auto.lags
+    # the default bandwidth is the package's Newey-West rule, floor(4 (60/100)^(2/9)) = 3
+    assert auto.details["hac_lags"] == 3
+    assert_allclose(auto.statistic, KPSS(y, trend=ARCH_TREND[trend], lags=3).stat, rtol=1e-12)
     assert "stationary" in ours.null
 
 
-@pytest.mark.parametrize("trend", ["c", "ct"])
+@pytest.mark.parametrize("trend", ["constant", "trend"])
 def test_dfgls_equals_arch(trend):
     y = _walk()
     ours = dfgls_test(y, trend=trend, lags="bic", max_lags=5)
-    ref = DFGLS(y.to_numpy(), trend=trend, max_lags=5, method="bic")  # arch, reference library
+    ref = DFGLS(y.to_numpy(), trend=ARCH_TREND[trend], max_lags=5, method="bic")  # arch
     assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
     assert ours.details["lags"] == ref.lags
 
@@ -172,6 +176,7 @@ def test_lee_strazicich_search_is_the_minimum_over_the_grid():
     assert_allclose(all_stats, loop, rtol=1e-9)
     assert stat == pytest.approx(min(loop)) and int(best[0]) == int(dates[np.argmin(loop)][0])
     res = lee_strazicich_test(pd.Series(y, index=range(1980, 2020)), lags=1)
+    assert res.details["n_breaks"] == 1
     assert res.details["break_years"] == [1980 + int(best[0]) - 1]
     assert math.isnan(res.pvalue) and res.statistic == pytest.approx(stat)
 
@@ -231,14 +236,18 @@ def test_bad_series_raise_clear_errors():
         adf_test(pd.Series(np.ones(30)))
     with pytest.raises(DataError, match="needs at least"):
         adf_test(y.iloc[:6], lags=4)
-    with pytest.raises(SpecError, match="'aic', 'bic', 't-stat'"):
+    with pytest.raises(SpecError, match="'aic', 'bic', 'sequential-t'"):
         adf_test(y, lags="hqic")
     with pytest.raises(SpecError, match="trend"):
-        kpss_test(y, trend="n")
+        kpss_test(y, trend="none")
+    with pytest.raises(SpecError, match="trend"):
+        adf_test(y, trend="c")                      # the old codes are gone
     with pytest.raises(SpecError, match="model"):
         za_test(y, model="crash")
-    with pytest.raises(SpecError, match="breaks"):
-        lee_strazicich_test(y, breaks=3)
+    with pytest.raises(SpecError, match="n_breaks"):
+        lee_strazicich_test(y, n_breaks=3)
+    with pytest.raises(SpecError, match="hac_lags"):
+        pp_test(y, hac_lags=-1)
     with pytest.raises(DataError, match="no values"):
         adf_test(pd.Series([np.nan] * 10))
 
@@ -248,3 +257,29 @@ def test_outer_missing_values_are_trimmed():
     padded = pd.concat([pd.Series([np.nan, np.nan], index=[1962, 1963]), y])
     assert adf_test(padded, lags=1).statistic == pytest.approx(adf_test(y, lags=1).statistic)
     assert adf_test(padded, lags=1).details["series_span"] == "1964:2003"
+
+
+# ------------------------------------------------- batch statistics used by the simulations
+@pytest.mark.parametrize("trend", ["none", "constant", "trend"])
+def test_batch_unit_statistics_equal_arch(trend):
+    """The vectorised statistics behind the simulated p-values are arch's, series by series."""
+    from evidence.roots._unit_batch import adf_select, dfgls_select, kpss_eta, pp_tau
+
+    rng = np.random.default_rng(17)
+    y = np.cumsum(rng.standard_normal((31, 60)), axis=0)
+    y[:, ::2] = 0.5 * rng.standard_normal((31, 30)) + 0.4 * y[:, ::2]
+    code = ARCH_TREND[trend]
+    for method, arch_method in (("aic", "aic"), ("bic", "bic"), ("sequential-t", "t-stat")):
+        t, lags, nobs = adf_select(y, trend, 3, method)
+        ref = [ADF(y[:, j], trend=code, max_lags=3, method=arch_method) for j in range(60)]  # arch
+        assert lags.tolist() == [r.lags for r in ref] and nobs.tolist() == [r.nobs for r in ref]
+        assert_allclose(t, [r.stat for r in ref], rtol=1e-9)
+    assert_allclose(pp_tau(y, trend, 3), [PhillipsPerron(y[:, j], trend=code, lags=3).stat
+                                          for j in range(60)], rtol=1e-9)
+    if trend != "none":
+        assert_allclose(kpss_eta(y, trend, 2), [KPSS(y[:, j], trend=code, lags=2).stat
+                                                for j in range(60)], rtol=1e-7)
+        t, lags, _ = dfgls_select(y, trend, None, 3, "aic")
+        ref = [DFGLS(y[:, j], trend=code, max_lags=3, method="aic") for j in range(60)]
+        assert lags.tolist() == [r.lags for r in ref]
+        assert_allclose(t, [r.stat for r in ref], rtol=1e-8)

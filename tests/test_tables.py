@@ -32,7 +32,7 @@ def test_latex_escapes_data(nasty_frame):
     out = render_frame(nasty_frame, "latex", title=NASTY, notes=[NASTY])
     assert r"50\%" in out and r"\_under\_" in out and r"\$x\$" in out and r"\#1" in out
     assert r"\{a\}" in out and r"\textbackslash{}d" in out
-    assert "\\begin{tabular}{lr}" in out and "\\toprule" in out and "\\bottomrule" in out
+    assert "D{.}{.}{-1}@{}}" in out and "\\toprule" in out and "\\bottomrule" in out
 
 
 def test_latex_escape_each_special_character():

@@ -7,18 +7,18 @@ from dataclasses import replace
 from pathlib import Path
 
 import click
-import pandas as pd
 
-from evidence._commands._common import data_options, emit, format_options, load
 import evidence as ev
+from evidence._commands._common import data_options, emit, format_options, load
+from evidence._typing import DEFAULT_SEED, TRENDS
 from evidence.errors import SpecError
-from evidence.panel import Panel
-from evidence.results import TestResult
+from evidence.panel import derived_name
+from evidence.results import Estimate, TestGroupResult, TestResult
 from evidence.tables import regression_table, test_table
 
 __all__ = ["command"]
 
-_TESTS = {"pedroni": "pedroni_test", "kao": "kao_test", "westerlund": "westerlund_test"}
+_TESTS = ("pedroni", "kao", "westerlund")
 _ESTIMATORS = ("dols", "fmols", "mg", "pmg")
 _NOTE = ("H0 of the cointegration tests: no cointegration. Pedroni panel v rejects in the right "
          "tail, the others in the left; Dumitrescu-Hurlin uses first differences.")
@@ -38,69 +38,68 @@ def _lags(text: str) -> int | str:
     return int(text) if text.isdigit() else text
 
 
-def _with_differences(panel: Panel, names: dict[str, str]) -> Panel:
-    """The panel with first differences between consecutive years (NaN after a gap)."""
-    frame = panel.frame
-    times = pd.Series(frame.index.get_level_values(1), index=frame.index)
-    consecutive = (times - times.groupby(level=0).shift(1)) == 1
-    for column, name in names.items():
-        frame[name] = (frame[column] - frame[column].groupby(level=0).shift(1)).where(consecutive)
-    return ev.load_panel(frame.reset_index(), unit=frame.index.names[0], time=frame.index.names[1])
-
-
 @click.command("coint")
 @data_options
-@click.option("--y", "y_col", required=True, help="Dependent column (used as given: log it first).")
-@click.option("--x", "x_cols", required=True, help="Regressor column(s), comma-separated.")
-@click.option("--log", "take_log", is_flag=True, help="Use the natural logs of --y and --x.")
+@click.option("--dependent", required=True,
+              help="Dependent column (used as given: log it first, or add --log).")
+@click.option("--regressors", required=True, help="Regressor column(s), comma-separated.")
+@click.option("--log", "take_log", is_flag=True,
+              help="Use the natural logs of --dependent and --regressors.")
 @click.option("--tests", default="pedroni,kao,westerlund", show_default=True,
               help="Comma-separated: pedroni, kao, westerlund (empty for none).")
 @click.option("--estimator", default="", help="Comma-separated long-run estimators: dols, fmols, "
               "mg, pmg (pooled DOLS/FMOLS; add --group-mean for Pedroni's group means).")
 @click.option("--group-mean", is_flag=True, help="DOLS/FMOLS as group means instead of pooled.")
 @click.option("--causality", is_flag=True,
-              help="Dumitrescu-Hurlin test of x -> y on first differences (first x only).")
-@click.option("--trend", type=click.Choice(["n", "c", "ct"], case_sensitive=False), default="c",
-              show_default=True, help="Deterministic terms.")
+              help="Dumitrescu-Hurlin test of the first regressor -> dependent, on first "
+                   "differences.")
+@click.option("--trend", type=click.Choice(list(TRENDS), case_sensitive=False), default="constant",
+              show_default=True, help="Deterministic terms: none, constant, or constant and trend.")
 @click.option("--lags", default="1", show_default=True,
               help="Lag order (integer) of every test and estimator, or 'aic' (tests choose by "
                    "AIC; DOLS and ARDL then use 1).")
 @click.option("--leads", type=int, default=1, show_default=True, help="Leads of the DOLS.")
-@click.option("--bootstrap", type=int, default=0, show_default=True,
-              help="Bootstrap replications for Westerlund and Dumitrescu-Hurlin (0: none).")
-@click.option("--seed", type=int, default=None, help="Seed of the bootstraps.")
+@click.option("--inference", type=click.Choice(["asymptotic", "bootstrap"], case_sensitive=False),
+              default=None, help="p-values of Westerlund and Dumitrescu-Hurlin: asymptotic or "
+                                 "bootstrap (default: each test's own).")
+@click.option("--reps", type=int, default=499, show_default=True,
+              help="Bootstrap replications.")
+@click.option("--seed", type=int, default=DEFAULT_SEED, show_default=True,
+              help="Seed of the bootstraps.")
 @format_options
-def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, y_col: str,
-            x_cols: str, take_log: bool, tests: str, estimator: str, group_mean: bool,
-            causality: bool, trend: str, lags: str, leads: int, bootstrap: int, seed: int | None,
-            fmt: str, output: Path | None) -> None:
+def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, dependent: str,
+            regressors: str, take_log: bool, tests: str, estimator: str, group_mean: bool,
+            causality: bool, trend: str, lags: str, leads: int, inference: str | None, reps: int,
+            seed: int, fmt: str, output: Path | None) -> None:
     """Panel cointegration tests, long-run coefficients and Granger causality in one report."""
     panel = load(data, unit_col, time_col, layout)
-    xs = [c.strip() for c in x_cols.split(",") if c.strip()]
+    xs = [c.strip() for c in regressors.split(",") if c.strip()]
     if not xs:
-        raise SpecError("--x is empty; give at least one regressor column.")
+        raise SpecError("--regressors is empty; give at least one regressor column.")
     trend = trend.lower()
     if take_log:
-        for col in [y_col, *xs]:
+        for col in [dependent, *xs]:
             panel = panel.with_log(col)
-        y_col, xs = f"log_{y_col}", [f"log_{c}" for c in xs]
+        dependent, xs = derived_name("log", dependent), [derived_name("log", c) for c in xs]
     lag = _lags(lags)
-    results = []
-    for name in _split(tests, tuple(_TESTS), "--tests"):
+    results: list[TestResult] = []
+    for name in _split(tests, _TESTS, "--tests"):
+        group: TestGroupResult
         if name == "westerlund":
-            group = ev.westerlund_test(panel, y_col, xs, trend=trend, lags=lag, bootstrap=bootstrap,
-                                    seed=seed)
+            group = ev.westerlund_test(panel, dependent, xs, trend=trend, lags=lag,
+                                       inference=inference, reps=reps, seed=seed)
         elif name == "kao":
-            group = ev.kao_test(panel, y_col, xs, lags=lag)
+            group = ev.kao_test(panel, dependent, xs, lags=lag)
         else:
-            group = ev.pedroni_test(panel, y_col, xs, trend="ct" if trend == "ct" else "c", lags=lag)
+            group = ev.pedroni_test(panel, dependent, xs,
+                                    trend="trend" if trend == "trend" else "constant", lags=lag)
         results.extend(group.results)
-    estimates = []
+    estimates: list[Estimate] = []
     order = lag if isinstance(lag, int) else 1
     for name in _split(estimator, _ESTIMATORS, "--estimator"):
-        est = ev.long_run(panel, y_col, xs, estimator=name, pooled=not group_mean,
-                       trend="c" if name in ("mg", "pmg") else trend,
-                       lags=max(order, 1) if name in ("mg", "pmg") else order, leads=leads)
+        est = ev.long_run(panel, dependent, xs, estimator=name, pooled=not group_mean,
+                          trend="constant" if name in ("mg", "pmg") else trend,
+                          lags=max(order, 1) if name in ("mg", "pmg") else order, leads=leads)
         estimates.append(est)
         if name == "pmg":
             results.append(TestResult(test="Hausman MG vs PMG", statistic=est.details["hausman_statistic"],
@@ -108,19 +107,19 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
                                       null="common long-run coefficients", nobs=est.nobs,
                                       reference="hausman1978"))
     if causality:
-        gy, gx = f"d_{y_col}", f"d_{xs[0]}"
-        diffed = _with_differences(panel, {y_col: gy, xs[0]: gx})
-        dh = ev.dumitrescu_hurlin_test(diffed, gy, gx, lags=max(order, 1), bootstrap=bootstrap,
-                                    seed=seed)
-        results.append(replace(dh, test=f"Dumitrescu-Hurlin {xs[0]} -> {y_col}"))
+        gy, gx = derived_name("diff", dependent), derived_name("diff", xs[0])
+        diffed = panel.with_difference(dependent, name=gy).with_difference(xs[0], name=gx)
+        dh = ev.dumitrescu_hurlin_test(diffed, gy, gx, lags=max(order, 1), inference=inference,
+                                       reps=reps, seed=seed)
+        results.append(replace(dh, test=f"Dumitrescu-Hurlin {xs[0]} -> {dependent}"))
     fmt = fmt.lower()
     parts = []
     if results:
-        parts.append(test_table(results, fmt, title=f"Cointegration and causality: {y_col} on "
+        parts.append(test_table(results, fmt, title=f"Cointegration and causality: {dependent} on "
                                 f"{', '.join(xs)} (trend '{trend}')",
                                 notes=[_NOTE]))
     if estimates:
-        parts.append(regression_table(estimates, fmt, title=f"Long-run coefficients of {y_col}"))
+        parts.append(regression_table(estimates, fmt, title=f"Long-run coefficients of {dependent}"))
     if not parts:
         raise SpecError("nothing to do: give --tests, --estimator or --causality.")
     if fmt == "json":

@@ -10,6 +10,7 @@ import click
 
 import evidence as ev
 from evidence._commands._common import data_options, emit, format_options, load
+from evidence.elasticity.fixed_effects import COVARIANCES
 from evidence.tables import regression_table, render_frame, test_table
 
 __all__ = ["command"]
@@ -26,9 +27,11 @@ def _split(text: str | None) -> list[str]:
 @click.option("--controls", default=None, help="Further regressors, comma-separated (as given).")
 @click.option("--estimator", default="fe", show_default=True,
               help="Comma-separated: fe, twfe, mg, ccemg, ccep, amg.")
-@click.option("--cov", default="driscoll_kraay", show_default=True,
-              help="Covariance of fe/twfe: driscoll_kraay, cluster, twoway_cluster, robust, "
-                   "unadjusted.")
+@click.option("--cov", type=click.Choice(list(COVARIANCES), case_sensitive=False),
+              default="driscoll-kraay", show_default=True,
+              help="Covariance of fe/twfe: errors correlated across units and over time "
+                   "(driscoll-kraay), clustered by unit or by unit and year, "
+                   "heteroskedasticity-robust, or classical.")
 @click.option("--hac-lags", type=int, default=None, help="Driscoll-Kraay lags (default: rule).")
 @click.option("--window", default=None, help="Years START:END, inclusive.")
 @click.option("--ekc", is_flag=True, help="Also fit the quadratic environmental Kuznets curve.")

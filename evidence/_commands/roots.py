@@ -9,6 +9,7 @@ import pandas as pd
 
 from evidence._cautions import CAUTION
 from evidence._commands._common import data_options, emit, format_options, load
+from evidence._validation import check_lags
 from evidence.errors import SpecError
 from evidence.roots import (
     bias_corrected_lm_test,
@@ -41,7 +42,7 @@ def _parse_lags(text: str) -> int | str:
     text = text.strip().lower()
     if text.isdigit():
         return int(text)
-    return text
+    return check_lags(text, parameter="--lags")
 
 
 def _dependence_frame(panel, column: str, trend: str, min_overlap: int) -> pd.DataFrame:
@@ -61,9 +62,11 @@ def _dependence_frame(panel, column: str, trend: str, min_overlap: int) -> pd.Da
 @click.option("--tests", default=None,
               help="Comma-separated tests: " + ",".join(SERIES_TESTS + PANEL_TESTS)
               + " (default adf,kpss,ips,cips).")
-@click.option("--trend", type=click.Choice(["n", "c", "ct"], case_sensitive=False), default="c",
-              show_default=True, help="Deterministic terms in levels.")
-@click.option("--lags", default="aic", show_default=True, help="Lags: an integer, aic, bic or t-stat.")
+@click.option("--trend", type=click.Choice(["none", "constant", "trend"], case_sensitive=False),
+              default="constant", show_default=True,
+              help="Deterministic terms in levels: none, a constant, or a constant and a trend.")
+@click.option("--lags", default="aic", show_default=True,
+              help="Lags: an integer, aic, bic or sequential-t.")
 @click.option("--max-lags", type=int, default=None, help="Largest lag order searched.")
 @click.option("--alpha", type=float, default=0.05, show_default=True, help="Level of the decisions.")
 @click.option("--differences/--no-differences", default=True, show_default=True,
@@ -85,7 +88,8 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
         panel = panel.with_log(column)
         column = f"log_{column}"
     if dependence:
-        frame = _dependence_frame(panel, column, "ct" if trend.lower() == "ct" else "c", min_overlap)
+        frame = _dependence_frame(panel, column, "trend" if trend.lower() == "trend" else "constant",
+                                  min_overlap)
         notes = ["H0 of every test: no cross-sectional correlation. "
                  "mean_abs_correlation: average |rho_ij| over the pairs used.", CAUTION]
         emit(render_frame(frame, fmt, title=f"Cross-sectional dependence: {column}", notes=notes,
@@ -94,8 +98,8 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     result = root_battery(panel, column, tests=_parse_tests(tests), trend=trend.lower(),
                           lags=_parse_lags(lags), max_lags=max_lags, alpha=alpha,
                           differences=differences)
-    notes = [_RULE] + [f"skipped: {r.unit} {r.series} {r.test}: {r.reason}"
-                       for r in result.skipped.itertuples()] + [CAUTION]
+    notes = [_RULE] + [f"not run: {r.unit} {r.column} {r.years}: {r.reason}"
+                       for r in result.excluded.itertuples()] + [CAUTION]
     frame = result.to_frame() if fmt in ("csv", "json") else result.decision_table()
     emit(render_frame(frame, fmt, title=f"Unit-root battery: {column} (trend '{result.trend}', "
                       f"alpha {result.alpha:g})", notes=notes, index=False), output)

@@ -12,15 +12,23 @@ import numpy as np
 
 from evidence.cointegration._data import batch_ols, lag_matrix
 
-__all__ = ["ecm_arrays", "pmg_fit", "short_run_names", "unit_ecm"]
+__all__ = ["SPEED", "ecm_arrays", "pmg_fit", "short_run_names", "unit_ecm"]
+
+
+#: Name of the mean speed of adjustment ``φ`` among the MG and PMG coefficients.
+SPEED = "error-correction speed"
+
+
+def _change(name: str, lag: int) -> str:
+    return f"Δ {name}" if lag == 0 else f"Δ {name}, lag {lag}"
 
 
 def short_run_names(dependent: str, regressors: tuple[str, ...], p: int, q: int) -> list[str]:
-    """Names of the short-run columns, in design order."""
-    names = [f"D.{dependent}.L{j}" for j in range(1, p)]
+    """Names of the short-run columns, in design order: ``Δ y, lag 1``, ``Δ x``, ``constant``."""
+    names = [_change(dependent, j) for j in range(1, p)]
     for name in regressors:
-        names += [f"D.{name}.L{j}" for j in range(q)]
-    return names + ["const"]
+        names += [_change(name, j) for j in range(q)]
+    return names + ["constant"]
 
 
 def ecm_arrays(y: np.ndarray, x: np.ndarray, p: int, q: int) -> dict[str, np.ndarray]:

@@ -8,12 +8,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from evidence.cointegration._data import (
-    batch_ols,
-    deterministics,
-    lag_matrix,
-    long_run_cov,
-)
+from evidence._hac import long_run_cov
+from evidence.cointegration._data import batch_ols, deterministics, lag_matrix
 
 __all__ = ["adf_terms", "kao_raw", "pedroni_raw", "select_adf_lags", "static_residuals"]
 
@@ -76,7 +72,7 @@ def pedroni_raw(e: np.ndarray, dy: np.ndarray, dx: np.ndarray, adf_lags: np.ndar
     """
     n_units = e.shape[0]
     # L11^2: long-run variance of the residual of Δy on Δx (and a constant with a trend).
-    zd = dx if trend != "ct" else np.concatenate([np.ones(dx.shape[:2] + (1,)), dx], axis=2)
+    zd = dx if trend != "trend" else np.concatenate([np.ones(dx.shape[:2] + (1,)), dx], axis=2)
     _, eta, _ = batch_ols(dy, zd)
     l11 = long_run_cov(eta[:, :, None], bandwidth)[1][:, 0, 0]
     # Non-parametric (rho, PP) terms from e_t = gamma e_{t-1} + u_t.

@@ -14,13 +14,8 @@ from typing import Any
 
 import numpy as np
 
-from evidence.cointegration._data import (
-    bartlett_bandwidth,
-    batch_ols,
-    deterministics,
-    lag_matrix,
-    long_run_cov,
-)
+from evidence._hac import long_run_cov, newey_west_lags
+from evidence.cointegration._data import batch_ols, deterministics, lag_matrix
 
 __all__ = ["bootstrap_task", "ec_design", "select_orders", "westerlund_raw"]
 
@@ -101,9 +96,9 @@ def westerlund_raw(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarra
         # alpha_i(1) = omega_u / omega_y: long-run standard deviations of u = e + γ(L)'Δx and of Δy.
         u = resid + np.einsum("ntk,nk->nt", z[:, :, des["dx_cols"]], coef[:, des["dx_cols"]])
         pair = np.stack([u, dy], axis=2)
-        if trend != "n":
+        if trend != "none":
             pair = pair - pair.mean(axis=1, keepdims=True)
-        omega = long_run_cov(pair, bartlett_bandwidth(t_len))[1]
+        omega = long_run_cov(pair, newey_west_lags(t_len))[1]
         alpha1[idx] = np.sqrt(omega[:, 0, 0] / omega[:, 1, 1])
         # Pooled pieces: y_{t-1} and Δy net of the other regressors.
         others = np.delete(z, iy, axis=2)

@@ -9,16 +9,24 @@ dumitrescuhurlin2012 : Dumitrescu, E.-I. & Hurlin, C. (2012). Testing for Grange
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from typing import Any
 
 import numpy as np
 from scipy import stats
 
-from evidence._typing import Seed
-from evidence.cointegration._data import batch_ols, lag_matrix, panel_block
+from evidence._typing import DEFAULT_SEED, Seed
+from evidence._validation import check_choice, check_seed
+from evidence.cointegration._data import (
+    as_columns,
+    batch_ols,
+    lag_matrix,
+    option_int,
+    relation_block,
+)
 from evidence.errors import SpecError
 from evidence.panel import Panel
-from evidence.parallel import run_tasks, task_seeds
+from evidence.parallel import ExecutorLike, task_seeds, using_executor
 from evidence.results import TestResult
 
 __all__ = ["dumitrescu_hurlin_test", "unit_wald"]
@@ -81,27 +89,28 @@ def _bootstrap_task(task: dict[str, Any]) -> float:
     return _z_stats(w, lags, n_years)[1]
 
 
-def dumitrescu_hurlin_test(panel: Panel, y: str, x: str, *, lags: int = 1, bootstrap: int = 0,
-                           block_length: int | None = None, seed: Seed = None,
-                           backend: str = "serial") -> TestResult:
-    """Dumitrescu–Hurlin test of Granger non-causality from ``x`` to ``y`` in a heterogeneous panel.
+def dumitrescu_hurlin_test(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
+                           lags: int = 1, inference: str | None = None, reps: int = 499,
+                           block_length: int | None = None, seed: Seed = DEFAULT_SEED,
+                           executor: ExecutorLike = "serial") -> TestResult:
+    """Dumitrescu–Hurlin test of Granger non-causality from a regressor to ``dependent``.
 
-    H0: ``x`` does not Granger-cause ``y`` in any unit. H1: it does in some units.
+    H0: the regressor does not Granger-cause ``dependent`` in any unit. H1: it does in some units.
 
     Parameters
     ----------
-    panel, y, x
-        The panel, the caused column and the causing column (use stationary series, e.g. growth
-        rates made with ``panel.with_growth``).
+    panel, dependent, regressors
+        The panel, the caused column and the causing column (one name; use stationary series,
+        e.g. growth rates made with ``panel.with_growth``).
     lags : int
         Lag order K of both variables (the same in every unit).
-    bootstrap : int
-        Replications of the bootstrap that keeps cross-sectional dependence (0: asymptotic only).
-        With replications, ``pvalue`` is the bootstrap p-value of Z-bar; the asymptotic ones stay
-        in ``details``.
-    block_length, seed, backend
-        Block length of the resampled periods (default 1: periods drawn one by one), the seed and
-        the executor (``evidence.parallel``).
+    inference : {"asymptotic", "bootstrap"}, optional
+        p-value of Z-bar tilde from the normal (the default), or of Z-bar from a bootstrap that keeps
+        cross-sectional dependence (``reps`` replications); the asymptotic p-values stay in
+        ``details``.
+    reps, block_length, seed, executor
+        Bootstrap replications, block length of the resampled periods (default 1: periods drawn
+        one by one), the seed and the executor (:mod:`evidence.parallel`).
 
     Returns
     -------
@@ -132,14 +141,18 @@ def dumitrescu_hurlin_test(panel: Panel, y: str, x: str, *, lags: int = 1, boots
     >>> res.details["units"], len(res.details["unit_wald"])
     (30, 30)
     """
-    if isinstance(lags, bool) or not isinstance(lags, int) or lags < 1:
-        raise SpecError(f"lags={lags!r} must be an integer of at least 1.")
-    if isinstance(bootstrap, bool) or not isinstance(bootstrap, int) or bootstrap < 0:
-        raise SpecError(f"bootstrap={bootstrap!r} must be an integer of at least 0 (replications).")
-    if not isinstance(x, str):
-        raise SpecError("x must be one column name: the test is for one causing variable.")
-    block = panel_block(panel, y, x, min_years=3 * lags + 3,
-                        purpose=f"dumitrescu_hurlin_test with lags={lags}")
+    lags = option_int("lags", lags, 1)
+    inference = check_choice("inference", inference or "asymptotic", ("asymptotic", "bootstrap"))
+    reps = option_int("reps", reps, 1)
+    length = option_int("block_length", block_length, 1, default=1)
+    seed = check_seed(seed)
+    cols = as_columns(regressors)
+    if len(cols) != 1:
+        raise SpecError(f"regressors={list(cols)}: the test is for one causing variable; give one "
+                        "column.")
+    cause = cols[0]
+    block = relation_block(panel, dependent, cols, min_years=3 * lags + 3,
+                           purpose=f"dumitrescu_hurlin_test with lags={lags}")
     yv, xv = block.y, block.x[:, :, 0]
     nobs = block.n_years - lags
     w = unit_wald(yv, xv, lags)
@@ -149,30 +162,32 @@ def dumitrescu_hurlin_test(panel: Panel, y: str, x: str, *, lags: int = 1, boots
     if math.isnan(z_tilde):
         warnings.append(f"T={block.n_years} is not above 5 + 3K = {5 + 3 * lags}: Z-bar tilde is not defined; "
                         f"the statistic is Z-bar.")
-    details: dict[str, Any] = {"lags": lags, "w_bar": w_bar, "z_bar": z_bar, "z_bar_pvalue": p_bar,
+    details: dict[str, Any] = {"lags": lags, "inference": inference, "w_bar": w_bar,
+                               "z_bar": z_bar, "z_bar_pvalue": p_bar,
                                "z_bar_tilde": z_tilde, "z_bar_tilde_pvalue": p_tilde,
                                "unit_wald": dict(zip(block.units, w.tolist())),
                                "unit_pvalues": dict(zip(block.units, stats.chi2.sf(w, lags).tolist())),
-                               "units": block.n_units, "years": f"{block.years[0]}:{block.years[-1]}",
-                               "excluded": block.excluded_frame().to_dict(orient="records")}
+                               "units": block.n_units, "years": block.span,
+                               "excluded": block.excluded}
     statistic, pvalue = (z_bar, p_bar) if math.isnan(z_tilde) else (z_tilde, p_tilde)
-    if bootstrap:
+    if inference == "bootstrap":
         target, restricted, _ = _designs(yv, xv, lags)
         coef, resid, _ = batch_ols(target, restricted)
         resid = resid - resid.mean(axis=1, keepdims=True)
-        length = block_length or 1
         tasks = [{"seed": s, "coef": coef, "resid": resid, "y0": yv[:, :lags], "x": xv,
-                  "lags": lags, "block": length} for s in task_seeds(seed, bootstrap)]
-        draws = np.asarray(run_tasks(_bootstrap_task, tasks, backend=backend))
-        boot_p = float((1 + np.sum(draws >= z_bar)) / (bootstrap + 1))
-        details.update({"bootstrap": bootstrap, "block_length": length, "bootstrap_pvalue": boot_p,
-                        "seed": seed if isinstance(seed, int) else None,
+                  "lags": lags, "block": length} for s in task_seeds(seed, reps)]
+        with using_executor(executor) as runner:
+            draws = np.asarray(runner.map(_bootstrap_task, tasks))
+        boot_p = float((1 + np.sum(draws >= z_bar)) / (reps + 1))
+        details.update({"reps": reps, "block_length": length, "bootstrap_pvalue": boot_p,
+                        "seed": seed if isinstance(seed, int) else "generator",
                         "bootstrap_critical_values": {str(a): float(np.quantile(draws, 1 - a))
                                                       for a in (0.01, 0.05, 0.10)}})
         statistic, pvalue = z_bar, boot_p
     crit = {a: float(stats.norm.isf(a)) for a in (0.01, 0.05, 0.10)}
     return TestResult(test="Dumitrescu-Hurlin", statistic=statistic, pvalue=pvalue,
-                      critical_values=crit, null=f"{x} does not Granger-cause {y} in any unit",
-                      alternative=f"{x} Granger-causes {y} in some units",
+                      critical_values=crit,
+                      null=f"{cause} does not Granger-cause {dependent} in any unit",
+                      alternative=f"{cause} Granger-causes {dependent} in some units",
                       nobs=block.n_units * nobs, details=details, reference="dumitrescuhurlin2012",
                       warnings=tuple(warnings))

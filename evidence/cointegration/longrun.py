@@ -25,16 +25,18 @@ import pandas as pd
 from arch.unitroot.cointegration import DynamicOLS, FullyModifiedOLS
 from scipy import stats
 
-from evidence._validation import check_choice
+from evidence._hac import long_run_cov, newey_west_lags
+from evidence._validation import check_choice, check_int, check_trend
 from evidence.cointegration import _ardl
 from evidence.cointegration._data import (
-    bartlett_bandwidth,
+    ARCH_TREND,
+    Block,
+    as_columns,
     batch_ols,
-    check_trend,
     deterministics,
     lag_matrix,
-    long_run_cov,
-    panel_block,
+    option_int,
+    relation_block,
 )
 from evidence.errors import SpecError
 from evidence.panel import Panel
@@ -43,12 +45,6 @@ from evidence.results import Estimate, TestResult
 __all__ = ["ESTIMATORS", "hausman_test", "long_run"]
 
 ESTIMATORS = ("dols", "fmols", "mg", "pmg")
-
-
-def _int(name: str, value: object, minimum: int) -> int:
-    if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value < minimum:
-        raise SpecError(f"{name}={value!r} must be an integer of at least {minimum}.")
-    return int(value)
 
 
 def _det(trend: str, n_units: int, n: int) -> np.ndarray:
@@ -69,11 +65,11 @@ def _pooled_dols(y: np.ndarray, x: np.ndarray, trend: str, lags: int, leads: int
     xx = np.einsum("nti,ntj->ij", x_t, x_t)
     beta = np.linalg.solve(xx, np.einsum("nti,nt->i", x_t, y_t))
     resid = y_t - np.einsum("ntk,k->nt", x_t, beta)
-    band = bartlett_bandwidth(resid.shape[1]) if bandwidth is None else bandwidth
+    band = newey_west_lags(resid.shape[1]) if bandwidth is None else bandwidth
     omega = long_run_cov(resid[:, :, None], band)[1][:, 0, 0]
     meat = np.einsum("n,nti,ntj->ij", omega, x_t, x_t)
     xx_inv = np.linalg.inv(xx)
-    return beta, xx_inv @ meat @ xx_inv, {"bandwidth": band, "nobs": resid.size}
+    return beta, xx_inv @ meat @ xx_inv, {"hac_lags": band, "nobs": resid.size}
 
 
 def _pooled_fmols(y: np.ndarray, x: np.ndarray, trend: str,
@@ -81,19 +77,19 @@ def _pooled_fmols(y: np.ndarray, x: np.ndarray, trend: str,
     n_units, n_years, k = x.shape
     d = _det(trend, n_units, n_years)
     _, u, _ = batch_ols(y, np.concatenate([d, x], axis=2))
-    if trend == "ct":  # differences of the detrended regressors (as arch's FullyModifiedOLS)
+    if trend == "trend":  # differences of the detrended regressors (as arch's FullyModifiedOLS)
         x_dt = np.stack([batch_ols(x[:, :, m], d)[1] for m in range(k)], axis=2)
         dx = np.diff(x_dt, axis=1)
     else:
         dx = np.diff(x, axis=1)
     wv = np.concatenate([u[:, 1:, None], dx], axis=2)  # not centred (as arch)
     n = wv.shape[1]
-    band = bartlett_bandwidth(n) if bandwidth is None else bandwidth
+    band = newey_west_lags(n) if bandwidth is None else bandwidth
     _, omega, delta = long_run_cov(wv, band)
     o_xx_inv = np.linalg.inv(omega[:, 1:, 1:])
     corr = np.einsum("nij,nj->ni", o_xx_inv, omega[:, 1:, 0])           # Ω_xx^-1 Ω_xu
     d_plus = delta[:, 1:, 0] - np.einsum("nij,nj->ni", delta[:, 1:, 1:], corr)
-    if trend == "n":
+    if trend == "none":
         y_t, x_t = y[:, 1:], x[:, 1:]
     else:
         dd = _det(trend, n_units, n_years)[:, 1:]
@@ -105,18 +101,20 @@ def _pooled_fmols(y: np.ndarray, x: np.ndarray, trend: str,
     omega_u = omega[:, 0, 0] - np.einsum("ni,ni->n", omega[:, 1:, 0], corr)
     meat = np.einsum("n,nti,ntj->ij", omega_u, x_t, x_t)
     xx_inv = np.linalg.inv(xx)
-    return beta, xx_inv @ meat @ xx_inv, {"bandwidth": band, "nobs": n_units * n}
+    return beta, xx_inv @ meat @ xx_inv, {"hac_lags": band, "nobs": n_units * n}
 
 
-def _group_mean(block, estimator: str, trend: str, lags: int, leads: int) -> tuple[np.ndarray, np.ndarray, dict]:
+def _group_mean(block: Block, estimator: str, trend: str, lags: int,
+                leads: int) -> tuple[np.ndarray, np.ndarray, dict]:
     betas, ses = [], []
     for i in range(block.n_units):
         yi = pd.Series(block.y[i])
         xi = pd.DataFrame(block.x[i], columns=list(block.regressors))
         if estimator == "dols":
-            res = DynamicOLS(yi, xi, trend=trend, lags=lags, leads=leads).fit(cov_type="kernel")
+            res = DynamicOLS(yi, xi, trend=ARCH_TREND[trend], lags=lags,
+                             leads=leads).fit(cov_type="kernel")
         else:
-            res = FullyModifiedOLS(yi, xi, trend=trend).fit()
+            res = FullyModifiedOLS(yi, xi, trend=ARCH_TREND[trend]).fit()
         betas.append(res.params[list(block.regressors)].to_numpy())
         ses.append(res.std_errors[list(block.regressors)].to_numpy())
     b, s = np.array(betas), np.array(ses)
@@ -129,14 +127,14 @@ def _group_mean(block, estimator: str, trend: str, lags: int, leads: int) -> tup
                                        for u, r in zip(block.units, b)}, "nobs": block.y.size}
 
 
-def _mean_group(block, lags: int) -> tuple[pd.Series, np.ndarray, dict]:
+def _mean_group(block: Block, lags: int) -> tuple[pd.Series, np.ndarray, dict]:
     arr = _ardl.ecm_arrays(block.y, block.x, lags, lags)
     unit = _ardl.unit_ecm(arr)
     names = list(block.regressors)
     short = _ardl.short_run_names(block.dependent, block.regressors, lags, lags)
     draws = np.column_stack([unit["theta"], unit["phi"], unit["short"]])
     n = draws.shape[0]
-    params = pd.Series(draws.mean(axis=0), index=names + ["ec"] + short)
+    params = pd.Series(draws.mean(axis=0), index=names + [_ardl.SPEED] + short)
     dev = draws - draws.mean(axis=0)
     cov = dev.T @ dev / (n * (n - 1))
     return params, cov, {"arrays": arr, "unit": unit}
@@ -179,10 +177,10 @@ def hausman_test(efficient: Estimate, consistent: Estimate) -> TestResult:
                       warnings=tuple(warnings))
 
 
-def long_run(panel: Panel, y: str, x: str | Sequence[str], *, estimator: str = "dols",
-             pooled: bool = True, trend: str = "c", lags: int = 1, leads: int = 1,
-             hac_lags: int | None = None) -> Estimate:
-    """Long-run coefficients of ``y`` on ``x`` in a cointegrated panel.
+def long_run(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
+             estimator: str = "dols", pooled: bool = True, trend: str = "constant", lags: int = 1,
+             leads: int = 1, hac_lags: int | None = None) -> Estimate:
+    """Long-run coefficients of ``dependent`` on ``regressors`` in a cointegrated panel.
 
     Parameters
     ----------
@@ -191,8 +189,9 @@ def long_run(panel: Panel, y: str, x: str | Sequence[str], *, estimator: str = "
     pooled : bool
         DOLS and FMOLS only: pooled (``True``; Kao & Chiang 2000) or group-mean (Pedroni 2001, unit
         estimates from arch).
-    trend : {"n", "c", "ct"}
-        Deterministic terms of each unit (DOLS/FMOLS); MG/PMG take "c" (unit intercepts) only.
+    trend : {"none", "constant", "trend"}
+        Deterministic terms of each unit (DOLS/FMOLS); MG/PMG take "constant" (unit intercepts)
+        only.
     lags, leads : int
         DOLS: lags and leads of ``Δx``. MG/PMG: the ARDL order ``p = q = lags`` (at least 1).
     hac_lags : int, optional
@@ -201,8 +200,9 @@ def long_run(panel: Panel, y: str, x: str | Sequence[str], *, estimator: str = "
     Returns
     -------
     Estimate
-        Long-run coefficients named after ``x``; for MG/PMG also ``ec`` (the mean speed of
-        adjustment ``φ``) and the mean short-run coefficients. For PMG, ``details`` carries the
+        Long-run coefficients named after the regressors; for MG/PMG also the
+        ``"error-correction speed"`` (the mean speed of adjustment ``φ``) and the mean short-run
+        coefficients (``"Δ x"``, ``"Δ x, lag 1"``, ..., ``"constant"``). For PMG, ``details`` carries the
         Hausman test against MG (``hausman_statistic``, ``hausman_pvalue``).
 
     Notes
@@ -212,7 +212,7 @@ def long_run(panel: Panel, y: str, x: str | Sequence[str], *, estimator: str = "
     ``(Σ x̃'x̃)^-1 (Σ_i ω_i² x̃_i'x̃_i) (Σ x̃'x̃)^-1`` with ``ω_i²`` the long-run variance of unit
     i's residuals. Pooled FMOLS: ``β = (Σ x̃'x̃)^-1 Σ_i (x̃_i'y_i⁺ - T Δ⁺_xu,i)`` with
     ``y⁺ = ỹ - Δx Ω_xx^-1 Ω_xu`` and ``Δ⁺_xu = Δ_xu - Δ_xx Ω_xx^-1 Ω_xu`` from each unit's
-    long-run covariances of (static residual, ``Δx``; not centred, with ``trend="ct"`` the
+    long-run covariances of (static residual, ``Δx``; not centred, with ``trend="trend"`` the
     differences of the detrended ``x``: with one unit this is arch's ``FullyModifiedOLS``);
     covariance as for DOLS with
     ``ω_u.x²``. Group mean: the average of unit estimates, variance ``Σ se_i² / N²`` (units
@@ -230,28 +230,28 @@ def long_run(panel: Panel, y: str, x: str | Sequence[str], *, estimator: str = "
     >>> panel = ev.demo_panel().with_log("ghg_territorial").with_log("gdp")
     >>> est = long_run(panel, "log_ghg_territorial", "log_gdp", estimator="pmg")
     >>> list(est.params.index), est.details["converged"]
-    (['log_gdp', 'ec', 'D.log_gdp.L0', 'const'], True)
+    (['log_gdp', 'error-correction speed', 'Δ log_gdp', 'constant'], True)
     """
     estimator = check_choice("estimator", estimator, ESTIMATORS)
     trend = check_trend(trend)
-    lags = _int("lags", lags, 1 if estimator in ("mg", "pmg") else 0)
-    leads = _int("leads", leads, 0)
-    cols = (x,) if isinstance(x, str) else tuple(x)
+    lags = option_int("lags", lags, 1 if estimator in ("mg", "pmg") else 0)
+    leads = option_int("leads", leads, 0)
+    hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
+    cols = as_columns(regressors)
     k = len(cols)
-    if estimator in ("mg", "pmg") and trend != "c":
+    if estimator in ("mg", "pmg") and trend != "constant":
         raise SpecError(f"trend={trend!r}: the {estimator.upper()} ARDL carries unit intercepts only; "
-                        f"use trend='c'.")
+                        f"use trend='constant'.")
     if estimator in ("dols", "fmols"):
         need = lags + leads + 2 + (2 + k * (lags + leads + 2) if estimator == "dols" else k + 6)
     else:
         need = lags + 2 + (2 + k) + lags * (k + 1) + 3
-    block = panel_block(panel, y, cols, min_years=need,
-                        purpose=f"long_run with estimator='{estimator}', lags={lags}, leads={leads}")
+    block = relation_block(panel, dependent, cols, min_years=need,
+                           purpose=f"long_run with estimator='{estimator}', lags={lags}, "
+                                   f"leads={leads}")
     label = {"dols": "DOLS", "fmols": "FMOLS", "mg": "mean group ARDL", "pmg": "pooled mean group ARDL"}
-    details: dict = {"trend": trend, "units": block.n_units,
-                     "years": f"{block.years[0]}:{block.years[-1]}",
-                     "excluded": block.excluded_frame().to_dict(orient="records"),
-                     "long_run": list(cols)}
+    details: dict = {"trend": trend, "units": block.n_units, "years": block.span,
+                     "excluded": block.excluded, "long_run": list(cols)}
     if estimator in ("dols", "fmols"):
         if pooled:
             if estimator == "dols":
@@ -267,16 +267,23 @@ def long_run(panel: Panel, y: str, x: str | Sequence[str], *, estimator: str = "
         if estimator == "dols":
             details.update({"lags": lags, "leads": leads})
         params = pd.Series(beta, index=list(cols))
-        return Estimate(estimator=name, dependent=y, params=params,
-                        std_errors=np.sqrt(np.diag(cov)), cov=cov, cov_type="long-run (Bartlett)",
+        if pooled:
+            cov_type = (f"long-run variance of each unit's errors, Bartlett kernel, "
+                        f"{details['hac_lags']} lags")
+        else:
+            cov_type = ("unit long-run standard errors (Bartlett kernel, arch's bandwidth) "
+                        "averaged over independent units")
+        return Estimate(estimator=name, dependent=dependent, params=params,
+                        std_errors=np.sqrt(np.diag(cov)), cov=cov, cov_type=cov_type,
                         nobs=nobs, details=details, reference=ref)
     params, cov, parts = _mean_group(block, lags)
     nobs = int(parts["arrays"]["dy"].size)
     details.update({"lags": lags, "unit_long_run": {u: dict(zip(cols, r.tolist()))
                                                       for u, r in zip(block.units, parts["unit"]["theta"])},
-                    "unit_ec": dict(zip(block.units, parts["unit"]["phi"].tolist()))})
-    mg = Estimate(estimator=label["mg"], dependent=y, params=params, std_errors=np.sqrt(np.diag(cov)),
-                  cov=cov, cov_type="mean group (dispersion of unit estimates)", nobs=nobs,
+                    "unit_speed": dict(zip(block.units, parts["unit"]["phi"].tolist()))})
+    mg = Estimate(estimator=label["mg"], dependent=dependent, params=params,
+                  std_errors=np.sqrt(np.diag(cov)), cov=cov,
+                  cov_type="dispersion of the unit estimates (mean group)", nobs=nobs,
                   df_resid=None, details=details, reference="pesaranshinsmith1999")
     if estimator == "mg":
         return mg
@@ -293,18 +300,20 @@ def long_run(panel: Panel, y: str, x: str | Sequence[str], *, estimator: str = "
     pmg_cov[:k, :k] = fit["cov_theta"]
     pmg_cov[k:, k:] = sr_cov
     pmg_details = dict(details)
-    pmg_details.update({"unit_ec": dict(zip(block.units, coef[:, 0].tolist())),
+    pmg_details.update({"unit_speed": dict(zip(block.units, coef[:, 0].tolist())),
                         "iterations": fit["iterations"], "converged": fit["converged"],
                         "loglik": fit["loglik"]})
     pmg_details.pop("unit_long_run")
     warnings = () if fit["converged"] else ("the PMG iterations did not converge",)
-    pmg = Estimate(estimator=label["pmg"], dependent=y, params=pmg_params,
+    pmg = Estimate(estimator=label["pmg"], dependent=dependent, params=pmg_params,
                    std_errors=np.sqrt(np.diag(pmg_cov)), cov=pmg_cov,
-                   cov_type="information matrix (long run); mean group (short run)", nobs=nobs,
+                   cov_type="information matrix (long run); dispersion of the unit estimates "
+                            "(short run)", nobs=nobs,
                    details=pmg_details, reference="pesaranshinsmith1999", warnings=warnings)
     test = hausman_test(pmg, mg)
     pmg_details.update({"hausman_statistic": test.statistic, "hausman_pvalue": test.pvalue,
                         "hausman_df": k})
-    return Estimate(estimator=pmg.estimator, dependent=y, params=pmg.params, std_errors=pmg.std_errors,
+    return Estimate(estimator=pmg.estimator, dependent=dependent, params=pmg.params,
+                    std_errors=pmg.std_errors,
                     cov=pmg.cov, cov_type=pmg.cov_type, nobs=nobs, details=pmg_details,
                     reference=pmg.reference, warnings=warnings + test.warnings)

@@ -1,7 +1,7 @@
 """Panel cointegration tests: Pedroni (1999, 2004), Kao (1999), Westerlund (2007).
 
-All three take a :class:`~evidence.panel.Panel`, the dependent column ``y`` and one or more
-regressor columns ``x``, used as given (take logs first with ``panel.with_log``). They run on the
+All three take a :class:`~evidence.panel.Panel`, the ``dependent`` column and one or more
+``regressors`` columns, used as given (take logs first with ``panel.with_log``). They run on the
 years every unit covers; what is left out is listed in ``result.excluded``.
 
 H0 for all three: no cointegration (no unit's residual is stationary / no unit error-corrects).
@@ -27,15 +27,18 @@ from collections.abc import Sequence
 import numpy as np
 from scipy import stats
 
-from evidence._typing import Seed
-from evidence.cointegration import _westerlund as _w
-from evidence.cointegration._data import (
-    bartlett_bandwidth,
+from evidence._hac import default_max_lags, newey_west_lags
+from evidence._typing import DEFAULT_SEED, Seed
+from evidence._validation import (
+    check_choice,
+    check_int,
     check_lags,
+    check_max_lags,
+    check_seed,
     check_trend,
-    default_max_lags,
-    panel_block,
 )
+from evidence.cointegration import _westerlund as _w
+from evidence.cointegration._data import as_columns, option_int, relation_block
 from evidence.cointegration._pedroni_tables import MOMENTS as PEDRONI_MOMENTS
 from evidence.cointegration._residual_math import (
     kao_raw,
@@ -48,7 +51,7 @@ from evidence.cointegration._result import KaoResult, PedroniResult, WesterlundR
 from evidence.cointegration._westerlund_tables import MOMENTS as WESTERLUND_MOMENTS
 from evidence.errors import SpecError
 from evidence.panel import Panel
-from evidence.parallel import run_tasks, task_seeds
+from evidence.parallel import ExecutorLike, task_seeds, using_executor
 from evidence.results import TestResult
 
 __all__ = ["PEDRONI_STATISTICS", "kao_test", "pedroni_test", "westerlund_test"]
@@ -69,24 +72,26 @@ def _right(z: float) -> tuple[float, dict[float, float]]:
     return float(stats.norm.sf(z)), {a: -v for a, v in _Z.items()}
 
 
-def _max_lags(max_lags: int | None, n_years: int) -> int:
-    if max_lags is None:
-        return default_max_lags(n_years)
-    if isinstance(max_lags, bool) or not isinstance(max_lags, int) or max_lags < 0:
-        raise SpecError(f"max_lags={max_lags!r} must be an integer of at least 0.")
-    return max_lags
+#: Ways of computing a p-value: the published asymptotic moments, or a bootstrap under H0.
+INFERENCES = ("asymptotic", "bootstrap")
+
+
+def _max_lags(max_lags: int | None, n_years: int, parameter: str = "max_lags") -> int:
+    checked = check_max_lags(max_lags, parameter)
+    return default_max_lags(n_years) if checked is None else checked
 
 
 def _bandwidth(hac_lags: int | None, nobs: int) -> int:
-    if hac_lags is None:
-        return bartlett_bandwidth(nobs)
-    if isinstance(hac_lags, bool) or not isinstance(hac_lags, int) or hac_lags < 0:
-        raise SpecError(f"hac_lags={hac_lags!r} must be an integer of at least 0.")
-    return hac_lags
+    checked = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
+    return newey_west_lags(nobs) if checked is None else checked
 
 
-def pedroni_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "c",
-                 lags: int | str = "aic", max_lags: int | None = None,
+def _probe_years(panel: Panel) -> int:
+    return len(panel.years) if isinstance(panel, Panel) else 0
+
+
+def pedroni_test(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
+                 trend: str = "constant", lags: int | str = "aic", max_lags: int | None = None,
                  hac_lags: int | None = None) -> PedroniResult:
     """Pedroni's seven residual-based panel cointegration statistics.
 
@@ -95,9 +100,9 @@ def pedroni_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "
 
     Parameters
     ----------
-    panel, y, x
+    panel, dependent, regressors
         The panel, the dependent column and the regressor column(s), used as given.
-    trend : {"c", "ct"}
+    trend : {"constant", "trend"}
         Unit intercepts, or intercepts and linear trends, in the cointegrating regression.
     lags : int or {"aic", "bic"}
         Lag order of the ADF regressions, or the criterion choosing each unit's order.
@@ -145,16 +150,16 @@ def pedroni_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "
     (7, 'left', 'right')
     """
     trend = check_trend(trend)
-    if trend == "n":
-        raise SpecError("trend='n' has no published Pedroni adjustment terms; use 'c' or 'ct'.")
-    lags = check_lags(lags)
-    cols = (x,) if isinstance(x, str) else tuple(x)
+    if trend == "none":
+        raise SpecError("trend='none' has no published Pedroni adjustment terms; use 'constant' "
+                        "or 'trend'.")
+    lags = check_lags(lags, rules=("aic", "bic"))
+    cols = as_columns(regressors)
     if not 1 <= len(cols) <= 7:
         raise SpecError(f"pedroni_test has adjustment terms for 1 to 7 regressors; got {len(cols)}.")
-    probe = len(panel.years) if isinstance(panel, Panel) else 0
-    max_l = _max_lags(max_lags, probe) if lags in ("aic", "bic") else int(lags)
-    block = panel_block(panel, y, cols, min_years=max(10, max_l + len(cols) + 8),
-                        purpose=f"pedroni_test with lags up to {max_l}")
+    max_l = _max_lags(max_lags, _probe_years(panel)) if lags in ("aic", "bic") else int(lags)
+    block = relation_block(panel, dependent, cols, min_years=max(10, max_l + len(cols) + 8),
+                           purpose=f"pedroni_test with lags up to {max_l}")
     n_units, n_years = block.y.shape
     if lags in ("aic", "bic"):
         adf_lags = select_adf_lags(static_residuals(block.y, block.x, trend)[0], max_l, str(lags))
@@ -181,21 +186,21 @@ def pedroni_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "
             alternative=alt, nobs=n_units * n_years,
             details={"statistic": name, "unstandardised": float(raw[name]), "mu": mu[c],
                      "v": var[c], "trend": trend, "regressors": len(cols), "units": n_units,
-                     "years": f"{block.years[0]}:{block.years[-1]}", "bandwidth": band,
+                     "years": block.span, "hac_lags": band,
                      "adf_lags": "fixed" if isinstance(lags, int) else str(lags),
                      "mean_adf_lags": float(np.mean(adf_lags)),
                      "tail": "right" if name == "panel v" else "left"},
             reference="pedroni1999; pedroni2004", warnings=tuple(warnings)))
     return PedroniResult(test="Pedroni", results=tuple(results),
-                         details={"trend": trend, "bandwidth": band,
+                         details={"trend": trend, "hac_lags": band,
                                   "adf_lags": dict(zip(block.units, adf_lags.tolist())),
-                                  "units": n_units, "years": f"{block.years[0]}:{block.years[-1]}"},
-                         excluded=block.excluded_frame(), reference="pedroni1999; pedroni2004",
+                                  "units": n_units, "years": block.span},
+                         excluded=block.excluded, reference="pedroni1999; pedroni2004",
                          warnings=tuple(warnings))
 
 
-def kao_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "c",
-             lags: int | str = "aic", max_lags: int | None = None,
+def kao_test(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
+             trend: str = "constant", lags: int | str = "aic", max_lags: int | None = None,
              hac_lags: int | None = None) -> KaoResult:
     """Kao's residual-based DF and ADF panel cointegration tests (homogeneous slopes).
 
@@ -203,9 +208,9 @@ def kao_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "c",
 
     Parameters
     ----------
-    panel, y, x
+    panel, dependent, regressors
         The panel, the dependent column and the regressor column(s), used as given.
-    trend : {"c"}
+    trend : {"constant"}
         Unit intercepts (the only case of Kao 1999).
     lags : int or {"aic", "bic"}
         Lag order of the pooled ADF regression, or the criterion choosing it.
@@ -235,15 +240,14 @@ def kao_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "c",
     kao1999 (see the module docstring).
     """
     trend = check_trend(trend)
-    if trend != "c":
+    if trend != "constant":
         raise SpecError(f"trend={trend!r}: Kao's test is defined with unit intercepts only; "
-                        f"use trend='c'.")
-    lags = check_lags(lags)
-    cols = (x,) if isinstance(x, str) else tuple(x)
-    probe = len(panel.years) if isinstance(panel, Panel) else 0
-    max_l = _max_lags(max_lags, probe) if lags in ("aic", "bic") else int(lags)
-    block = panel_block(panel, y, cols, min_years=max(8, max_l + 6),
-                        purpose=f"kao_test with lags up to {max_l}")
+                        f"use trend='constant'.")
+    lags = check_lags(lags, rules=("aic", "bic"))
+    cols = as_columns(regressors)
+    max_l = _max_lags(max_lags, _probe_years(panel)) if lags in ("aic", "bic") else int(lags)
+    block = relation_block(panel, dependent, cols, min_years=max(8, max_l + 6),
+                           purpose=f"kao_test with lags up to {max_l}")
     n_units, n_years = block.y.shape
     p = kao_select_lags(block.y, block.x, max_l, str(lags)) if isinstance(lags, str) else lags
     band = _bandwidth(hac_lags, n_years - 1)
@@ -267,19 +271,21 @@ def kao_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "c",
             alternative="the pooled residuals are stationary", nobs=n_units * n_years,
             details={"statistic": name, "rho": raw["rho"], "t_rho": raw["t_df"],
                      "t_adf": raw["t_adf"], "adf_lags": int(p), "sigma_v2": sv2,
-                     "sigma_0v2": s0v2, "bandwidth": band, "units": n_units,
-                     "years": f"{block.years[0]}:{block.years[-1]}"},
+                     "sigma_0v2": s0v2, "hac_lags": band, "units": n_units,
+                     "years": block.span},
             reference="kao1999"))
     return KaoResult(test="Kao", results=tuple(results),
-                     details={"trend": trend, "adf_lags": int(p), "bandwidth": band,
+                     details={"trend": trend, "adf_lags": int(p), "hac_lags": band,
                               "slopes": dict(zip(cols, np.atleast_1d(raw["beta"]).tolist()))},
-                     excluded=block.excluded_frame(), reference="kao1999")
+                     excluded=block.excluded, reference="kao1999")
 
 
-def westerlund_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str = "c",
-                    lags: int | str = 1, leads: int | str = 0, max_lags: int | None = None,
-                    max_leads: int | None = None, bootstrap: int = 0, block_length: int | None = None,
-                    seed: Seed = None, backend: str = "serial") -> WesterlundResult:
+def westerlund_test(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
+                    trend: str = "constant", lags: int | str = 1, leads: int | str = 0,
+                    max_lags: int | None = None, max_leads: int | None = None,
+                    inference: str | None = None, reps: int = 499,
+                    block_length: int | None = None, seed: Seed = DEFAULT_SEED,
+                    executor: ExecutorLike = "serial") -> WesterlundResult:
     """Westerlund's error-correction panel cointegration tests Gt, Ga, Pt and Pa.
 
     H0: no unit error-corrects (``alpha_i = 0`` for all i). H1 of Gt, Ga: some units error-correct;
@@ -287,21 +293,23 @@ def westerlund_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str 
 
     Parameters
     ----------
-    panel, y, x
+    panel, dependent, regressors
         The panel, the dependent column and the regressor column(s) (1 to 6), used as given.
-    trend : {"n", "c", "ct"}
+    trend : {"none", "constant", "trend"}
         Deterministic terms of each unit's error-correction regression.
     lags, leads : int or "aic"
         Orders of the lagged ``Δy``, ``Δx`` and of the leads of ``Δx``; "aic" chooses each unit's
         order up to ``max_lags`` / ``max_leads`` (defaults ``floor(4 (T/100)^(1/4))`` and 1).
-    bootstrap : int
-        Replications of the bootstrap under cross-sectional dependence (0: asymptotic p-values
-        only). The bootstrap p-value then becomes ``pvalue``; the asymptotic one stays in details.
+    inference : {"asymptotic", "bootstrap"}, optional
+        p-values from the published asymptotic moments (the default), or from a bootstrap under
+        H0 (``reps`` replications); the asymptotic p-value always stays in ``details``.
+    reps : int
+        Bootstrap replications.
     block_length : int, optional
         Length of the (circular) blocks of periods resampled; default 1 (the fitted short-run
         dynamics carry the serial correlation).
-    seed, backend
-        Seed of the bootstrap and the executor that runs it (``evidence.parallel``).
+    seed, executor
+        Seed of the bootstrap and the executor that runs it (:mod:`evidence.parallel`).
 
     Notes
     -----
@@ -323,20 +331,23 @@ def westerlund_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str 
     westerlund2007 (see the module docstring).
     """
     trend = check_trend(trend)
-    lags = check_lags(lags, methods=("aic",))
-    leads = check_lags(leads, name="leads", methods=("aic",))
-    cols = (x,) if isinstance(x, str) else tuple(x)
+    lags = check_lags(lags, rules=("aic",))
+    leads = check_lags(leads, parameter="leads", rules=("aic",))
+    inference = check_choice("inference", inference or "asymptotic", INFERENCES)
+    reps = option_int("reps", reps, 1)
+    length = option_int("block_length", block_length, 1, default=1)
+    seed = check_seed(seed)
+    cols = as_columns(regressors)
     if not 1 <= len(cols) <= 6:
         raise SpecError(f"westerlund_test has moments for 1 to 6 regressors; got {len(cols)}.")
-    if isinstance(bootstrap, bool) or not isinstance(bootstrap, int) or bootstrap < 0:
-        raise SpecError(f"bootstrap={bootstrap!r} must be an integer of at least 0 (replications).")
-    probe = len(panel.years) if isinstance(panel, Panel) else 0
+    probe = _probe_years(panel)
     max_p = _max_lags(max_lags, probe) if lags == "aic" else int(lags)
-    max_q = (1 if max_leads is None else _max_lags(max_leads, probe)) if leads == "aic" else int(leads)
+    max_q = ((1 if max_leads is None else _max_lags(max_leads, probe, "max_leads"))
+             if leads == "aic" else int(leads))
     n_par = 2 + 2 * len(cols) + max_p + len(cols) * (max_p + max_q + 1)
-    block = panel_block(panel, y, cols, min_years=n_par + max_p + max_q + 6,
-                        purpose=f"westerlund_test with {max_p} lags and {max_q} leads")
-    n_units, _n_years = block.y.shape
+    block = relation_block(panel, dependent, cols, min_years=n_par + max_p + max_q + 6,
+                           purpose=f"westerlund_test with {max_p} lags and {max_q} leads")
+    n_units = block.n_units
     p_i, q_i = _w.select_orders(block.y, block.x, lags, leads, max_lags=max_p, max_leads=max_q,
                                 trend=trend)
     raw = _w.westerlund_raw(block.y, block.x, p_i, q_i, trend)
@@ -350,25 +361,26 @@ def westerlund_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str 
             z_stats[name] = math.sqrt(n_units) * (raw[name] - mean) / math.sqrt(var)
     boot_p: dict[str, float] = {}
     details_boot: dict[str, object] = {}
-    if bootstrap:
-        length = block_length or 1
+    if inference == "bootstrap":
         null = _w.null_model(block.y, block.x, p_i, q_i, trend)
         tasks = [{"seed": s, "y": block.y, "x": block.x, "p": p_i, "q": q_i, "trend": trend,
-                  "null": null, "block": length} for s in task_seeds(seed, bootstrap)]
-        draws = np.asarray(run_tasks(_w.bootstrap_task, tasks, backend=backend))
+                  "null": null, "block": length} for s in task_seeds(seed, reps)]
+        with using_executor(executor) as runner:
+            draws = np.asarray(runner.map(_w.bootstrap_task, tasks))
         for j, name in enumerate(("Gt", "Ga", "Pt", "Pa")):
-            boot_p[name] = float((1 + np.sum(draws[:, j] <= raw[name])) / (bootstrap + 1))
-        details_boot = {"bootstrap": bootstrap, "block_length": length,
-                        "seed": seed if isinstance(seed, int) else None}
+            boot_p[name] = float((1 + np.sum(draws[:, j] <= raw[name])) / (reps + 1))
+        details_boot = {"reps": reps, "block_length": length,
+                        "seed": seed if isinstance(seed, int) else "generator"}
     alternatives = {"Gt": "some units error-correct", "Ga": "some units error-correct",
                     "Pt": "the panel error-corrects", "Pa": "the panel error-corrects"}
     results = []
     for name, z in z_stats.items():
         asym, cv = _left(z)
         details = {"statistic": name, "unstandardised": raw[name], "asymptotic_pvalue": asym,
-                   "trend": trend, "mean_lags": float(np.mean(p_i)), "mean_leads": float(np.mean(q_i)),
-                   "units": n_units, "years": f"{block.years[0]}:{block.years[-1]}", **details_boot}
-        if bootstrap:
+                   "inference": inference, "trend": trend, "mean_lags": float(np.mean(p_i)),
+                   "mean_leads": float(np.mean(q_i)), "units": n_units, "years": block.span,
+                   **details_boot}
+        if inference == "bootstrap":
             details["bootstrap_pvalue"] = boot_p[name]
         results.append(TestResult(
             test=f"Westerlund {name}", statistic=z, pvalue=boot_p.get(name, asym),
@@ -380,5 +392,5 @@ def westerlund_test(panel: Panel, y: str, x: str | Sequence[str], *, trend: str 
         details={"trend": trend, "lags": dict(zip(block.units, p_i.tolist())),
                  "leads": dict(zip(block.units, q_i.tolist())),
                  "alpha": dict(zip(block.units, raw["alpha"].tolist())), **details_boot,
-                 "pvalue": "bootstrap" if bootstrap else "asymptotic"},
-        excluded=block.excluded_frame(), reference="westerlund2007")
+                 "inference": inference},
+        excluded=block.excluded, reference="westerlund2007")

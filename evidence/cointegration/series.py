@@ -38,8 +38,8 @@ from arch.unitroot.cointegration import (
 from statsmodels.tsa.ardl import UECM, ardl_select_order
 from statsmodels.tsa.vector_ar.vecm import coint_johansen
 
-from evidence._validation import check_choice
-from evidence.cointegration._data import check_lags, check_trend
+from evidence._validation import check_choice, check_int, check_lags, check_max_lags, check_trend
+from evidence.cointegration._data import ARCH_TREND, option_int
 from evidence.cointegration._result import JohansenResult
 from evidence.errors import DataError, SpecError
 from evidence.results import Estimate, TestResult
@@ -95,7 +95,7 @@ def _cv(values: pd.Series) -> dict[float, float]:
     return {float(k) / 100: float(v) for k, v in values.items() if float(k) in (1, 5, 10)}
 
 
-def engle_granger_test(y: Any, x: Any, *, trend: str = "c", lags: int | str = "aic",
+def engle_granger_test(y: Any, x: Any, *, trend: str = "constant", lags: int | str = "aic",
                        max_lags: int | None = None) -> TestResult:
     """Engle–Granger residual ADF test (arch ``engle_granger``).
 
@@ -105,7 +105,8 @@ def engle_granger_test(y: Any, x: Any, *, trend: str = "c", lags: int | str = "a
     -----
     OLS ``y_t = d_t'δ + β'x_t + e_t``, then the ADF t-ratio of ``e_t``; p-values and critical values
     from MacKinnon's response surfaces as computed by arch. ``lags`` an int fixes the ADF lag order;
-    "aic"/"bic" select it up to ``max_lags``.
+    "aic"/"bic" select it up to ``max_lags``, "sequential-t" drops the last lag while its t-ratio
+    is insignificant (arch's "t-stat").
 
     References
     ----------
@@ -114,12 +115,12 @@ def engle_granger_test(y: Any, x: Any, *, trend: str = "c", lags: int | str = "a
     trend = check_trend(trend)
     lags = check_lags(lags)
     ys, xs = _inputs(y, x, min_obs=xs_min(x) + 8, purpose="engle_granger_test")
-    kw: dict[str, Any] = {"max_lags": max_lags}
+    kw: dict[str, Any] = {"max_lags": check_max_lags(max_lags)}
     if isinstance(lags, str):
-        kw["method"] = lags
+        kw["method"] = "t-stat" if lags == "sequential-t" else lags
     else:
         kw["lags"] = lags
-    res = engle_granger(ys, xs, trend=trend, **kw)
+    res = engle_granger(ys, xs, trend=ARCH_TREND[trend], **kw)  # type: ignore[arg-type]
     return TestResult(test="Engle-Granger", statistic=res.stat, pvalue=res.pvalue,
                       critical_values=_cv(res.critical_values), null=_NULL, alternative=_ALT,
                       nobs=len(ys), details={"trend": trend, "lags": int(res.lags),
@@ -134,7 +135,7 @@ def xs_min(x: Any) -> int:
     return 1 if arr.ndim == 1 else int(arr.shape[1])
 
 
-def phillips_ouliaris_test(y: Any, x: Any, *, trend: str = "c", variant: str = "Zt",
+def phillips_ouliaris_test(y: Any, x: Any, *, trend: str = "constant", variant: str = "Zt",
                            hac_lags: int | None = None) -> TestResult:
     """Phillips–Ouliaris residual test (arch ``phillips_ouliaris``), ``variant`` Zt, Za, Pu or Pz.
 
@@ -152,20 +153,22 @@ def phillips_ouliaris_test(y: Any, x: Any, *, trend: str = "c", variant: str = "
     """
     trend = check_trend(trend)
     variant = check_choice("variant", variant, ("Zt", "Za", "Pu", "Pz"))
+    hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
     ys, xs = _inputs(y, x, min_obs=xs_min(x) + 8, purpose="phillips_ouliaris_test")
-    res = phillips_ouliaris(ys, xs, trend=trend, test_type=variant, bandwidth=hac_lags)
+    res = phillips_ouliaris(ys, xs, trend=ARCH_TREND[trend],  # type: ignore[arg-type]
+                            test_type=variant, bandwidth=hac_lags)
     return TestResult(test=f"Phillips-Ouliaris {variant}", statistic=res.stat, pvalue=res.pvalue,
                       critical_values=_cv(res.critical_values), null=_NULL, alternative=_ALT,
-                      nobs=len(ys), details={"trend": trend, "bandwidth": float(res.bandwidth),
+                      nobs=len(ys), details={"trend": trend, "hac_lags": float(res.bandwidth),
                                              "kernel": str(res.kernel)},
                       reference="phillipsouliaris1990")
 
 
-_JOHANSEN_DET = {"n": -1, "c": 0, "ct": 1}
+_JOHANSEN_DET = {"none": -1, "constant": 0, "trend": 1}
 _NO_PVALUE = "p-value not available; compare with the critical values"
 
 
-def johansen_test(y: Any, x: Any, *, trend: str = "c", lags: int = 1) -> JohansenResult:
+def johansen_test(y: Any, x: Any, *, trend: str = "constant", lags: int = 1) -> JohansenResult:
     """Johansen trace and maximum-eigenvalue tests (statsmodels ``coint_johansen``).
 
     H0 of the row for rank r: at most r cointegrating vectors (trace) / exactly r against r + 1
@@ -174,7 +177,7 @@ def johansen_test(y: Any, x: Any, *, trend: str = "c", lags: int = 1) -> Johanse
     Notes
     -----
     VECM of ``z_t = (y_t, x_t')'`` with ``lags`` lagged differences; ``trend`` maps to statsmodels
-    ``det_order`` ("n" → -1, "c" → 0, "ct" → 1). Critical values are Osterwald-Lenum's (1992) as
+    ``det_order`` ("none" → -1, "constant" → 0, "trend" → 1). Critical values are Osterwald-Lenum's (1992) as
     shipped by statsmodels, which gives no p-values: ``pvalue`` is NaN and the decision is read
     from the critical values.
 
@@ -183,7 +186,7 @@ def johansen_test(y: Any, x: Any, *, trend: str = "c", lags: int = 1) -> Johanse
     johansen1991 (see the module docstring).
     """
     trend = check_trend(trend)
-    lags = check_lags(lags, methods=())
+    lags = option_int("lags", lags, 0)
     ys, xs = _inputs(y, x, min_obs=(1 + xs_min(x)) * (lags + 2) + 8, purpose="johansen_test")
     data = np.column_stack([ys.to_numpy(), xs.to_numpy()])
     res = coint_johansen(data, _JOHANSEN_DET[trend], lags)
@@ -205,10 +208,10 @@ def johansen_test(y: Any, x: Any, *, trend: str = "c", lags: int = 1) -> Johanse
                           reference="johansen1991")
 
 
-_CASES = {"n": 1, "c": 3, "ct": 5}
+_CASES = {"none": 1, "constant": 3, "trend": 5}
 
 
-def ardl_bounds_test(y: Any, x: Any, *, trend: str = "c", lags: int | str = "aic",
+def ardl_bounds_test(y: Any, x: Any, *, trend: str = "constant", lags: int | str = "aic",
                      max_lags: int | None = None, case: int | None = None) -> TestResult:
     """Pesaran–Shin–Smith ARDL bounds F-test (statsmodels ``UECM.bounds_test``).
 
@@ -220,7 +223,8 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "c", lags: int | str = "aic
     ``Δy_t = c + π_y y_t-1 + π_x'x_t-1 + Σ ψ_j Δy_t-j + Σ φ_j'Δx_t-j + e_t``; the statistic is the
     Wald F of ``π_y = π_x = 0``. ``pvalue`` and ``critical_values`` are those of the upper (I(1))
     bound, so a rejection holds whatever the order of integration of x; the lower-bound values are
-    in ``details``. ``case`` (1–5, PSS numbering) defaults to 1, 3, 5 for trend "n", "c", "ct".
+    in ``details``. ``case`` (1–5, PSS numbering) defaults to 1, 3, 5 for trend "none",
+    "constant", "trend".
     ``lags`` is the order of y and of each x; "aic"/"bic" choose them (statsmodels
     ``ardl_select_order``) up to ``max_lags`` (default 4).
 
@@ -229,12 +233,13 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "c", lags: int | str = "aic
     pesaranshinsmith2001 (see the module docstring).
     """
     trend = check_trend(trend)
-    lags = check_lags(lags)
+    lags = check_lags(lags, rules=("aic", "bic"))
     if case is None:
         case = _CASES[trend]
-    if case not in (1, 2, 3, 4, 5):
+    if case not in (1, 2, 3, 4, 5) or isinstance(case, bool):
         raise SpecError(f"case={case!r} must be one of 1, 2, 3, 4, 5 (PSS 2001 numbering).")
-    max_l = 4 if max_lags is None else int(max_lags)
+    checked = check_max_lags(max_lags)
+    max_l = 4 if checked is None else checked
     order_max = max_l if isinstance(lags, str) else lags
     ys, xs = _inputs(y, x, min_obs=(order_max + 1) * (xs_min(x) + 1) + 8, purpose="ardl_bounds_test")
     if lags == 0:
@@ -265,7 +270,7 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "c", lags: int | str = "aic
 _ESTIMATORS = ("dols", "fmols", "ccr")
 
 
-def cointegrating_regression(y: Any, x: Any, *, estimator: str = "dols", trend: str = "c",
+def cointegrating_regression(y: Any, x: Any, *, estimator: str = "dols", trend: str = "constant",
                              lags: int | str = "bic", leads: int | str = "bic",
                              max_lags: int | None = None) -> Estimate:
     """Long-run coefficients of one series by DOLS, FMOLS or CCR (arch), as an :class:`Estimate`.
@@ -284,25 +289,29 @@ def cointegrating_regression(y: Any, x: Any, *, estimator: str = "dols", trend: 
     """
     estimator = check_choice("estimator", estimator, _ESTIMATORS)
     trend = check_trend(trend)
-    lags = check_lags(lags, methods=("aic", "bic"))
-    leads = check_lags(leads, name="leads", methods=("aic", "bic"))
+    lags = check_lags(lags, rules=("aic", "bic"))
+    leads = check_lags(leads, parameter="leads", rules=("aic", "bic"))
+    max_lags = check_max_lags(max_lags)
     ys, xs = _inputs(y, x, min_obs=xs_min(x) * 3 + 10, purpose="cointegrating_regression")
     if estimator == "dols":
         method = lags if isinstance(lags, str) else (leads if isinstance(leads, str) else "bic")
-        model = DynamicOLS(ys, xs, trend=trend, lags=None if isinstance(lags, str) else lags,
+        model = DynamicOLS(ys, xs, trend=ARCH_TREND[trend],  # type: ignore[arg-type]
+                           lags=None if isinstance(lags, str) else lags,
                            leads=None if isinstance(leads, str) else leads, max_lag=max_lags,
                            max_lead=max_lags, method=method)
         res = model.fit(cov_type="kernel")
-        details = {"lags": int(res.lags), "leads": int(res.leads), "bandwidth": float(res.bandwidth)}
+        details = {"lags": int(res.lags), "leads": int(res.leads), "hac_lags": float(res.bandwidth)}
         label = "DOLS"
     else:
         cls = FullyModifiedOLS if estimator == "fmols" else CanonicalCointegratingReg
-        res = cls(ys, xs, trend=trend).fit()
-        details = {"bandwidth": float(res.bandwidth), "kernel": str(res.kernel)}
+        res = cls(ys, xs, trend=ARCH_TREND[trend]).fit()  # type: ignore[arg-type]
+        details = {"hac_lags": float(res.bandwidth), "kernel": str(res.kernel)}
         label = estimator.upper()
     details["trend"] = trend
     return Estimate(estimator=label, dependent=str(ys.name), params=res.params,
-                    std_errors=res.std_errors, cov=res.cov, cov_type="Bartlett long-run (arch)",
+                    std_errors=res.std_errors, cov=res.cov,
+                    cov_type=f"long-run variance, Bartlett kernel, bandwidth {float(res.bandwidth):g} "
+                             "(arch)",
                     nobs=len(ys), details=details,
                     reference={"dols": "stockwatson1993", "fmols": "phillipshansen1990",
                                "ccr": "park1992"}[estimator])

@@ -20,11 +20,11 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from evidence._json import json_safe
-from evidence._typing import Window
+from evidence._typing import Trend, Window
 from evidence._validation import check_window
 from evidence.errors import DataError
 from evidence.panel import Panel
+from evidence.results import ResultProtocol, excluded_frame
 
 __all__ = ["StochasticResult", "stochastic_convergence", "relative_series"]
 
@@ -58,14 +58,19 @@ def relative_series(panel: Panel, column: str, *, window: Window | str | None = 
     return Panel(frame, audit=panel.audit, meta=panel.meta)
 
 
-@dataclass(frozen=True, eq=False)
-class StochasticResult:
-    """Per-unit verdicts (``table``) and the underlying unit-root battery (``battery``)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class StochasticResult(ResultProtocol):
+    """Per-unit verdicts (``table``), the underlying unit-root battery (``battery``) and what was
+    left out (``excluded``: unit, column, years, reason)."""
 
     table: pd.DataFrame
     battery: Any
     column: str
     details: dict[str, Any] = field(default_factory=dict)
+    excluded: pd.DataFrame = field(default_factory=excluded_frame)
+    warnings: tuple[str, ...] = ()
+
+    _repr_fields = ("column",)
 
     def to_frame(self) -> pd.DataFrame:
         """The verdict table (a copy)."""
@@ -74,25 +79,24 @@ class StochasticResult:
     def summary(self) -> str:
         """Counts of verdicts."""
         counts = self.table["verdict"].value_counts()
-        return (f"Stochastic convergence of {self.column}: "
-                + ", ".join(f"{k} {int(v)}" for k, v in counts.items()))
-
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-safe contents."""
-        return json_safe({"table": self.table, "battery": self.battery.to_dict(),
-                          "column": self.column, "details": self.details})
+        lines = [f"Stochastic convergence of {self.column}: "
+                 + ", ".join(f"{k} {int(v)}" for k, v in counts.items())]
+        lines += [f"  left out: {r.unit} {r.column} {r.years} ({r.reason})"
+                  for r in self.excluded.itertuples()]
+        lines += [f"  warning: {w}" for w in self.warnings]
+        return "\n".join(lines)
 
 
 def stochastic_convergence(panel: Panel, column: str, *, tests: Sequence[str] = ("adf", "kpss"),
-                           panel_tests: Sequence[str] = ("ips", "cips"), trend: str = "c",
+                           panel_tests: Sequence[str] = ("ips", "cips"), trend: Trend = "constant",
                            alpha: float = 0.05,
                            window: Window | str | None = None) -> StochasticResult:
     """Unit-root and stationarity tests on each unit's log relative series, and verdicts.
 
     Stochastic convergence (Carlino & Mills 1993; Bernard & Durlauf 1995) holds for a unit when
     shocks to its relative position ``ln(y_it / ȳ_t)`` die out: the relative series is
-    stationary (``trend="c"``; with ``"ct"`` it may converge along a deterministic trend — "catching
-    up"). The tests and the decision rule are those of :func:`evidence.roots.root_battery` on the
+    stationary (``trend="constant"``; with ``"trend"`` it may converge along a deterministic
+    trend — "catching up"). The tests and the decision rule are those of :func:`evidence.roots.root_battery` on the
     relative series (levels only): ``I(0)`` → converging, non-stationary → not converging,
     otherwise inconclusive. Add ``"za"`` or ``"ls"`` to ``tests`` for versions that allow
     structural breaks (Zivot–Andrews; Lee–Strazicich, as in Strazicich, Lee & Day 2004), and
@@ -109,4 +113,5 @@ def stochastic_convergence(panel: Panel, column: str, *, tests: Sequence[str] = 
     return StochasticResult(table=decisions, battery=battery, column=column,
                             details={"relative_to": "cross-section mean each year", "trend": trend,
                                      "alpha": alpha, "tests": list(tests),
-                                     "panel_tests": list(panel_tests)})
+                                     "panel_tests": list(panel_tests)},
+                            excluded=battery.excluded, warnings=battery.warnings)

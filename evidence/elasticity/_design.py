@@ -11,7 +11,8 @@ import pandas as pd
 from evidence._typing import Window
 from evidence._validation import check_window, format_years
 from evidence.errors import DataError
-from evidence.panel import Panel, check_positive
+from evidence.panel import Panel, check_positive, derived_name
+from evidence.results import excluded_frame
 
 __all__ = ["Design", "build_design", "unit_blocks"]
 
@@ -24,7 +25,7 @@ class Design:
     x: pd.DataFrame
     dependent: str
     regressors: tuple[str, ...]
-    excluded: pd.DataFrame  # unit, years, reason
+    excluded: pd.DataFrame  # unit, column, years, reason (evidence.results.EXCLUDED_COLUMNS)
 
     @property
     def units(self) -> tuple[str, ...]:
@@ -32,7 +33,7 @@ class Design:
 
 
 def _log_name(column: str, log: bool) -> str:
-    return f"log_{column}" if log else column
+    return derived_name("log", column) if log else column
 
 
 def build_design(panel: Panel, pressure: str, activity: str, *, controls: Sequence[str] = (),
@@ -65,7 +66,8 @@ def build_design(panel: Panel, pressure: str, activity: str, *, controls: Sequen
     if missing.any():
         for unit, rows in frame.loc[missing].groupby(level=0):
             years = rows.index.get_level_values(1)
-            excluded.append({"unit": unit, "years": format_years(years),
+            lacking = ", ".join(str(c) for c in rows.columns[rows.isna().any().to_numpy()])
+            excluded.append({"unit": unit, "column": lacking, "years": format_years(years),
                              "reason": "missing value in a model variable"})
         frame = frame.loc[~missing]
     need = (len(regressors) + 2) if min_obs is None else min_obs
@@ -78,7 +80,8 @@ def build_design(panel: Panel, pressure: str, activity: str, *, controls: Sequen
                         "pass drop_short=True to exclude it (it will be listed in the result).")
     for unit, count in short.items():
         years = frame.loc[unit].index
-        excluded.append({"unit": unit, "years": format_years(years),
+        excluded.append({"unit": unit, "column": ", ".join((dependent, *regressors)),
+                         "years": format_years(years),
                          "reason": f"unit excluded: {count} usable years, at least {need} needed"})
     if len(short):
         frame = frame.loc[~frame.index.get_level_values(0).isin(short.index)]
@@ -88,7 +91,7 @@ def build_design(panel: Panel, pressure: str, activity: str, *, controls: Sequen
     _check_variation(frame, regressors)
     return Design(y=frame[dependent], x=frame[list(regressors)], dependent=dependent,
                   regressors=regressors,
-                  excluded=pd.DataFrame(excluded, columns=["unit", "years", "reason"]))
+                  excluded=excluded_frame(excluded))
 
 
 def _check_variation(frame: pd.DataFrame, regressors: Sequence[str]) -> None:

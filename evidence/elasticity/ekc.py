@@ -17,24 +17,23 @@ wagner2015 : Wagner, M. (2015). The environmental Kuznets curve, cointegration a
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from typing import Any, ClassVar
 
 import numpy as np
 import pandas as pd
 from scipy import stats
 
-from evidence._json import json_safe
 from evidence._typing import Window
-from evidence._validation import check_choice
+from evidence._validation import check_alpha, check_choice
 from evidence.elasticity._design import build_design
 from evidence.elasticity.estimate import ESTIMATORS
 from evidence.elasticity.fixed_effects import COVARIANCES, fit_fixed_effects
 from evidence.elasticity.heterogeneous import fit_mean_group
 from evidence.errors import DataError, SpecError
-from evidence.panel import Panel
-from evidence.results import Estimate, TestResult
+from evidence.panel import Panel, derived_name
+from evidence.results import Estimate, ResultProtocol, TestResult, excluded_frame
 
 __all__ = ["ekc", "EKCResult", "fieller_interval", "u_shape_test", "EKC_CAUTION"]
 
@@ -43,9 +42,30 @@ EKC_CAUTION = ("Polynomials of an integrated regressor are not integrated of the
                "describes this sample and specification.")
 
 
-@dataclass(frozen=True, eq=False)
-class EKCResult:
-    """The fitted curve (``estimate``), its turning points and the Lind–Mehlum U test."""
+@dataclass(frozen=True, eq=False, repr=False)
+class EKCResult(ResultProtocol):
+    """The fitted curve (``estimate``), its turning points and the Lind–Mehlum U test.
+
+    Attributes
+    ----------
+    estimate : Estimate
+        The polynomial regression.
+    turning_points : pandas.DataFrame
+        One row per turning point: ``point`` (log activity), ``std_error``, delta-method and
+        Fieller intervals, ``level`` (activity) and ``inside_range``.
+    u_test : TestResult
+        Lind & Mehlum's test (inapplicable for the cubic).
+    degree : int
+        2 (quadratic) or 3 (cubic).
+    data_range : (float, float)
+        Smallest and largest log activity in the sample.
+    warnings : tuple of str
+        The caution on polynomials of integrated regressors, and the estimate's warnings.
+    details : mapping
+        The activity term, per-capita flag and ``alpha``.
+    excluded : pandas.DataFrame
+        Rows and units left out (unit, column, years, reason).
+    """
 
     estimate: Estimate
     turning_points: pd.DataFrame
@@ -53,7 +73,14 @@ class EKCResult:
     degree: int
     data_range: tuple[float, float]
     warnings: tuple[str, ...] = ()
-    details: dict[str, Any] = field(default_factory=dict)
+    details: Mapping[str, Any] = field(default_factory=dict)
+    excluded: pd.DataFrame = field(default_factory=excluded_frame)
+
+    _repr_fields: ClassVar[tuple[str, ...]] = ("degree",)
+
+    def __repr__(self) -> str:
+        points = ", ".join(f"{p:.4f}" for p in self.turning_points["point"])
+        return f"EKCResult(degree={self.degree}, turning_points=[{points}])"
 
     def summary(self) -> str:
         """The estimate, the turning points and the U test in words."""
@@ -66,14 +93,13 @@ class EKCResult:
                          f"{self.data_range[1]:.4f})")
         lines += ["", self.u_test.summary()]
         lines += [f"caution: {w}" for w in self.warnings]
+        if len(self.excluded):
+            lines.append(f"left out: {len(self.excluded)} item(s); see .excluded")
         return "\n".join(lines)
 
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-safe contents."""
-        return json_safe({"estimate": self.estimate.to_dict(), "turning_points": self.turning_points,
-                          "u_test": self.u_test.to_dict(), "degree": self.degree,
-                          "data_range": list(self.data_range), "warnings": list(self.warnings),
-                          "details": self.details})
+    def to_frame(self) -> pd.DataFrame:
+        """The turning points (a copy)."""
+        return self.turning_points.copy()
 
 
 def _critical(df: float | None, alpha: float) -> float:
@@ -139,26 +165,27 @@ def ekc(panel: Panel, pressure: str, activity: str, *, population: str | None = 
     range. For the cubic, the real roots with delta-method errors (no Fieller interval or U test).
     """
     estimator = check_choice("estimator", estimator, ESTIMATORS)
-    if degree not in (2, 3):
+    if degree not in (2, 3) or isinstance(degree, bool):
         raise SpecError(f"degree={degree!r} must be 2 (quadratic) or 3 (cubic).")
-    if not 0 < alpha < 1:
-        raise SpecError(f"alpha={alpha!r} must be between 0 and 1.")
+    alpha = check_alpha(alpha)
     work = panel
     p_col, a_col = pressure, activity
     if population is not None:
-        work = work.with_per_capita(pressure, population).with_per_capita(activity, population)
-        p_col, a_col = f"{pressure}_per_capita", f"{activity}_per_capita"
-    work = work.with_log(p_col).with_log(a_col)
-    x_name = f"log_{a_col}"
+        p_col, a_col = derived_name("per_capita", pressure), derived_name("per_capita", activity)
+        work = (work.with_per_capita(pressure, population, name=p_col)
+                .with_per_capita(activity, population, name=a_col))
+    y_name, x_name = derived_name("log", p_col), derived_name("log", a_col)
+    work = work.with_log(p_col, name=y_name).with_log(a_col, name=x_name)
     powers = [x_name]
+    log_activity = work.frame[x_name]
     for power, suffix in ((2, "sq"), (3, "cu"))[: degree - 1]:
         name = f"{x_name}_{suffix}"
-        work = work._with(name, work.frame[x_name] ** power)
+        work = work.with_column(name, log_activity ** power)
         powers.append(name)
-    design = build_design(work, f"log_{p_col}", x_name, controls=(*powers[1:], *controls),
+    design = build_design(work, y_name, x_name, controls=(*powers[1:], *controls),
                           log=False, window=window)
     if estimator in ("fe", "twfe"):
-        cov = check_choice("cov", cov or "driscoll_kraay", COVARIANCES)
+        cov = check_choice("cov", cov or "driscoll-kraay", COVARIANCES)
         est = fit_fixed_effects(design, estimator=estimator, cov=cov, hac_lags=hac_lags)
     else:
         if cov is not None:
@@ -186,7 +213,7 @@ def ekc(panel: Panel, pressure: str, activity: str, *, population: str | None = 
     return EKCResult(estimate=est, turning_points=points, u_test=u_test, degree=degree,
                      data_range=(x_low, x_high), warnings=warnings,
                      details={"activity_term": x_name, "per_capita": population is not None,
-                              "alpha": alpha, "excluded": design.excluded})
+                              "alpha": alpha}, excluded=design.excluded)
 
 
 def _quadratic_points(b: np.ndarray, v: np.ndarray, t_crit: float) -> pd.DataFrame:

@@ -7,23 +7,23 @@ Also the one-sided decoupling tests on the estimated elasticity and the time-var
 from __future__ import annotations
 
 import math
-
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
-from typing import Any
+from pathlib import Path
+from typing import Any, ClassVar
 
 import pandas as pd
 from scipy import stats
 
-from evidence._json import json_safe
+from evidence._figures import finish_figure, pyplot
 from evidence._typing import Window
-from evidence._validation import check_choice, check_window
+from evidence._validation import check_choice, check_int, check_window
 from evidence.elasticity._design import build_design
 from evidence.elasticity.fixed_effects import COVARIANCES, fit_fixed_effects
 from evidence.elasticity.heterogeneous import fit_mean_group
 from evidence.errors import SpecError
 from evidence.panel import Panel
-from evidence.results import Estimate, TestResult
+from evidence.results import Estimate, ResultProtocol, TestResult, excluded_frame
 
 __all__ = ["ESTIMATORS", "elasticity", "decoupling_tests", "time_varying_elasticity",
            "ElasticityPath"]
@@ -49,14 +49,16 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
         Unit fixed effects; unit and year fixed effects; mean group (Pesaran & Smith 1995); common
         correlated effects mean group or pooled (Pesaran 2006); augmented mean group (Eberhardt &
         Teal 2010).
-    cov : {"driscoll_kraay", "cluster", "twoway_cluster", "robust", "unadjusted"}, optional
-        Covariance of the fixed-effects estimators (default ``"driscoll_kraay"``). The mean-group
-        estimators use the mean-group variance and take no ``cov``.
+    cov : {"driscoll-kraay", "unit-cluster", "two-way-cluster", "heteroskedastic", "classical"}, optional
+        Covariance of the fixed-effects estimators (default ``"driscoll-kraay"``): Driscoll–Kraay
+        (errors correlated across units and over time), clustered by unit, clustered by unit and by
+        year, heteroskedasticity-robust (White), or classical (homoskedastic, independent errors).
+        The mean-group estimators use the mean-group variance and take no ``cov``.
     hac_lags : int, optional
         Driscoll–Kraay lags (default ``floor(4 (T/100)^(2/9))``).
-    trend : {"c", "ct"}, optional
-        Unit-level deterministic terms of the mean-group estimators (default ``"c"``; ``"ct"`` for
-        AMG).
+    trend : {"constant", "trend"}, optional
+        Unit-level deterministic terms of the mean-group estimators (default ``"constant"``;
+        ``"trend"`` for AMG).
     robust_mean : bool
         Mean-group estimators: an outlier-robust (Huber) mean of the unit slopes.
     window : (int, int), optional
@@ -79,7 +81,7 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
     """
     estimator = check_choice("estimator", estimator, ESTIMATORS)
     if estimator in ("fe", "twfe"):
-        cov = check_choice("cov", cov or "driscoll_kraay", COVARIANCES)
+        cov = check_choice("cov", cov or "driscoll-kraay", COVARIANCES)
         if trend is not None or robust_mean:
             raise SpecError("trend= and robust_mean= apply to the mean-group estimators "
                             "(mg, ccemg, ccep, amg), not to fixed effects.")
@@ -87,7 +89,7 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
         raise SpecError(f"cov={cov!r} applies to estimator='fe' or 'twfe'; the mean-group "
                         "estimators use the mean-group variance of the unit slopes.")
     if trend is not None:
-        trend = check_choice("trend", trend, ("c", "ct"))
+        trend = check_choice("trend", trend, ("constant", "trend"))
     design = build_design(panel, pressure, activity, controls=controls, log=log, window=window,
                           drop_short=drop_short)
     if estimator in ("fe", "twfe"):
@@ -95,7 +97,7 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
     else:
         est = fit_mean_group(design, estimator=estimator, trend=trend, robust_mean=robust_mean)
     details = dict(est.details)
-    details["excluded"] = design.excluded
+    details.setdefault("excluded", design.excluded)
     details["elasticity_of"] = design.regressors[0]
     details["basis"] = panel.basis(pressure) or "not stated"
     return Estimate(estimator=est.estimator, dependent=est.dependent, params=est.params,
@@ -140,31 +142,54 @@ def decoupling_tests(estimate: Estimate) -> tuple[TestResult, TestResult]:
     return relative, absolute
 
 
-@dataclass(frozen=True, eq=False)
-class ElasticityPath:
-    """Elasticities by sub-period or rolling window, one row each (``table``)."""
+@dataclass(frozen=True, eq=False, repr=False)
+class ElasticityPath(ResultProtocol):
+    """Elasticities by sub-period or rolling window, one row each (``table``).
+
+    Attributes
+    ----------
+    table : pandas.DataFrame
+        ``start, end, elasticity, std_error, lower, upper, nobs`` per window.
+    estimator, cov_type : str
+        The estimator and the covariance used in every window.
+    details : mapping
+        The windows (``width`` or ``periods``).
+    excluded : pandas.DataFrame
+        What each window left out (unit, column, years, reason; the reason names the window).
+    """
 
     table: pd.DataFrame
     estimator: str
     cov_type: str
-    details: dict[str, Any] = field(default_factory=dict)
+    details: Mapping[str, Any] = field(default_factory=dict)
+    excluded: pd.DataFrame = field(default_factory=excluded_frame)
+
+    _repr_fields: ClassVar[tuple[str, ...]] = ("estimator",)
+
+    def __repr__(self) -> str:
+        return f"ElasticityPath(estimator={self.estimator!r}, windows={len(self.table)})"
+
+    def summary(self) -> str:
+        """The elasticity of each window with its 95 % interval."""
+        lines = [f"Elasticity by window ({self.estimator}; {self.cov_type})"]
+        for row in self.table.itertuples(index=False):
+            lines.append(f"  {row.start}-{row.end}  {row.elasticity:8.4f}  "
+                         f"[{row.lower:.4f}, {row.upper:.4f}]  N {row.nobs}")
+        if len(self.excluded):
+            lines.append(f"  left out: {len(self.excluded)} item(s); see .excluded")
+        return "\n".join(lines)
 
     def to_frame(self) -> pd.DataFrame:
         """The path as a table (a copy)."""
         return self.table.copy()
 
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-safe contents."""
-        return json_safe({"table": self.table, "estimator": self.estimator,
-                          "cov_type": self.cov_type, "details": self.details})
+    def plot(self, path: str | Path | None = None) -> Any:
+        """Plot the elasticity with its 95 % interval against the window's end year.
 
-    def plot(self, path: Any = None) -> Any:
-        """Plot the elasticity with its 95 % interval against the window's end year."""
-        import matplotlib
-
-        matplotlib.use("Agg")
-        import matplotlib.pyplot as plt
-
+        With ``path`` the figure is written (and closed) and the paths written are returned;
+        without, the open figure is returned.
+        """
+        plt = pyplot()
         fig, ax = plt.subplots(figsize=(6.0, 3.6), dpi=100)
         x = self.table["end"]
         ax.plot(x, self.table["elasticity"], "-o", markersize=3, label="elasticity")
@@ -175,10 +200,7 @@ class ElasticityPath:
         ax.set_ylabel("elasticity")
         ax.legend(frameon=False, fontsize=8)
         fig.tight_layout()
-        if path is not None:
-            fig.savefig(path, metadata={"Software": None})
-            plt.close(fig)
-        return fig
+        return finish_figure(fig, path)
 
 
 def time_varying_elasticity(panel: Panel, pressure: str, activity: str, *,
@@ -195,14 +217,14 @@ def time_varying_elasticity(panel: Panel, pressure: str, activity: str, *,
         raise SpecError("give exactly one of width= (rolling windows) or periods= (sub-periods).")
     years = panel.years
     if width is not None:
-        if isinstance(width, bool) or not isinstance(width, int) or width < 5:
-            raise SpecError(f"width={width!r} must be an integer of at least 5 years.")
+        width = int(check_int("width", width, minimum=5))  # type: ignore[arg-type]
         if width > len(years):
             raise SpecError(f"width={width} exceeds the panel's {len(years)} years.")
         windows = [(years[i], years[i + width - 1]) for i in range(len(years) - width + 1)]
     else:
         windows = [check_window(p, years) for p in periods]  # type: ignore[union-attr]
     rows = []
+    left_out: list[dict[str, Any]] = []
     cov_type = ""
     for start, end in windows:
         est = elasticity(panel, pressure, activity, controls=controls, estimator=estimator,
@@ -214,7 +236,10 @@ def time_varying_elasticity(panel: Panel, pressure: str, activity: str, *,
                      "std_error": float(est.std_errors[name]), "lower": float(ci["lower"]),
                      "upper": float(ci["upper"]), "nobs": est.nobs})
         cov_type = est.cov_type
+        for item in est.details["excluded"].to_dict("records"):
+            left_out.append({**item, "reason": f"window {start}-{end}: {item['reason']}"})
     table = pd.DataFrame(rows)
     return ElasticityPath(table=table, estimator=estimator, cov_type=cov_type,
                           details={"width": width, "periods": None if periods is None
-                                   else [list(w) for w in windows]})
+                                   else [list(w) for w in windows]},
+                          excluded=excluded_frame(left_out))

@@ -1,7 +1,8 @@
 """Pooled fixed-effects elasticities through linearmodels' PanelOLS, wrapped in one ``Estimate``.
 
-One-way (unit) or two-way (unit and year) effects; covariance unadjusted, heteroskedasticity-robust,
-clustered by unit, clustered by unit and year, or Driscoll–Kraay (Bartlett kernel, lags stated).
+One-way (unit) or two-way (unit and year) effects; covariance ``"classical"`` (homoskedastic
+errors), ``"heteroskedastic"`` (White), ``"unit-cluster"`` (clustered by unit), ``"two-way-cluster"``
+(clustered by unit and by year) or ``"driscoll-kraay"`` (Bartlett kernel, lags stated).
 Nothing is re-implemented here: the coefficients and covariances are linearmodels'.
 
 References
@@ -21,35 +22,36 @@ import numpy as np
 import pandas as pd
 
 from evidence.elasticity._design import Design
+from evidence._hac import newey_west_lags
 from evidence.errors import EstimationError, SpecError
-from evidence.indicators import newey_west_lags
 from evidence.results import Estimate
 
 __all__ = ["COVARIANCES", "fit_fixed_effects"]
 
-COVARIANCES = ("unadjusted", "robust", "cluster", "twoway_cluster", "driscoll_kraay")
+#: Covariances of the fixed-effects estimators (see the module docstring).
+COVARIANCES = ("classical", "heteroskedastic", "unit-cluster", "two-way-cluster", "driscoll-kraay")
 _LABELS = {"fe": "fixed effects (unit)", "twfe": "fixed effects (unit and year)"}
 
 
 def _cov_config(cov: str, hac_lags: int | None, n_periods: int) -> tuple[str, dict[str, Any], str]:
-    if cov == "unadjusted":
-        return "unadjusted", {}, "unadjusted (homoskedastic)"
-    if cov == "robust":
+    if cov == "classical":
+        return "unadjusted", {}, "classical (homoskedastic errors)"
+    if cov == "heteroskedastic":
         return "robust", {}, "heteroskedasticity-robust (White)"
-    if cov == "cluster":
+    if cov == "unit-cluster":
         return "clustered", {"cluster_entity": True, "group_debias": True}, \
             "clustered by unit, factor G/(G-1) (n-1)/(n-k)"
-    if cov == "twoway_cluster":
+    if cov == "two-way-cluster":
         return ("clustered", {"cluster_entity": True, "cluster_time": True, "group_debias": True},
                 "clustered by unit and year, factor G/(G-1) (n-1)/(n-k)")
     lags = newey_west_lags(n_periods) if hac_lags is None else hac_lags
     if lags >= n_periods:
         raise SpecError(f"hac_lags={lags} must be below the number of years ({n_periods}).")
     return "kernel", {"kernel": "bartlett", "bandwidth": lags}, \
-        f"Driscoll-Kraay, Bartlett kernel, {lags} lags"
+        f"Driscoll–Kraay, Bartlett kernel, {lags} lags"
 
 
-def fit_fixed_effects(design: Design, *, estimator: str = "fe", cov: str = "driscoll_kraay",
+def fit_fixed_effects(design: Design, *, estimator: str = "fe", cov: str = "driscoll-kraay",
                       hac_lags: int | None = None) -> Estimate:
     """Fit ``y_it = a_i (+ d_t) + b' x_it + e_it`` by the within estimator (linearmodels PanelOLS).
 
@@ -75,17 +77,17 @@ def fit_fixed_effects(design: Design, *, estimator: str = "fe", cov: str = "dris
         "effects": "unit and year" if estimator == "twfe" else "unit",
         "excluded_units": int(design.excluded["unit"].nunique()),
     }
-    if cov == "driscoll_kraay":
+    if cov == "driscoll-kraay":
         details["hac_lags"] = int(config["bandwidth"])
     warn = []
     if n_periods < 30:
         warn.append(f"short panel: T={n_periods} years (< 30)")
-    if cov in ("cluster", "twoway_cluster") and counts.size < 30:
+    if cov in ("unit-cluster", "two-way-cluster") and counts.size < 30:
         warn.append(f"{counts.size} clusters: cluster-robust standard errors are unreliable with "
                     "few clusters")
     return Estimate(estimator=_LABELS[estimator], dependent=design.dependent,
                     params=pd.Series(res.params), std_errors=res.std_errors.to_numpy(),
                     cov=res.cov.to_numpy(), cov_type=label, nobs=int(res.nobs),
                     df_resid=float(res.df_resid), details=details,
-                    reference="driscollkraay1998" if cov == "driscoll_kraay" else "",
+                    reference="driscollkraay1998" if cov == "driscoll-kraay" else "",
                     warnings=tuple(warn), resid=res.idiosyncratic.iloc[:, 0])

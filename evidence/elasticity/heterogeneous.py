@@ -24,9 +24,10 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
+from evidence._validation import format_years
 from evidence.elasticity._design import Design, unit_blocks
 from evidence.errors import DataError, EstimationError
-from evidence.results import Estimate
+from evidence.results import Estimate, excluded_frame
 
 __all__ = ["fit_mean_group", "cross_section_means", "amg_common_process", "unit_ols"]
 
@@ -89,7 +90,7 @@ def amg_common_process(design: Design) -> pd.Series:
 
 def _deterministics(years: np.ndarray, trend: str) -> np.ndarray:
     cols = [np.ones(years.size)]
-    if trend == "ct":
+    if trend == "trend":
         cols.append(years - years.mean())
     return np.column_stack(cols)
 
@@ -98,10 +99,12 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
                    robust_mean: bool = False) -> Estimate:
     """Fit a mean-group-type estimator; see the module docstring.
 
-    ``trend`` is ``"c"`` (unit intercepts) or ``"ct"`` (and unit trends); default ``"c"``, except
-    ``"ct"`` for the augmented mean group, whose unit regressions carry a trend.
+    ``trend`` is ``"constant"`` (unit intercepts) or ``"trend"`` (and unit trends); default
+    ``"constant"``, except ``"trend"`` for the augmented mean group, whose unit regressions carry a
+    trend. Units without enough years or with collinear regressors are left out and listed in
+    ``details["excluded"]`` (with the rows the design left out).
     """
-    trend = trend or ("ct" if estimator == "amg" else "c")
+    trend = trend or ("trend" if estimator == "amg" else "constant")
     names = list(design.regressors)
     k = len(names)
     extra: pd.DataFrame | None = None
@@ -109,19 +112,22 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
         extra = cross_section_means(design)
     elif estimator == "amg":
         extra = amg_common_process(design).to_frame()
-    slopes, cross, used, skipped, resid = [], [], [], [], []
+    slopes, cross, used, left_out, resid = [], [], [], [], []
+    column = ", ".join((design.dependent, *names))
     for unit, years, y_i, x_i in unit_blocks(design):
         d_i = _deterministics(years.astype(float), trend)
         if extra is not None:
             d_i = np.column_stack([d_i, extra.loc[years].to_numpy()])
         if y_i.size <= k + d_i.shape[1]:
-            skipped.append({"unit": unit, "reason": f"{y_i.size} years; needs more than "
-                                                    f"{k + d_i.shape[1]} for this estimator"})
+            left_out.append({"unit": unit, "column": column, "years": format_years(years),
+                             "reason": f"unit excluded: {y_i.size} years; needs more than "
+                                       f"{k + d_i.shape[1]} for this estimator"})
             continue
         try:
             b_i, xx_i, e_i = unit_ols(y_i, x_i, d_i)
         except np.linalg.LinAlgError:
-            skipped.append({"unit": unit, "reason": "regressors collinear within the unit"})
+            left_out.append({"unit": unit, "column": column, "years": format_years(years),
+                             "reason": "unit excluded: regressors collinear within the unit"})
             continue
         slopes.append(b_i)
         resid.append(pd.Series(e_i, index=pd.MultiIndex.from_arrays(
@@ -131,7 +137,7 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
     n = len(used)
     if n < 2:
         raise DataError(f"the {_LABELS[estimator]} estimator needs at least 2 units with enough "
-                        f"years; {n} qualify" + (f" (skipped: {skipped})" if skipped else "."))
+                        f"years; {n} qualify" + (f" (left out: {left_out})" if left_out else "."))
     b = np.asarray(slopes)
     mg = b.mean(axis=0)
     cov = (b - mg).T @ (b - mg) / (n * (n - 1))
@@ -146,9 +152,10 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
     details: dict[str, Any] = {"units": n, "years_mean": float(counts.mean()), "trend": trend,
                                "mean": mean_label,
                                "unit_params": unit_params,
-                               "skipped_units": pd.DataFrame(skipped, columns=["unit", "reason"]),
-                               "excluded_units": int(design.excluded["unit"].nunique())}
-    warn = [f"{len(skipped)} unit(s) skipped; see details['skipped_units']"] if skipped else []
+                               "excluded": excluded_frame([*design.excluded.to_dict("records"),
+                                                           *left_out]),
+                               "excluded_units": int(design.excluded["unit"].nunique()) + len(left_out)}
+    warn = ([f"{len(left_out)} unit(s) left out; see details['excluded']"] if left_out else [])
     cov_label = ("Pesaran (2006) non-parametric CCE-P variance" if estimator == "ccep"
                  else "mean-group variance of unit slopes")
     return Estimate(estimator=_LABELS[estimator], dependent=design.dependent,

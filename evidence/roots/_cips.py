@@ -21,27 +21,19 @@ from typing import Any
 import numpy as np
 
 from evidence._cache import load_cached, save_cached
-from evidence._typing import Seed
+from evidence._typing import DEFAULT_SEED, Seed
+from evidence._validation import check_int, check_lags, check_seed, check_trend
 from evidence.errors import SpecError
-from evidence.parallel import run_tasks, task_seeds
+from evidence.parallel import ExecutorLike, task_seeds, using_executor
 from evidence.results import TestResult
 from evidence.roots import _cips_tables as tables
-from evidence.roots._common import (
-    check_lags,
-    check_panel_units,
-    check_trend,
-    ols_tstat_batch,
-    panel_data,
-    require_balanced,
-    trend_columns,
-)
+from evidence.roots._common import N_DETERMINISTIC, column_block, excluded_records, require_balanced
+from evidence.roots._unit_batch import ols_tstat_batch, trend_columns
 
 __all__ = ["cips_test", "cadf_tstats", "cips_statistic", "simulate_cips", "table_critical_values"]
 
 #: Default number of simulated panels for p-values and untabulated critical values.
-REPLICATIONS = 5000
-#: Default seed of the simulation (recorded in ``details``).
-SEED = 20070101
+REPS = 5000
 _CHUNK = 250
 
 
@@ -91,28 +83,29 @@ def _simulate_chunk(task: tuple[Any, ...]) -> np.ndarray:
     return cips_statistic(cadf_tstats(y, trend, lags), trend, truncate)
 
 
-def simulate_cips(n_units: int, nobs: int, *, trend: str = "c", lags: int = 0,
-                  truncate: bool = True, replications: int = REPLICATIONS, seed: Seed = SEED,
-                  backend: str = "serial") -> np.ndarray:
+def simulate_cips(n_units: int, nobs: int, *, trend: str = "constant", lags: int = 0,
+                  truncate: bool = True, reps: int = REPS, seed: Seed = DEFAULT_SEED,
+                  executor: ExecutorLike = "serial") -> np.ndarray:
     """Sorted simulated null draws of CIPS for N units and T years (seeded; cached on disk).
 
     Each replication draws N independent Gaussian random walks of length T and computes the
     statistic exactly as :func:`cips_test` does. Replications are split into tasks with their
-    own seeds (:func:`evidence.parallel.task_seeds`), so every backend gives the same draws.
+    own seeds (:func:`evidence.parallel.task_seeds`), so every executor gives the same draws.
     """
     params = {"n": int(n_units), "t": int(nobs), "trend": trend, "lags": int(lags),
-              "truncate": bool(truncate), "replications": int(replications),
-              "seed": seed if isinstance(seed, (int, np.integer)) else None, "version": 1}
+              "truncate": bool(truncate), "replications": int(reps),
+              "seed": seed if isinstance(seed, (int, np.integer)) else None, "version": 2}
     cacheable = params["seed"] is not None
     if cacheable:
         cached = load_cached("cips-null", params)
         if cached is not None and "draws" in cached:
             return cached["draws"]
-    sizes = [_CHUNK] * (replications // _CHUNK) + ([replications % _CHUNK] if replications % _CHUNK else [])
+    sizes = [_CHUNK] * (reps // _CHUNK) + ([reps % _CHUNK] if reps % _CHUNK else [])
     seeds = task_seeds(seed, len(sizes))
     tasks = [(s, r, int(n_units), int(nobs), trend, int(lags), bool(truncate))
              for s, r in zip(seeds, sizes)]
-    draws = np.sort(np.concatenate(run_tasks(_simulate_chunk, tasks, backend=backend)))
+    with using_executor(executor) as runner:
+        draws = np.sort(np.concatenate(runner.map(_simulate_chunk, tasks)))
     if cacheable:
         save_cached("cips-null", params, {"draws": draws})
     return draws
@@ -126,20 +119,20 @@ def table_critical_values(n_units: int, nobs: int, trend: str, truncate: bool) -
     return {a: tables.CIPS_CV[(trend, truncate, a)][i][j] for a in (0.01, 0.05, 0.10)}
 
 
-def cips_test(panel: Any, column: str, *, trend: str = "c", lags: int = 0, truncate: bool = True,
-              replications: int = REPLICATIONS, seed: Seed = SEED,
-              backend: str = "serial") -> TestResult:
+def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 0,
+              truncate: bool = True, reps: int = REPS, seed: Seed = DEFAULT_SEED,
+              executor: ExecutorLike = "serial") -> TestResult:
     """Pesaran's CIPS panel unit-root test, robust to one common factor (balanced panel).
 
     Parameters
     ----------
-    trend : {"n", "c", "ct"}
+    trend : {"none", "constant", "trend"}
         Case I, II or III of Pesaran (2007).
     lags : int
         Lags p of the CADF regressions (the same for every unit).
     truncate : bool
         True: CIPS*, the mean of CADF statistics truncated to [-K1, K2] (robust at small T).
-    replications, seed, backend
+    reps, seed, executor
         Simulation of the null distribution (p-value; critical values when not tabulated).
 
     Notes
@@ -156,34 +149,34 @@ def cips_test(panel: Any, column: str, *, trend: str = "c", lags: int = 0, trunc
     pesaran2007 (see the module docstring).
     """
     trend = check_trend(trend)
-    lags = check_lags(lags, methods=())  # type: ignore[assignment]
+    lags = check_lags(lags, rules=())  # type: ignore[assignment]
     if not isinstance(truncate, bool):
         raise SpecError(f"truncate={truncate!r} must be True or False.")
-    if isinstance(replications, bool) or not isinstance(replications, int) or replications < 100:
-        raise SpecError(f"replications={replications!r} must be an integer of at least 100.")
-    data = panel_data(panel, column, purpose="the CIPS test")
-    check_panel_units(data, min_obs=2 * lags + len(trend.replace("n", "")) + 6,
-                      purpose="the CIPS test")
-    require_balanced(data, purpose="the CIPS test")
-    y = data.values
+    reps = check_int("reps", reps, minimum=100)
+    seed = check_seed(seed)
+    block = column_block(panel, column, min_obs=2 * lags + N_DETERMINISTIC[trend] + 6,
+                         purpose="the CIPS test")
+    require_balanced(block, purpose="the CIPS test")
+    y = block.values
     nobs, n = y.shape
     t = cadf_tstats(y, trend, lags)
     if not np.isfinite(t).all():
-        unit = data.units[int(np.flatnonzero(~np.isfinite(t))[0])]
+        unit = block.units[int(np.flatnonzero(~np.isfinite(t))[0])]
         raise SpecError(f"the CADF regression of unit '{unit}' is singular with lags={lags}; "
                         "use fewer lags.")
     stat = float(cips_statistic(t, trend, truncate))
-    draws = simulate_cips(n, nobs, trend=trend, lags=lags, truncate=truncate,
-                          replications=replications, seed=seed, backend=backend)
+    draws = simulate_cips(n, nobs, trend=trend, lags=lags, truncate=truncate, reps=reps,
+                          seed=seed, executor=executor)
     pvalue = float((np.sum(draws <= stat) + 1) / (draws.size + 1))
     table = table_critical_values(n, nobs, trend, truncate) if lags == 0 else None
+    seed_label = seed if isinstance(seed, (int, np.integer)) else str(seed)
     if table is not None:
         cv, source = table, "Pesaran (2007), Table II"
     else:
         cv = {a: float(np.quantile(draws, a)) for a in (0.01, 0.05, 0.10)}
-        source = f"simulated ({replications} replications, seed {seed})"
-    warn = [f"{len(data.skipped)} unit(s) without values skipped; see details['skipped']."] \
-        if data.skipped else []
+        source = f"simulated ({reps} replications, seed {seed_label})"
+    warn = ([f"{len(block.excluded)} item(s) left out; see details['excluded']."]
+            if len(block.excluded) else [])
     if n < 10 or nobs < 10:
         warn.append(f"N={n}, T={nobs}: below Pesaran's smallest tabulated panel (N=10, T=10).")
     return TestResult(
@@ -191,9 +184,8 @@ def cips_test(panel: Any, column: str, *, trend: str = "c", lags: int = 0, trunc
         null="every unit has a unit root", alternative="some units are stationary",
         nobs=int((nobs - lags - 1) * n),
         details={"trend": trend, "lags": lags, "truncated": truncate, "units": n, "periods": nobs,
-                 "critical_values_source": source, "replications": replications,
-                 "seed": seed if isinstance(seed, (int, np.integer)) else str(seed),
-                 "pvalue_mc_error": math.sqrt(max(pvalue * (1 - pvalue), 1e-12) / replications),
-                 "unit_cadf": dict(zip(data.units, np.round(t, 6).tolist())),
-                 "skipped": [{"unit": u, "reason": r} for u, r in data.skipped]},
+                 "critical_values_source": source, "reps": reps, "seed": seed_label,
+                 "pvalue_mc_error": math.sqrt(max(pvalue * (1 - pvalue), 1e-12) / reps),
+                 "unit_cadf": dict(zip(block.units, np.round(t, 6).tolist())),
+                 "excluded": excluded_records(block.excluded)},
         reference="pesaran2007", warnings=tuple(warn))

@@ -10,7 +10,7 @@ from itertools import combinations
 
 import numpy as np
 
-from evidence.roots._common import ols_tstat_batch
+from evidence.roots._unit_batch import ols_tstat_batch
 
 __all__ = ["break_grid", "deterministics", "lm_statistics", "lm_search"]
 
@@ -89,7 +89,7 @@ def lm_search(y: np.ndarray, dates: np.ndarray, model: str, lags: int | str,
               max_lags: int) -> tuple[float, np.ndarray, int, np.ndarray]:
     """Minimum LM statistic over the candidate dates.
 
-    With ``lags="t-stat"`` the lag order is chosen at every candidate by the general-to-specific
+    With ``lags="sequential-t"`` the lag order is chosen at every candidate by the general-to-specific
     rule: start at ``max_lags`` and drop the last lag while its |t| < 1.645. Returns the minimum
     statistic, its break dates, its lag order and the statistic at every candidate.
     """

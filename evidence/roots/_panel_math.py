@@ -1,6 +1,8 @@
-"""Pure NumPy pieces of the panel unit-root tests, vectorised over units.
+"""Pure NumPy pieces of the first-generation panel unit-root tests, vectorised over units and
+over replications (so that the bootstrap and the simulations use the statistic of the data).
 
-``y`` is always ``(T, N)``: one column per unit, years in rows, no missing values.
+Panels are ``(T, N)`` (one column per unit, years in rows, no missing values) or batches
+``(R, T, N)``. ``trend`` uses the package's words ("none", "constant", "trend").
 """
 
 from __future__ import annotations
@@ -8,35 +10,17 @@ from __future__ import annotations
 import numpy as np
 from scipy import stats
 
+from evidence._hac import long_run_variance
 from evidence.roots import _ips_tables as tables
-from evidence.roots._common import ols_tstat_batch, trend_columns
+from evidence.roots._unit_batch import adf_design, adf_tstats
 
-__all__ = ["adf_tstats", "adf_design", "combine_pvalues", "llc_pieces", "llc_statistic",
-           "breitung_statistic", "hadri_unit_lm", "hadri_statistic", "bartlett_lrv",
-           "interpolate_in_t", "ips_moments", "ips_w"]
+__all__ = ["adf_tstats", "adf_design", "combine_pvalues", "llc_batch", "llc_statistic",
+           "breitung_batch", "breitung_statistic", "prewhiten_differences", "hadri_unit_lm",
+           "hadri_statistic", "interpolate_in_t", "ips_moments", "ips_w", "HADRI_MOMENTS"]
 
-
-def adf_design(y: np.ndarray, trend: str, lags: int) -> tuple[np.ndarray, np.ndarray]:
-    """ADF regression for all units: ``dy (N, n)`` and regressors ``(N, n, k)``.
-
-    Columns: ``y_{t-1}``, ``Δy_{t-1}..Δy_{t-p}``, deterministic terms; rows t = p+2..T.
-    """
-    y = np.asarray(y, dtype=float)
-    nobs, n_units = y.shape
-    dy = np.diff(y, axis=0)
-    n = nobs - lags - 1
-    cols = [y[lags:nobs - 1].T[:, :, None]]
-    for i in range(1, lags + 1):
-        cols.append(dy[lags - i:nobs - 1 - i].T[:, :, None])
-    det = trend_columns(n, trend)
-    cols.append(np.broadcast_to(det, (n_units, n, det.shape[1])))
-    return dy[lags:].T, np.concatenate(cols, axis=2)
-
-
-def adf_tstats(y: np.ndarray, trend: str, lags: int) -> np.ndarray:
-    """ADF t-statistics of every unit with the same fixed lag order (arch's ADF with ``lags``)."""
-    dy, x = adf_design(y, trend, lags)
-    return ols_tstat_batch(dy, x, 0)[1]
+#: Asymptotic mean and variance of a unit's KPSS statistic (Hadri 2000): ξ and ζ².
+HADRI_MOMENTS = {"constant": (1 / 6, 1 / 45), "trend": (1 / 15, 11 / 6300)}
+_LLC_COLUMN = {"none": 1, "constant": 3, "trend": 5}
 
 
 def combine_pvalues(p: np.ndarray) -> dict[str, tuple[float, float]]:
@@ -65,92 +49,169 @@ def combine_pvalues(p: np.ndarray) -> dict[str, tuple[float, float]]:
             "l": (logit, float(stats.t.cdf(logit, 5 * n + 4)))}
 
 
-def bartlett_lrv(u: np.ndarray, bandwidth: int) -> np.ndarray:
-    """Long-run variance of each column of ``u`` (T, N): ``γ_0 + 2 Σ_{l≤L} (1 - l/(L+1)) γ_l``,
-    autocovariances divided by T."""
-    u = np.asarray(u, dtype=float)
-    nobs = u.shape[0]
-    lrv = np.einsum("tn,tn->n", u, u) / nobs
-    for lag in range(1, min(bandwidth, nobs - 1) + 1):
-        lrv += 2.0 * (1.0 - lag / (bandwidth + 1.0)) * np.einsum("tn,tn->n", u[lag:], u[:-lag]) / nobs
-    return lrv
+def _batch(y: np.ndarray) -> tuple[np.ndarray, bool]:
+    y = np.asarray(y, dtype=float)
+    return (y[None], True) if y.ndim == 2 else (y, False)
 
 
-def _resid(y: np.ndarray, x: np.ndarray) -> np.ndarray:
-    if x.shape[1] == 0:
-        return y
-    beta, *_ = np.linalg.lstsq(x, y, rcond=None)
-    return y - x @ beta
+def _units_as_columns(y: np.ndarray) -> np.ndarray:
+    """``(R, T, N)`` to ``(T, R*N)`` (replication-major columns)."""
+    reps, nobs, n_units = y.shape
+    return np.moveaxis(y, 2, 1).reshape(reps * n_units, nobs).T
 
 
-def llc_pieces(y: np.ndarray, trend: str, lags: np.ndarray, bandwidth: int
-               ) -> tuple[list[np.ndarray], list[np.ndarray], np.ndarray, np.ndarray]:
-    """Per unit: normalised residuals ẽ and ṽ, innovation s.d. σ_εi and long-run s.d. σ_yi.
+def llc_batch(y: np.ndarray, trend: str, lags: np.ndarray, hac_lags: int) -> dict[str, np.ndarray]:
+    """The LLC adjusted statistic and its pieces for each panel of ``y`` (``(R, T, N)``).
 
-    ẽ, ṽ: residuals of Δy_t and y_{t-1} on (Δy_{t-1..t-p_i}, d_t), divided by σ_εi, the s.d. of
-    the ADF regression (sum of squares over its n_i = T - p_i - 1 observations, no d.f. correction).
-    σ²_yi: Bartlett long-run variance of Δy (as it is for "n" and "c", whose null has no drift;
-    demeaned for "ct") with autocovariances divided by T - 1.
+    ``lags`` is ``(R, N)`` (each unit's ADF order). Per unit: ẽ, ṽ are the residuals of Δy_t and
+    y_{t-1} on (Δy_{t-1..t-p_i}, d_t), divided by σ_εi, the s.d. of the ADF regression (sum of
+    squares over its n_i = T - p_i - 1 observations, no degrees-of-freedom correction).
+    σ²_yi: Bartlett long-run variance of Δy (demeaned only for "trend", whose null has a drift)
+    with autocovariances divided by T - 1. Pooled OLS of ẽ on ṽ gives δ̂ and t_δ,
+    σ̂²_ε = SSR/(N T̃), T̃ = T - p̄ - 1, and ``t* = (t_δ - N T̃ S_N σ̂_ε⁻² STD(δ̂) μ*)/σ*`` with
+    μ*, σ* from LLC (2002) Table 2 interpolated in T̃.
     """
-    nobs, n_units = y.shape
-    e_list, v_list = [], []
-    sig_e = np.empty(n_units)
-    for i in range(n_units):
-        p = int(lags[i])
-        dy, x = adf_design(y[:, i:i + 1], trend, p)
-        dy, x = dy[0], x[0]
-        aux = x[:, 1:]
-        e = _resid(dy, aux)
-        v = _resid(x[:, 0], aux)
-        delta = (v @ e) / (v @ v)
-        sig_e[i] = np.sqrt(np.mean((e - delta * v) ** 2))
-        e_list.append(e / sig_e[i])
-        v_list.append(v / sig_e[i])
-    dy = np.diff(y, axis=0)
-    if trend == "ct":
-        dy = dy - dy.mean(axis=0)  # a trend in levels is a drift in differences
-    sig_y = np.sqrt(bartlett_lrv(dy, bandwidth))
-    return e_list, v_list, sig_e, sig_y
+    y, _ = _batch(y)
+    reps, nobs, n_units = y.shape
+    flat = _units_as_columns(y)
+    lag = np.asarray(lags, dtype=int).reshape(reps * n_units)
+    width = nobs - 1
+    e_all = np.zeros((reps * n_units, width))
+    v_all = np.zeros((reps * n_units, width))
+    sig_e = np.empty(reps * n_units)
+    for p in np.unique(lag):
+        cols = np.flatnonzero(lag == p)
+        dy, x = adf_design(flat[:, cols], trend, int(p))
+        level, aux = x[:, :, 0], x[:, :, 1:]
+        if aux.shape[2]:
+            gram = np.einsum("bnk,bnl->bkl", aux, aux)
+            coef = np.linalg.solve(gram, np.einsum("bnk,bnj->bkj", aux,
+                                                     np.stack([dy, level], axis=2)))
+            e = dy - np.einsum("bnk,bk->bn", aux, coef[:, :, 0])
+            v = level - np.einsum("bnk,bk->bn", aux, coef[:, :, 1])
+        else:
+            e, v = dy, level
+        delta = np.einsum("bn,bn->b", v, e) / np.einsum("bn,bn->b", v, v)
+        s = np.sqrt(np.mean((e - delta[:, None] * v) ** 2, axis=1))
+        n = e.shape[1]
+        e_all[cols, width - n:] = e / s[:, None]
+        v_all[cols, width - n:] = v / s[:, None]
+        sig_e[cols] = s
+    e_all = e_all.reshape(reps, n_units * width)
+    v_all = v_all.reshape(reps, n_units * width)
+    vv = np.einsum("rk,rk->r", v_all, v_all)
+    delta = np.einsum("rk,rk->r", e_all, v_all) / vv
+    t_tilde = nobs - np.asarray(lags, dtype=float).reshape(reps, n_units).mean(axis=1) - 1.0
+    resid = e_all - delta[:, None] * v_all
+    sig2 = np.einsum("rk,rk->r", resid, resid) / (n_units * t_tilde)
+    std = np.sqrt(sig2 / vv)
+    t_delta = delta / std
+    dy = np.diff(y, axis=1)
+    if trend == "trend":
+        dy = dy - dy.mean(axis=1, keepdims=True)   # a trend in levels is a drift in differences
+    sig_y = np.sqrt(long_run_variance(_units_as_columns(dy), hac_lags))
+    s_n = np.mean((sig_y / sig_e).reshape(reps, n_units), axis=1)
+    table = np.array(tables.LLC, dtype=float)
+    col = _LLC_COLUMN[trend]
+    mu = np.interp(t_tilde, table[:, 0], table[:, col])
+    sd = np.interp(t_tilde, table[:, 0], table[:, col + 1])
+    stat = (t_delta - n_units * t_tilde * s_n / sig2 * std * mu) / sd
+    outside = (t_tilde < table[0, 0]) | (t_tilde > table[-1, 0])
+    return {"statistic": stat, "delta": delta, "t_delta": t_delta, "t_tilde": t_tilde,
+            "s_n": s_n, "mu_star": mu, "sigma_star": sd, "outside": outside}
+
+
+def llc_statistic(y: np.ndarray, trend: str, lags: np.ndarray, hac_lags: int) -> dict[str, float]:
+    """The LLC adjusted statistic and its pieces for one panel ``(T, N)`` (see :func:`llc_batch`)."""
+    out = llc_batch(np.asarray(y, dtype=float)[None], trend, np.asarray(lags)[None], hac_lags)
+    res = {k: float(v[0]) for k, v in out.items()}
+    res["nobs"] = float(np.sum(y.shape[0] - np.asarray(lags) - 1))
+    return res
+
+
+def prewhiten_differences(y: np.ndarray, trend: str, lags: np.ndarray, max_lags: int) -> np.ndarray:
+    """Breitung's prewhitened levels of each panel (``(R, T, N)``; returns ``(R, T - max_lags, N)``).
+
+    Each unit's Δy_t is regressed on Δy_{t-1..t-p_i} (and a constant for "trend") over the
+    common sample t = max_lags+2..T, and the levels are rebuilt as the cumulated residuals
+    starting from zero.
+    """
+    y, _ = _batch(y)
+    reps, nobs, n_units = y.shape
+    lags = np.asarray(lags, dtype=int).reshape(reps, n_units)
+    dy = np.diff(y, axis=1)
+    lhs = dy[:, max_lags:, :]
+    white = lhs.copy()
+    for p in np.unique(lags):
+        cols = [dy[:, max_lags - j:nobs - 1 - j, :] for j in range(1, p + 1)]
+        if trend == "trend":
+            cols = [np.ones_like(lhs)] + cols
+        if not cols:
+            continue
+        x = np.moveaxis(np.stack(cols, axis=3), 2, 1)          # (R, N, rows, k)
+        gram = np.einsum("rnsk,rnsl->rnkl", x, x)
+        coef = np.linalg.solve(gram, np.einsum("rnsk,rsn->rnk", x, lhs)[..., None])[..., 0]
+        resid = lhs - np.einsum("rnsk,rnk->rsn", x, coef)
+        white = np.where((lags == p)[:, None, :], resid, white)
+    return np.concatenate([np.zeros((reps, 1, n_units)), np.cumsum(white, axis=1)], axis=1)
+
+
+def breitung_batch(y: np.ndarray, trend: str) -> np.ndarray:
+    """Breitung's pooled statistic of each (prewhitened) panel of levels ``(R, T, N)``.
+
+    "none": y*_t = y_t; "constant": y*_t = y_t - y_1; with Δy_t as the differenced variable.
+    "trend": y*_t = y_t - y_1 - (t-1)/(T-1)(y_T - y_1) and forward orthogonal deviations
+    Δy*_t = s_t [Δy_t - mean(Δy_{t+1..T})], s_t² = (T-t)/(T-t+1), t = 2..T-1.
+    Each unit is scaled by σ̂²_i, the variance of Δy_t (about 0 for "none", "constant"; demeaned
+    for "trend"). λ = Σ_i σ̂_i⁻² Σ_t Δy*_it y*_{i,t-1} / sqrt(Σ_i σ̂_i⁻² Σ_t (y*_{i,t-1})²).
+    """
+    y, _ = _batch(y)
+    nobs = y.shape[1]
+    dy = np.diff(y, axis=1)
+    if trend == "trend":
+        sig2 = dy.var(axis=1)
+        t = np.arange(1, nobs + 1, dtype=float)[None, :, None]
+        ystar = y - y[:, :1] - (t - 1) / (nobs - 1) * (y[:, -1:] - y[:, :1])
+        rev = np.cumsum(dy[:, ::-1], axis=1)[:, ::-1]            # Σ_{s≥t} Δy_s
+        count = np.arange(nobs - 1, 0, -1, dtype=float)[None, :, None]
+        later = rev[:, 1:] / count[:, 1:]                        # mean of Δy_{t+1..T}
+        tt = np.arange(2, nobs, dtype=float)[None, :, None]
+        dstar = np.sqrt((nobs - tt) / (nobs - tt + 1)) * (dy[:, :-1] - later)
+        lagged = ystar[:, :nobs - 2]
+    else:
+        sig2 = np.mean(dy ** 2, axis=1)
+        ystar = y - y[:, :1] if trend == "constant" else y
+        dstar = dy
+        lagged = ystar[:, :nobs - 1]
+    num = np.sum(np.sum(dstar * lagged, axis=1) / sig2, axis=1)
+    den = np.sqrt(np.sum(np.sum(lagged ** 2, axis=1) / sig2, axis=1))
+    return num / den
 
 
 def breitung_statistic(y: np.ndarray, trend: str) -> float:
-    """Breitung's pooled statistic on (prewhitened) levels ``y`` (T, N).
-
-    "n": y*_t = y_t; "c": y*_t = y_t - y_1; with Δy_t as the differenced variable.
-    "ct": y*_t = y_t - y_1 - (t-1)/(T-1)(y_T - y_1) and forward orthogonal deviations
-    Δy*_t = s_t [Δy_t - mean(Δy_{t+1..T})], s_t² = (T-t)/(T-t+1), t = 2..T-1.
-    Each unit is scaled by σ̂²_i, the variance of Δy_t (about 0 for "n", "c"; demeaned for "ct").
-    λ = Σ_i σ̂_i⁻² Σ_t Δy*_it y*_{i,t-1} / sqrt(Σ_i σ̂_i⁻² Σ_t (y*_{i,t-1})²).
-    """
-    nobs = y.shape[0]
-    dy = np.diff(y, axis=0)                           # Δy_t for t = 2..T (row t-2)
-    if trend == "ct":
-        sig2 = dy.var(axis=0)
-        t = np.arange(1, nobs + 1, dtype=float)[:, None]
-        ystar = y - y[0] - (t - 1) / (nobs - 1) * (y[-1] - y[0])
-        rev = np.cumsum(dy[::-1], axis=0)[::-1]       # Σ_{s≥t} Δy_s
-        count = np.arange(nobs - 1, 0, -1, dtype=float)[:, None]  # T - t + 1 for t = 2..T
-        later = (rev[1:] / count[1:])                 # mean of Δy_{t+1..T}, t = 2..T-1
-        tt = np.arange(2, nobs, dtype=float)[:, None]
-        s = np.sqrt((nobs - tt) / (nobs - tt + 1))
-        dstar = s * (dy[:-1] - later)
-        lagged = ystar[:nobs - 2]                     # y*_{t-1}, t = 2..T-1
-    else:
-        sig2 = np.mean(dy ** 2, axis=0)
-        ystar = y - y[0] if trend == "c" else y
-        dstar = dy
-        lagged = ystar[:nobs - 1]
-    num = np.sum(np.sum(dstar * lagged, axis=0) / sig2)
-    den = np.sqrt(np.sum(np.sum(lagged ** 2, axis=0) / sig2))
-    return float(num / den)
+    """Breitung's statistic of one panel of levels ``(T, N)`` (see :func:`breitung_batch`)."""
+    return float(breitung_batch(np.asarray(y, dtype=float)[None], trend)[0])
 
 
-def hadri_unit_lm(y: np.ndarray, trend: str, bandwidth: int) -> tuple[np.ndarray, np.ndarray]:
+def hadri_unit_lm(y: np.ndarray, trend: str, hac_lags: int) -> tuple[np.ndarray, np.ndarray]:
     """Per unit ``Σ_t S_it² / T²`` and the long-run variance of the residuals of y on d_t."""
+    from evidence.roots._unit_batch import residuals_on, trend_columns
+
     nobs = y.shape[0]
-    e = _resid(y, trend_columns(nobs, trend))
+    e = residuals_on(y, trend_columns(nobs, trend))
     s = np.cumsum(e, axis=0)
-    return np.sum(s ** 2, axis=0) / nobs ** 2, bartlett_lrv(e, bandwidth)
+    return np.sum(s ** 2, axis=0) / nobs ** 2, long_run_variance(e, hac_lags)
+
+
+def hadri_statistic(y: np.ndarray, trend: str, robust: bool, hac_lags: int
+                    ) -> tuple[float, float, np.ndarray]:
+    """Hadri's Z with the asymptotic moments, the mean LM and the unit LM statistics."""
+    s2, lrv = hadri_unit_lm(y, trend, hac_lags)
+    unit_lm = s2 / lrv
+    lm = float(unit_lm.mean()) if robust else float(s2.mean() / lrv.mean())
+    xi, zeta2 = HADRI_MOMENTS[trend]
+    z = float(np.sqrt(y.shape[1]) * (lm - xi) / np.sqrt(zeta2))
+    return z, lm, unit_lm
 
 
 def interpolate_in_t(grid: np.ndarray, values: np.ndarray, t: float) -> tuple[float, bool]:
@@ -181,34 +242,3 @@ def ips_w(t: np.ndarray, means: np.ndarray, variances: np.ndarray) -> np.ndarray
     """``W = √N (t̄ - mean E) / sqrt(mean Var)`` over the last axis of ``t``."""
     n = t.shape[-1]
     return np.sqrt(n) * (t.mean(axis=-1) - means.mean()) / np.sqrt(variances.mean())
-
-
-def llc_statistic(y: np.ndarray, trend: str, lags: np.ndarray, bandwidth: int) -> dict[str, float]:
-    """The LLC adjusted statistic and its pieces (see ``llc_test``)."""
-    nobs, n = y.shape
-    e, v, sig_e, sig_y = llc_pieces(y, trend, lags, bandwidth)
-    ev, vv = np.concatenate(e), np.concatenate(v)
-    delta = float(ev @ vv / (vv @ vv))
-    t_tilde = nobs - float(np.mean(lags)) - 1.0
-    sig2 = float(np.sum((ev - delta * vv) ** 2) / (n * t_tilde))
-    std = float(np.sqrt(sig2 / float(vv @ vv)))
-    t_delta = delta / std
-    s_n = float(np.mean(sig_y / sig_e))
-    col = {"n": 1, "c": 3, "ct": 5}[trend]
-    table = np.array(tables.LLC, dtype=float)
-    mu, out = interpolate_in_t(table[:, 0], table[:, col], t_tilde)
-    sd, _ = interpolate_in_t(table[:, 0], table[:, col + 1], t_tilde)
-    stat = (t_delta - n * t_tilde * s_n / sig2 * std * mu) / sd
-    return {"statistic": float(stat), "delta": delta, "t_delta": t_delta, "t_tilde": t_tilde,
-            "s_n": s_n, "mu_star": mu, "sigma_star": sd, "outside": float(out),
-            "nobs": float(sum(len(x) for x in e))}
-
-
-def hadri_statistic(y: np.ndarray, trend: str, robust: bool, lags: int) -> tuple[float, float, np.ndarray]:
-    """Hadri's Z, the mean LM and the unit LM statistics (see ``hadri_test``)."""
-    s2, lrv = hadri_unit_lm(y, trend, lags)
-    unit_lm = s2 / lrv
-    lm = float(unit_lm.mean()) if robust else float(s2.mean() / lrv.mean())
-    xi, zeta2 = (1 / 6, 1 / 45) if trend == "c" else (1 / 15, 11 / 6300)
-    z = float(np.sqrt(y.shape[1]) * (lm - xi) / np.sqrt(zeta2))
-    return z, lm, unit_lm

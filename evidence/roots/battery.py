@@ -15,7 +15,7 @@ non-stationary and the first differences stationary; ``I(1) or higher`` when the
 non-stationary and differences were not tested; otherwise ``inconclusive`` (the tests
 disagree, or the differences are not clearly stationary). Tests that could not apply are left
 out of the rule and named in the ``note`` column. Differences are tested with a constant when
-the levels have a constant or a trend ("c" or "ct"), without one when the levels have none.
+the levels have a constant or a trend, without one when the levels have none.
 """
 
 from __future__ import annotations
@@ -27,15 +27,13 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from evidence._json import json_safe
 from evidence._typing import Trend
-from evidence._validation import check_choice
+from evidence._validation import check_alpha, check_choice, check_trend, format_years
 from evidence.errors import DataError, EvidenceError, SpecError
-from evidence.panel import Panel, load_panel
-from evidence.results import TestResult, format_pvalue
+from evidence.panel import Panel, derived_name
+from evidence.results import ResultProtocol, TestResult, excluded_frame, format_pvalue
 from evidence.roots import panel as panel_tests
 from evidence.roots import series as series_tests
-from evidence.roots._common import check_alpha, check_trend
 
 __all__ = ["root_battery", "RootBatteryResult", "SERIES_TESTS", "PANEL_TESTS", "STATIONARITY_NULL"]
 
@@ -48,18 +46,19 @@ DEFAULT_PANEL = ("adf", "kpss", "ips", "cips")
 PANEL_ROW = "(panel)"
 
 
-@dataclass(frozen=True, eq=False)
-class RootBatteryResult:
+@dataclass(frozen=True, eq=False, repr=False)
+class RootBatteryResult(ResultProtocol):
     """The battery's results: one row per unit, transform and test, and one decision per unit.
 
     ``table`` (long): unit, series ("level"/"difference"), test, statistic, pvalue, cv (at
-    ``alpha``), lags, reject, note. ``decisions``: unit, decision, reason. ``skipped``: unit,
-    series, test, reason for every test that raised on bad data.
+    ``alpha``), lags, reject, note. ``decisions``: unit, decision, reason. ``excluded``: unit,
+    column, years, reason for every test that raised on bad data (the one layout of
+    :data:`evidence.results.EXCLUDED_COLUMNS`).
     """
 
     table: pd.DataFrame
     decisions: pd.DataFrame
-    skipped: pd.DataFrame
+    excluded: pd.DataFrame
     column: str | None
     tests: tuple[str, ...]
     trend: str
@@ -68,6 +67,8 @@ class RootBatteryResult:
     reference: str = "see docs/methods/roots.md"
     warnings: tuple[str, ...] = ()
     details: dict[str, Any] = field(default_factory=dict)
+
+    _repr_fields = ("column", "trend", "alpha")
 
     def to_frame(self) -> pd.DataFrame:
         """The long table with each unit's decision."""
@@ -87,23 +88,15 @@ class RootBatteryResult:
         return wide.merge(self.decisions, on="unit", how="left").fillna("")
 
     def summary(self) -> str:
-        """Counts of decisions and what was skipped."""
+        """Counts of decisions and what was left out."""
         lines = [f"Unit-root battery: {self.column or 'series'}, tests {', '.join(self.tests)}, "
                  f"trend '{self.trend}', alpha {self.alpha:g}"]
         for label, n in self.decisions["decision"].value_counts().sort_index().items():
             lines.append(f"  {label}: {n}")
-        lines += [f"  skipped: {r.unit} {r.series} {r.test} ({r.reason})"
-                  for r in self.skipped.itertuples()]
+        lines += [f"  left out: {r.unit} {r.column} {r.years} ({r.reason})"
+                  for r in self.excluded.itertuples()]
         lines += [f"  warning: {w}" for w in self.warnings]
         return "\n".join(lines)
-
-    def to_dict(self) -> dict[str, Any]:
-        """JSON-safe contents."""
-        return json_safe({"column": self.column, "tests": list(self.tests), "trend": self.trend,
-                          "alpha": self.alpha, "differences": self.differences,
-                          "table": self.table, "decisions": self.decisions,
-                          "skipped": self.skipped, "warnings": list(self.warnings),
-                          "reference": self.reference, "details": self.details})
 
 
 def _reject(test: str, res: TestResult, alpha: float) -> bool | None:
@@ -117,27 +110,32 @@ def _reject(test: str, res: TestResult, alpha: float) -> bool | None:
     return bool(res.statistic < cv)
 
 
+def _with_constant(trend: str) -> str:
+    """The tests that need deterministic terms use a constant where none was asked."""
+    return "trend" if trend == "trend" else "constant"
+
+
 def _series_test(test: str, y: pd.Series, trend: str, lags: Any, max_lags: Any) -> TestResult:
     if test == "adf":
         return series_tests.adf_test(y, trend=trend, lags=lags, max_lags=max_lags)
     if test == "pp":
         return series_tests.pp_test(y, trend=trend)
     if test == "kpss":
-        return series_tests.kpss_test(y, trend="ct" if trend == "ct" else "c")
+        return series_tests.kpss_test(y, trend=_with_constant(trend))
     if test == "dfgls":
-        return series_tests.dfgls_test(y, trend="ct" if trend == "ct" else "c", lags=lags,
+        return series_tests.dfgls_test(y, trend=_with_constant(trend), lags=lags,
                                        max_lags=max_lags)
     if test == "za":
-        return series_tests.za_test(y, model="both" if trend == "ct" else "level", lags=lags,
+        return series_tests.za_test(y, model="both" if trend == "trend" else "level", lags=lags,
                                     max_lags=max_lags)
-    return series_tests.lee_strazicich_test(y, model="both" if trend == "ct" else "level")
+    return series_tests.lee_strazicich_test(y, model="both" if trend == "trend" else "level")
 
 
 def _panel_test(test: str, panel: Panel, column: str, trend: str, lags: Any, max_lags: Any) -> TestResult:
     lag_int = lags if isinstance(lags, int) else 0
     if test == "ips":
-        return panel_tests.ips_test(panel, column, trend="ct" if trend == "ct" else "c", lags=lags,
-                                    max_lags=8 if max_lags is None else max_lags)
+        return panel_tests.ips_test(panel, column, trend=_with_constant(trend), lags=lags,
+                                    max_lags=max_lags)
     if test == "llc":
         return panel_tests.llc_test(panel, column, trend=trend, lags=lags, max_lags=max_lags)
     if test == "fisher":
@@ -145,12 +143,12 @@ def _panel_test(test: str, panel: Panel, column: str, trend: str, lags: Any, max
     if test == "breitung":
         return panel_tests.breitung_test(panel, column, trend=trend, lags=lag_int)
     if test == "hadri":
-        return panel_tests.hadri_test(panel, column, trend="ct" if trend == "ct" else "c")
+        return panel_tests.hadri_test(panel, column, trend=_with_constant(trend))
     return panel_tests.cips_test(panel, column, trend=trend, lags=lag_int)
 
 
 def _row(unit: str, series: str, test: str, res: TestResult, alpha: float) -> dict[str, Any]:
-    lags = res.details.get("lags", res.details.get("bandwidth", ""))
+    lags = res.details.get("lags", res.details.get("hac_lags", ""))
     if isinstance(lags, (list, tuple)):
         lags = f"{min(lags)}-{max(lags)}" if lags else ""
     return {"unit": unit, "series": series, "test": test, "statistic": res.statistic,
@@ -186,17 +184,16 @@ def _decide(rows: list[dict[str, Any]], differences: bool) -> tuple[str, str]:
     return "inconclusive", "levels: unit root; differences: not clearly stationary"
 
 
-def _differenced_panel(panel: Panel, column: str) -> Panel:
-    wide = panel.wide(column)
-    diff = wide.diff()
-    diff.loc[:, :] = np.where(wide.notna() & wide.shift(1).notna(), diff, np.nan)
-    long = diff.stack(future_stack=True).rename(column).reset_index()
-    long.columns = ["time", "unit", column]
-    return load_panel(long[["unit", "time", column]], unit="unit", time="time")
+def _span(y: pd.Series) -> str:
+    years = pd.Series(y).dropna().index
+    try:
+        return format_years(int(v) for v in years)
+    except (TypeError, ValueError):
+        return ""
 
 
 def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None, *,
-                 tests: tuple[str, ...] | None = None, trend: Trend = "c",
+                 tests: tuple[str, ...] | None = None, trend: Trend = "constant",
                  lags: int | str = "aic", max_lags: int | None = None, alpha: float = 0.05,
                  differences: bool = True) -> RootBatteryResult:
     """Run unit-root and stationarity tests on levels and first differences, and decide.
@@ -210,8 +207,8 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
         From ``SERIES_TESTS`` ("adf", "pp", "kpss", "dfgls", "za", "ls") and, for a panel,
         ``PANEL_TESTS`` ("ips", "llc", "fisher", "breitung", "hadri", "cips"). Default
         ("adf", "kpss") for a series, ("adf", "kpss", "ips", "cips") for a panel.
-    trend : {"n", "c", "ct"}
-        Deterministic terms in levels (KPSS, DF-GLS, IPS and Hadri use "c" for "n").
+    trend : {"none", "constant", "trend"}
+        Deterministic terms in levels (KPSS, DF-GLS, IPS and Hadri use "constant" for "none").
     lags, max_lags
         Lag choice of the ADF-type tests.
     alpha : float
@@ -236,16 +233,25 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
     chosen = tuple(check_choice("tests", t, allowed) for t in chosen)
     if not chosen:
         raise SpecError("tests=() is empty; name at least one test, e.g. ('adf', 'kpss').")
-    diff_trend = "n" if trend == "n" else "c"
+    diff_trend = "none" if trend == "none" else "constant"
+    name = column or "series"
+    diff_name = derived_name("diff", name)
     rows: list[dict[str, Any]] = []
     skipped: list[dict[str, str]] = []
     if is_panel:
+        dpanel = data.with_difference(column, name=diff_name) if differences else None
         units = [(u, data.series(u, column).rename(f"{u}: {column}")) for u in data.units]
     else:
-        y = data if isinstance(data, pd.Series) else pd.Series(np.asarray(data, dtype=float))
+        dpanel = None
+        y = data if isinstance(data, pd.Series) else pd.Series(
+            np.asarray(data, dtype=float), index=np.arange(1, np.asarray(data).size + 1))
         units = [(str(y.name) if y.name is not None else "series", y)]
     for unit, y in units:
-        for series, values, tr in (("level", y, trend), ("difference", y.diff(), diff_trend)):
+        if is_panel and dpanel is not None:
+            diff = dpanel.series(unit, diff_name)
+        else:
+            diff = y.diff()
+        for series, values, tr in (("level", y, trend), ("difference", diff, diff_trend)):
             if series == "difference" and not differences:
                 continue
             for test in (t for t in chosen if t in SERIES_TESTS):
@@ -253,23 +259,18 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
                     rows.append(_row(unit, series, test, _series_test(test, values, tr, lags,
                                                                        max_lags), alpha))
                 except DataError as exc:
-                    skipped.append({"unit": unit, "series": series, "test": test, "reason": str(exc)})
+                    skipped.append({"unit": unit,
+                                    "column": name if series == "level" else diff_name,
+                                    "years": _span(values), "reason": f"{test}: {exc}"})
     if is_panel and any(t in PANEL_TESTS for t in chosen):
-        dpanel: Panel | EvidenceError | None = None
-        if differences:
-            try:
-                dpanel = _differenced_panel(data, column)
-            except EvidenceError as exc:
-                dpanel = exc
-        for series, pan, tr in (("level", data, trend), ("difference", dpanel, diff_trend)):
+        for series, pan, col, tr in (("level", data, column, trend),
+                                     ("difference", dpanel, diff_name, diff_trend)):
             if pan is None:
                 continue
             for test in (t for t in chosen if t in PANEL_TESTS):
                 try:
-                    if isinstance(pan, EvidenceError):
-                        raise pan
                     rows.append(_row(PANEL_ROW, series, test,
-                                     _panel_test(test, pan, column, tr, lags, max_lags), alpha))
+                                     _panel_test(test, pan, col, tr, lags, max_lags), alpha))
                 except EvidenceError as exc:
                     rows.append({"unit": PANEL_ROW, "series": series, "test": test,
                                  "statistic": math.nan, "pvalue": math.nan, "cv": math.nan,
@@ -281,12 +282,12 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
         sub = table[table["unit"] == unit].to_dict("records")
         label, reason = _decide(sub, differences) if sub else ("inconclusive", "no test could run")
         decisions.append({"unit": unit, "decision": label, "reason": reason})
-    skipped_frame = pd.DataFrame(skipped, columns=["unit", "series", "test", "reason"])
+    excluded = excluded_frame(skipped)
     warn = []
-    if len(skipped_frame):
-        warn.append(f"{len(skipped_frame)} test(s) skipped for bad data; see 'skipped'.")
+    if len(excluded):
+        warn.append(f"{len(excluded)} test(s) not run for bad data; see 'excluded'.")
     return RootBatteryResult(table=table, decisions=pd.DataFrame(decisions, columns=["unit", "decision", "reason"]),
-                             skipped=skipped_frame, column=column, tests=chosen, trend=trend,
+                             excluded=excluded, column=column, tests=chosen, trend=trend,
                              alpha=alpha, differences=differences, warnings=tuple(warn),
                              details={"difference_trend": diff_trend, "lags": lags,
                                       "max_lags": max_lags})

@@ -28,18 +28,20 @@ juodisreese2022 : Juodis, A. & Reese, S. (2022). The incidental parameters probl
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 import pandas as pd
 from scipy import stats
 
-from evidence._typing import Seed
+from evidence._typing import DEFAULT_SEED, Seed
+from evidence._validation import check_int, check_seed, check_trend
 from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
-from evidence.results import TestResult
-from evidence.roots._common import check_trend, panel_data, trend_columns
+from evidence.results import ResultProtocol, TestResult, excluded_frame
+from evidence.roots._common import excluded_records
+from evidence.roots._unit_batch import trend_columns
 
 __all__ = ["pesaran_cd_test", "lm_test", "scaled_lm_test", "bias_corrected_lm_test",
            "pairwise_correlations", "Correlations", "MIN_OVERLAP"]
@@ -50,9 +52,13 @@ NULL = "no cross-sectional correlation"
 ALT = "cross-sectional correlation"
 
 
-@dataclass(frozen=True)
-class Correlations:
-    """Pairwise correlations (i < j) with their overlaps, and what was left out."""
+@dataclass(frozen=True, eq=False, repr=False)
+class Correlations(ResultProtocol):
+    """Pairwise correlations (i < j) with their overlaps, and what was left out.
+
+    ``excluded`` lists units and years left out of the panel (unit, column, years, reason);
+    ``excluded_pairs`` the pairs sharing too few years.
+    """
 
     rho: np.ndarray
     overlap: np.ndarray
@@ -62,8 +68,28 @@ class Correlations:
     balanced: bool
     demeaned_by_time: bool
     excluded_pairs: tuple[tuple[str, str, int], ...]
-    skipped: tuple[tuple[str, str], ...]
     label: str
+    excluded: pd.DataFrame = field(default_factory=excluded_frame)
+
+    _repr_fields = ("n_units", "nobs", "label")
+
+    def summary(self) -> str:
+        """Pairs used, mean and mean absolute correlation, what was left out."""
+        lines = [f"Pairwise correlations of {self.label}: {self.n_units} units, {self.rho.size} "
+                 f"pairs, mean {np.mean(self.rho):.4f}, mean |rho| {np.mean(np.abs(self.rho)):.4f}"]
+        if self.excluded_pairs:
+            lines.append(f"  {len(self.excluded_pairs)} pair(s) share too few years")
+        lines += [f"  left out: {r.unit} {r.years} ({r.reason})" for r in self.excluded.itertuples()]
+        return "\n".join(lines)
+
+    def to_frame(self) -> pd.DataFrame:
+        """One row per pair used: the two units, their overlap and correlation."""
+        iu = np.triu_indices(self.n_units, k=1)
+        dropped = {(a, b) for a, b, _ in self.excluded_pairs}
+        pairs = [(self.units[i], self.units[j]) for i, j in zip(*iu)
+                 if (self.units[i], self.units[j]) not in dropped]
+        return pd.DataFrame({"unit_a": [a for a, _ in pairs], "unit_b": [b for _, b in pairs],
+                             "overlap": self.overlap.astype(int), "correlation": self.rho})
 
 
 def pairwise_correlations(u: np.ndarray, min_overlap: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -81,38 +107,47 @@ def pairwise_correlations(u: np.ndarray, min_overlap: int) -> tuple[np.ndarray, 
     return r, c, keep
 
 
+def _residual_table(data: pd.Series | pd.DataFrame, column: str | None
+                    ) -> tuple[np.ndarray, tuple[str, ...]]:
+    """Residuals indexed by (unit, time) as a ``(T, N)`` array (NaN where a unit has none)."""
+    if isinstance(data, pd.DataFrame):
+        if column is None and data.shape[1] != 1:
+            raise SpecError("residuals given as a table need column= (or pass one column).")
+        data = data[column] if column is not None else data.iloc[:, 0]
+    if not isinstance(data.index, pd.MultiIndex) or data.index.nlevels != 2:
+        raise DataError("residuals must be indexed by (unit, time), e.g. the resids of a "
+                        "linearmodels panel estimate.")
+    if data.index.duplicated().any():
+        unit, time = data.index[data.index.duplicated()][0]
+        raise DataError(f"residuals hold unit '{unit}', time {time} twice; one value each.")
+    table = data.astype(float).unstack(level=0)
+    return table.to_numpy(dtype=float), tuple(str(u) for u in table.columns)
+
+
 def _as_wide(data: Any, column: str | None, trend: str, min_overlap: int) -> Correlations:
-    skipped: tuple[tuple[str, str], ...] = ()
+    excluded = excluded_frame()
     if isinstance(data, Panel):
         if column is None:
             raise SpecError("column= is needed with a Panel (the variable to test).")
-        pdat = panel_data(data, column, purpose="a cross-sectional dependence test")
-        wide, units, skipped, label = pdat.values, pdat.units, pdat.skipped, f"column '{column}'"
+        block = data.arrays(column, span="own", gaps="longest", short="exclude",
+                            min_years=min_overlap, purpose="a cross-sectional dependence test",
+                            require_units=2)
+        wide, units, label = block.column(0), block.units, f"column '{column}'"
+        excluded = block.excluded
     elif isinstance(data, (pd.Series, pd.DataFrame)):
-        if isinstance(data, pd.DataFrame):
-            if column is None and data.shape[1] != 1:
-                raise SpecError("residuals given as a table need column= (or pass one column).")
-            data = data[column] if column is not None else data.iloc[:, 0]
-        if not isinstance(data.index, pd.MultiIndex) or data.index.nlevels != 2:
-            raise DataError("residuals must be indexed by (unit, time), e.g. the resids of a "
-                            "linearmodels panel estimate.")
-        if data.index.duplicated().any():
-            unit, time = data.index[data.index.duplicated()][0]
-            raise DataError(f"residuals hold unit '{unit}', time {time} twice; one value each.")
-        table = data.astype(float).unstack(level=0)
-        units = tuple(str(u) for u in table.columns)
-        wide, label = table.to_numpy(dtype=float), "the residuals"
+        wide, units = _residual_table(data, column)
+        label = "the residuals"
+        if wide.shape[1] < 2:
+            raise DataError(f"{label} has values for {wide.shape[1]} unit(s); a cross-sectional "
+                            "dependence test needs at least 2.")
+        for j, unit in enumerate(units):
+            col = wide[~np.isnan(wide[:, j]), j]
+            if col.size and np.ptp(col) == 0:
+                raise DataError(f"unit '{unit}' is constant in {label}; its correlations are "
+                                "undefined. Drop the unit.")
     else:
         raise DataError("pass a Panel and a column, or residuals as a pandas Series indexed by "
                         f"(unit, time); got {type(data).__name__}.")
-    if wide.shape[1] < 2:
-        raise DataError(f"{label} has values for {wide.shape[1]} unit(s); a cross-sectional "
-                        "dependence test needs at least 2.")
-    for j, unit in enumerate(units):
-        col = wide[~np.isnan(wide[:, j]), j]
-        if col.size and np.ptp(col) == 0:
-            raise DataError(f"unit '{unit}' is constant in {label}; its correlations are undefined. "
-                            "Drop the unit.")
     wide = _detrend(wide, trend)
     present = ~np.isnan(wide)
     full_rows = present.all(axis=1)
@@ -121,31 +156,29 @@ def _as_wide(data: Any, column: str | None, trend: str, min_overlap: int) -> Cor
         atol=1e-8 * max(float(np.nanmax(np.abs(wide))), 1e-300) * wide.shape[1]))
     rho, overlap, keep = pairwise_correlations(wide, min_overlap)
     iu = np.triu_indices(len(units), k=1)
-    excluded = tuple((units[i], units[j], int(c)) for i, j, c, k in
-                     zip(iu[0], iu[1], overlap, keep) if not k)
+    excluded_pairs = tuple((units[i], units[j], int(c)) for i, j, c, k in
+                           zip(iu[0], iu[1], overlap, keep) if not k)
     if not keep.any():
         raise DataError(f"no pair of units shares {min_overlap} years in {label}; lower "
                         "min_overlap or use a longer panel.")
-    return Correlations(rho[keep], overlap[keep], units, len(units), int(present.sum()),
-                        bool(present.all()), demeaned, excluded, skipped, label)
+    return Correlations(rho[keep], overlap[keep], tuple(units), len(units), int(present.sum()),
+                        bool(present.all()), demeaned, excluded_pairs, label, excluded)
 
 
 def _detrend(wide: np.ndarray, trend: str) -> np.ndarray:
-    if trend != "ct":
+    if trend != "trend":
         return wide
     out = np.full_like(wide, np.nan)
     for j in range(wide.shape[1]):
         rows = ~np.isnan(wide[:, j])
-        x = trend_columns(int(rows.sum()), "ct")
+        x = trend_columns(int(rows.sum()), "trend")
         beta, *_ = np.linalg.lstsq(x, wide[rows, j], rcond=None)
         out[rows, j] = wide[rows, j] - x @ beta
     return out
 
 
 def _check(min_overlap: Any) -> int:
-    if isinstance(min_overlap, bool) or not isinstance(min_overlap, int) or min_overlap < 3:
-        raise SpecError(f"min_overlap={min_overlap!r} must be an integer of at least 3.")
-    return min_overlap
+    return check_int("min_overlap", min_overlap, minimum=3)  # type: ignore[return-value]
 
 
 def _details(c: Correlations, trend: str, min_overlap: int) -> dict[str, Any]:
@@ -155,7 +188,7 @@ def _details(c: Correlations, trend: str, min_overlap: int) -> dict[str, Any]:
             "mean_correlation": float(np.mean(c.rho)),
             "demeaned_by_time": c.demeaned_by_time,
             "excluded_pairs": [{"unit_a": a, "unit_b": b, "overlap": o} for a, b, o in c.excluded_pairs],
-            "skipped": [{"unit": u, "reason": r} for u, r in c.skipped]}
+            "excluded": excluded_records(c.excluded)}
 
 
 def _warnings(c: Correlations) -> list[str]:
@@ -163,23 +196,23 @@ def _warnings(c: Correlations) -> list[str]:
     if c.excluded_pairs:
         warn.append(f"{len(c.excluded_pairs)} pair(s) share too few years and are left out; see "
                     "details['excluded_pairs'].")
-    if c.skipped:
-        warn.append(f"{len(c.skipped)} unit(s) without values skipped; see details['skipped'].")
+    if len(c.excluded):
+        warn.append(f"{len(c.excluded)} item(s) left out of the panel; see details['excluded'].")
     return warn
 
 
 def pesaran_cd_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
-                    trend: str = "c", min_overlap: int = MIN_OVERLAP,
-                    random_signs: bool | None = None, seed: Seed = 0) -> TestResult:
+                    trend: str = "constant", min_overlap: int = MIN_OVERLAP,
+                    random_signs: bool | None = None, seed: Seed = DEFAULT_SEED) -> TestResult:
     """Pesaran's CD test of cross-sectional dependence (unbalanced panels by pairwise overlap).
 
     Parameters
     ----------
     data : Panel or pandas.Series
         A panel (with ``column``) or residuals indexed by (unit, time).
-    trend : {"c", "ct"}
-        "c": correlations of the series as they are (each centred); "ct": of each unit's
-        deviations from its own linear trend.
+    trend : {"constant", "trend"}
+        "constant": correlations of the series as they are (each centred); "trend": of each
+        unit's deviations from its own linear trend.
     min_overlap : int
         Fewest shared years for a pair to enter.
     random_signs : bool, optional
@@ -199,12 +232,13 @@ def pesaran_cd_test(data: Panel | pd.Series | pd.DataFrame, column: str | None =
     ----------
     pesaran2004; pesaran2015; juodisreese2022 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
+    trend = check_trend(trend, ("constant", "trend"))
     min_overlap = _check(min_overlap)
     c = _as_wide(data, column, trend, min_overlap)
     use_signs = c.demeaned_by_time if random_signs is None else bool(random_signs)
     weights = np.ones(c.rho.size)
     if use_signs:
+        seed = check_seed(seed)
         rng = seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
         w = rng.choice([-1.0, 1.0], size=c.n_units)
         iu = np.triu_indices(c.n_units, k=1)
@@ -235,7 +269,7 @@ def _time_effects_warning(c: Correlations) -> list[str]:
 
 
 def lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
-            trend: str = "c", min_overlap: int = MIN_OVERLAP) -> TestResult:
+            trend: str = "constant", min_overlap: int = MIN_OVERLAP) -> TestResult:
     """Breusch–Pagan LM test of cross-sectional correlation (for small N, large T).
 
     Notes
@@ -248,7 +282,7 @@ def lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *
     ----------
     breuschpagan1980 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
+    trend = check_trend(trend, ("constant", "trend"))
     c = _as_wide(data, column, trend, _check(min_overlap))
     stat = float(np.sum(c.overlap * c.rho ** 2))
     m = c.rho.size
@@ -261,7 +295,7 @@ def lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *
 
 
 def scaled_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
-                   trend: str = "c", min_overlap: int = MIN_OVERLAP) -> TestResult:
+                   trend: str = "constant", min_overlap: int = MIN_OVERLAP) -> TestResult:
     """Pesaran's scaled LM test: ``sqrt(1/(2M)) Σ_{i<j} (T_ij ρ̂²_ij - 1)`` → N(0,1).
 
     With all pairs, ``2M = N(N-1)``. H0: no cross-sectional correlation; H1: correlation.
@@ -271,7 +305,7 @@ def scaled_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = 
     ----------
     pesaran2004 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
+    trend = check_trend(trend, ("constant", "trend"))
     c = _as_wide(data, column, trend, _check(min_overlap))
     stat = float(np.sum(c.overlap * c.rho ** 2 - 1.0) / math.sqrt(2.0 * c.rho.size))
     return TestResult(test="Pesaran scaled LM", statistic=stat, pvalue=float(stats.norm.sf(stat)),
@@ -282,7 +316,7 @@ def scaled_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = 
 
 
 def bias_corrected_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
-                           trend: str = "c", min_overlap: int = MIN_OVERLAP) -> TestResult:
+                           trend: str = "constant", min_overlap: int = MIN_OVERLAP) -> TestResult:
     """Baltagi–Feng–Kao bias-corrected scaled LM test (balanced panels; fixed-effects residuals).
 
     Notes
@@ -296,7 +330,7 @@ def bias_corrected_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str |
     ----------
     bfk2012 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
+    trend = check_trend(trend, ("constant", "trend"))
     c = _as_wide(data, column, trend, _check(min_overlap))
     if not c.balanced or c.excluded_pairs:
         return TestResult.inapplicable(

@@ -5,8 +5,9 @@ combinations (Maddala–Wu, Choi), Breitung, Hadri. Second generation: Pesaran's
 ``_cips.py``, re-exported here). Every test takes a :class:`~evidence.panel.Panel` and a column.
 IPS and the Fisher tests accept unbalanced panels (units may start or end in different years);
 LLC, Breitung, Hadri and CIPS need a balanced panel and say which unit breaks it. A unit without
-any value is skipped and listed in ``details["skipped"]``; a gap inside a unit, a constant unit
-or one too short for the lags raises :class:`~evidence.errors.DataError` naming it.
+any value is left out and listed in ``details["excluded"]`` (unit, column, years, reason); a gap
+inside a unit, a constant unit or one too short for the lags raises
+:class:`~evidence.errors.DataError` naming it.
 
 References
 ----------
@@ -33,20 +34,18 @@ import numpy as np
 from scipy import stats
 
 from evidence._typing import Trend
-from evidence._validation import check_choice
-from evidence.errors import DataError, SpecError
+from evidence._validation import check_choice, check_int, check_lags, check_max_lags, check_trend
+from evidence.errors import SpecError
 from evidence.panel import Panel
 from evidence.results import TestResult
 from evidence.roots import _ips_tables as tables
 from evidence.roots._cips import cips_test
 from evidence.roots._common import (
-    PanelData,
-    check_lags,
-    check_max_lags,
-    check_panel_units,
-    check_trend,
-    default_max_lags,
-    panel_data,
+    ARCH_TREND,
+    N_DETERMINISTIC,
+    ColumnBlock,
+    column_block,
+    excluded_records,
     require_balanced,
 )
 from evidence.roots._panel_math import (
@@ -57,53 +56,38 @@ from evidence.roots._panel_math import (
     ips_moments,
     ips_w,
     llc_statistic,
+    prewhiten_differences,
 )
-from evidence.roots.series import adf_test, pp_test
+from evidence.roots._panel_units import unit_adf, unit_pp
 
 __all__ = ["llc_test", "ips_test", "fisher_test", "breitung_test", "hadri_test", "cips_test",
-           "unit_adf", "FISHER_COMBINATIONS"]
+           "FISHER_COMBINATIONS"]
 
 UNIT_ROOT_ALL = "every unit has a unit root"
 SOME_STATIONARY = "some units are stationary"
 #: Fisher-type combinations: Maddala–Wu P, Choi's inverse normal Z, modified Pm, logit L*.
 FISHER_COMBINATIONS = ("p", "z", "pm", "l")
 _FISHER_NAMES = {"p": "Maddala-Wu P", "z": "Choi Z", "pm": "Choi Pm", "l": "Choi L*"}
+#: IPS (2003) Table 3 covers lag orders 0..8.
+IPS_TABLE_MAX_LAGS = 8
 
 
 def _min_obs(trend: str, lags: Any, max_lags: int | None) -> int:
     k = lags if isinstance(lags, int) else (max_lags or 0)
-    return k + len(trend.replace("n", "")) + 5
+    return k + N_DETERMINISTIC[trend] + 5
 
 
-def _skipped(data: PanelData) -> list[dict[str, str]]:
-    return [{"unit": u, "reason": r} for u, r in data.skipped]
+def _warnings(block: ColumnBlock) -> list[str]:
+    return ([f"{len(block.excluded)} item(s) left out; see details['excluded']."]
+            if len(block.excluded) else [])
 
 
-def _warnings(data: PanelData) -> list[str]:
-    return ([f"{len(data.skipped)} unit(s) without values skipped; see details['skipped']."]
-            if data.skipped else [])
+def _block(panel: Panel, column: str, trend: str, lags: Any, max_lags: int | None,
+           purpose: str) -> ColumnBlock:
+    return column_block(panel, column, min_obs=_min_obs(trend, lags, max_lags), purpose=purpose)
 
 
-def unit_adf(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str = "aic",
-             max_lags: int | None = None, purpose: str = "a panel ADF test"
-             ) -> tuple[PanelData, list[TestResult]]:
-    """The panel column and an ADF result (``arch``) for every unit with data."""
-    trend = check_trend(trend)
-    lags = check_lags(lags)
-    max_lags = check_max_lags(max_lags)
-    data = panel_data(panel, column, purpose=purpose)
-    check_panel_units(data, min_obs=_min_obs(trend, lags, max_lags), purpose=purpose)
-    results = []
-    for j, unit in enumerate(data.units):
-        s = data.unit_series(j)
-        try:
-            results.append(adf_test(s.values, trend=trend, lags=lags, max_lags=max_lags))
-        except DataError as exc:
-            raise DataError(f"unit '{unit}' (column '{column}'): {exc}") from None
-    return data, results
-
-
-def ips_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str = "aic",
+def ips_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int | str = "aic",
              max_lags: int | None = None) -> TestResult:
     """Im–Pesaran–Shin W-tbar test (heterogeneous panel; unbalanced allowed).
 
@@ -115,23 +99,21 @@ def ips_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str =
     of IPS (2003) Table 3 at the unit's lag order and regression length ``T_i - p_i - 1``
     (linear interpolation in T; the nearest end of the table outside it, with a warning).
     H0: every unit has a unit root; H1: some units are stationary. Reject for small W.
-    ``trend`` is "c" or "ct"; lag orders above 8 are not tabulated, so with automatic lags
-    ``max_lags`` defaults to the smaller of 8 and arch's default.
+    ``trend`` is "constant" or "trend"; lag orders above 8 are not tabulated, so with automatic
+    lags ``max_lags`` defaults to the package's rule bounded by 8 and by each unit's length.
 
     References
     ----------
     ips2003 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
-    if max_lags is None and isinstance(lags, str):
-        max_lags = min(8, default_max_lags(len(panel.years), trend))
-    data, res = unit_adf(panel, column, trend=trend, lags=lags, max_lags=max_lags,
-                         purpose="the IPS test")
-    t = np.array([r.statistic for r in res])
-    p = np.array([r.details["lags"] for r in res])
-    n_reg = np.array([r.nobs for r in res])
-    if p.max() > 8:
-        unit = data.units[int(np.argmax(p))]
+    trend = check_trend(trend, ("constant", "trend"))
+    lags = check_lags(lags)
+    max_lags = check_max_lags(max_lags)
+    block = _block(panel, column, trend, lags, max_lags, "the IPS test")
+    units = unit_adf(block, trend, lags, max_lags, table_max=IPS_TABLE_MAX_LAGS)
+    t, p, n_reg = units.stat, units.lags, units.nobs
+    if p.max() > IPS_TABLE_MAX_LAGS:
+        unit = block.units[int(np.argmax(p))]
         return TestResult.inapplicable(
             "IPS W-tbar", reason=f"unit '{unit}' uses {p.max()} lags; IPS moments are tabulated "
             "for 0-8 lags. Set max_lags=8 or fewer.", nobs=int(n_reg.sum()), reference="ips2003")
@@ -139,23 +121,25 @@ def ips_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str =
     if np.isnan(means).any():
         i = int(np.flatnonzero(np.isnan(means))[0])
         return TestResult.inapplicable(
-            "IPS W-tbar", reason=f"unit '{data.units[i]}': {p[i]} lags with {n_reg[i]} regression "
+            "IPS W-tbar", reason=f"unit '{block.units[i]}': {p[i]} lags with {n_reg[i]} regression "
             "observations is not tabulated by IPS (2003); use fewer lags.",
             nobs=int(n_reg.sum()), reference="ips2003")
     n = t.size
     tbar = float(t.mean())
     w = float(ips_w(t, means, variances))
-    warn = _warnings(data)
+    warn = _warnings(block)
     if outside:
         warn.append("some regression lengths lie outside IPS Table 3 (T=10..100); the nearest "
                     "tabulated moments were used.")
     details: dict[str, Any] = {
         "trend": trend, "tbar": tbar, "units": n, "lags": p.tolist(),
-        "lag_choice": "fixed" if isinstance(check_lags(lags), int) else lags,
+        "lag_choice": "fixed" if isinstance(lags, int) else lags,
+        "max_lags": units.max_lags.tolist(),
         "regression_obs": n_reg.tolist(), "mean_moment": float(means.mean()),
-        "var_moment": float(variances.mean()), "balanced": data.balanced,
-        "unit_tstats": dict(zip(data.units, t.round(6).tolist())), "skipped": _skipped(data)}
-    if (p == 0).all() and trend == "c":
+        "var_moment": float(variances.mean()), "balanced": block.balanced,
+        "unit_tstats": dict(zip(block.units, t.round(6).tolist())),
+        "excluded": excluded_records(block.excluded)}
+    if (p == 0).all() and trend == "constant":
         zm, _ = interpolate_in_t(np.array(tables.IPS_ZBAR_T), np.array(tables.IPS_ZBAR_MEAN),
                                  float(n_reg.mean()))
         zv, _ = interpolate_in_t(np.array(tables.IPS_ZBAR_T), np.array(tables.IPS_ZBAR_VAR),
@@ -168,8 +152,8 @@ def ips_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str =
 
 
 def fisher_test(panel: Panel, column: str, *, combine: str = "pm", unit_test: str = "adf",
-                trend: Trend = "c", lags: int | str = "aic",
-                max_lags: int | None = None) -> TestResult:
+                trend: Trend = "constant", lags: int | str = "aic", max_lags: int | None = None,
+                hac_lags: int | None = None) -> TestResult:
     """Fisher-type test combining the units' unit-root p-values (unbalanced allowed).
 
     Parameters
@@ -178,8 +162,8 @@ def fisher_test(panel: Panel, column: str, *, combine: str = "pm", unit_test: st
         The reported statistic: Maddala–Wu P (χ²(2N)), Choi's inverse normal Z, Choi's modified
         Pm (for large N) or Choi's logit L*. All four are in ``details["combinations"]``.
     unit_test : {"adf", "pp"}
-        Unit p-values from ADF (``lags``, ``max_lags``) or Phillips–Perron (``lags`` = bandwidth,
-        int or None), both MacKinnon p-values via arch.
+        Unit p-values from ADF (``lags``, ``max_lags``) or Phillips–Perron (``hac_lags``, the
+        Bartlett bandwidth; ``None`` for the Newey–West rule), both MacKinnon p-values via arch.
 
     Notes
     -----
@@ -192,21 +176,22 @@ def fisher_test(panel: Panel, column: str, *, combine: str = "pm", unit_test: st
     ----------
     maddalawu1999; choi2001 (see the module docstring).
     """
+    from arch.unitroot.unitroot import mackinnonp
+
     combine = check_choice("combine", combine, FISHER_COMBINATIONS)
     unit_test = check_choice("unit_test", unit_test, ("adf", "pp"))
+    trend = check_trend(trend)
+    hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
     if unit_test == "adf":
-        data, res = unit_adf(panel, column, trend=trend, lags=lags, max_lags=max_lags,
-                             purpose="the Fisher test")
+        lags = check_lags(lags)
+        max_lags = check_max_lags(max_lags)
+        block = _block(panel, column, trend, lags, max_lags, "the Fisher test")
+        units = unit_adf(block, trend, lags, max_lags)
     else:
-        trend = check_trend(trend)
-        if lags is not None and not isinstance(lags, int):
-            raise SpecError(f"lags={lags!r}: with unit_test='pp' lags is the bandwidth (an "
-                            "integer) or None for the default.")
-        data = panel_data(panel, column, purpose="the Fisher test")
-        check_panel_units(data, min_obs=_min_obs(trend, lags, None), purpose="the Fisher test")
-        res = [pp_test(data.unit_series(j).values, trend=trend, lags=lags)
-               for j in range(len(data.units))]
-    pvals = np.clip(np.array([r.pvalue for r in res]), 1e-16, 1 - 1e-16)
+        block = _block(panel, column, trend, 0, None, "the Fisher test")
+        units = unit_pp(block, trend, hac_lags)
+    raw = np.array([mackinnonp(float(t), ARCH_TREND[trend]) for t in units.stat])
+    pvals = np.clip(raw, 1e-16, 1 - 1e-16)
     combos = combine_pvalues(pvals)
     stat, pvalue = combos[combine]
     tail = "lower" if combine in ("z", "l") else "upper"
@@ -221,19 +206,19 @@ def fisher_test(panel: Panel, column: str, *, combine: str = "pm", unit_test: st
     return TestResult(
         test=f"Fisher ({_FISHER_NAMES[combine]})", statistic=stat, pvalue=pvalue,
         critical_values=cv, null=UNIT_ROOT_ALL, alternative=SOME_STATIONARY,
-        nobs=int(sum(r.nobs for r in res)),
+        nobs=int(units.nobs.sum()),
         details={"combine": combine, "unit_test": unit_test, "trend": trend, "tail": tail,
                  "units": pvals.size, "combinations": {k: {"statistic": v[0], "pvalue": v[1]}
                                                        for k, v in combos.items()},
-                 "unit_pvalues": dict(zip(data.units, pvals.round(6).tolist())),
-                 "unit_lags": [r.details.get("lags", r.details.get("bandwidth")) for r in res],
-                 "balanced": data.balanced, "skipped": _skipped(data)},
+                 "unit_pvalues": dict(zip(block.units, pvals.round(6).tolist())),
+                 "unit_lags": units.lags.tolist(),
+                 "balanced": block.balanced, "excluded": excluded_records(block.excluded)},
         reference="maddalawu1999; choi2001" if combine != "p" else "maddalawu1999",
-        warnings=tuple(_warnings(data)))
+        warnings=tuple(_warnings(block)))
 
 
-def llc_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str = "aic",
-             max_lags: int | None = None, bandwidth: int | None = None) -> TestResult:
+def llc_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int | str = "aic",
+             max_lags: int | None = None, hac_lags: int | None = None) -> TestResult:
     """Levin–Lin–Chu test with a common autoregressive root (balanced panel).
 
     Notes
@@ -241,10 +226,11 @@ def llc_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str =
     Per unit, ``p_i`` lags (fixed or chosen by ``lags`` via the unit ADF); ẽ_it and ṽ_{i,t-1}
     are the residuals of Δy_it and y_{i,t-1} on the lagged differences and ``d_t``, divided by
     the ADF regression's s.d. σ_εi. ``s_i = σ_yi/σ_εi`` with σ²_yi the Bartlett long-run
-    variance of Δy_i, bandwidth ``K = round(3.21 T^{1/3})`` (default); Δy_i is demeaned only
-    for "ct" (under H0 of "n" and "c" it has no drift, and demeaning it biases σ_yi down at
-    small T: 24 % rejections at 5 % with N=10, T=30 in our simulation, 6 % without). Pooled OLS of ẽ on ṽ
-    gives δ̂, its t-ratio t_δ and ``σ̂²_ε = SSR/(N T̃)``, ``T̃ = T - p̄ - 1``; then
+    variance of Δy_i, bandwidth ``hac_lags`` (default ``round(3.21 T^{1/3})``, LLC's rule);
+    Δy_i is demeaned only for "trend" (under H0 of "none" and "constant" it has no drift, and
+    demeaning it biases σ_yi down at small T: 24 % rejections at 5 % with N=10, T=30 in our
+    simulation, 6 % without). Pooled OLS of ẽ on ṽ gives δ̂, its t-ratio t_δ and
+    ``σ̂²_ε = SSR/(N T̃)``, ``T̃ = T - p̄ - 1``; then
     ``t*_δ = (t_δ - N T̃ S_N σ̂_ε⁻² STD(δ̂) μ*_T̃) / σ*_T̃`` → N(0,1), ``S_N = N⁻¹ Σ s_i``, with
     μ*, σ* from LLC (2002) Table 2 by T̃ (linear interpolation). H0: every unit has a unit root
     (δ = 0); H1: every unit is stationary with a common δ < 0. Reject for small values.
@@ -254,19 +240,19 @@ def llc_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str =
     llc2002 (see the module docstring).
     """
     trend = check_trend(trend)
-    data, res = unit_adf(panel, column, trend=trend, lags=lags, max_lags=max_lags,
-                         purpose="the LLC test")
-    require_balanced(data, purpose="the LLC test")
-    y = data.values
+    lags = check_lags(lags)
+    max_lags = check_max_lags(max_lags)
+    hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
+    block = _block(panel, column, trend, lags, max_lags, "the LLC test")
+    require_balanced(block, purpose="the LLC test")
+    units = unit_adf(block, trend, lags, max_lags)
+    y = block.values
     nobs, n = y.shape
-    if bandwidth is None:
-        bandwidth = int(round(3.21 * nobs ** (1.0 / 3.0)))
-    elif isinstance(bandwidth, bool) or not isinstance(bandwidth, int) or bandwidth < 0:
-        raise SpecError(f"bandwidth={bandwidth!r} must be a non-negative integer or None.")
-    p = np.array([r.details["lags"] for r in res])
-    pieces = llc_statistic(y, trend, p, bandwidth)
+    if hac_lags is None:
+        hac_lags = int(round(3.21 * nobs ** (1.0 / 3.0)))
+    pieces = llc_statistic(y, trend, units.lags, hac_lags)
     stat, t_tilde = pieces["statistic"], pieces["t_tilde"]
-    warn = _warnings(data)
+    warn = _warnings(block)
     if pieces["outside"]:
         warn.append(f"T~={t_tilde:.1f} lies outside LLC Table 2 (25..500); the nearest row was used. "
                     "LLC is meant for moderate to large T.")
@@ -275,22 +261,22 @@ def llc_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int | str =
         critical_values={a: float(stats.norm.ppf(a)) for a in (0.01, 0.05, 0.10)},
         null=UNIT_ROOT_ALL, alternative="every unit is stationary (common autoregressive root)",
         nobs=int(pieces["nobs"]),
-        details={"trend": trend, "lags": p.tolist(), "bandwidth": bandwidth,
+        details={"trend": trend, "lags": units.lags.tolist(), "hac_lags": hac_lags,
                  **{k: pieces[k] for k in ("delta", "t_delta", "t_tilde", "s_n", "mu_star",
                                            "sigma_star")},
-                 "units": n, "skipped": _skipped(data)},
+                 "units": n, "excluded": excluded_records(block.excluded)},
         reference="llc2002", warnings=tuple(warn))
 
 
-def breitung_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int = 0) -> TestResult:
+def breitung_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int = 0) -> TestResult:
     """Breitung's unbiased panel unit-root test (balanced panel).
 
     Notes
     -----
     With ``lags = p > 0`` each unit is prewhitened: Δy_t is regressed on Δy_{t-1..t-p} (and a
-    constant for "ct"), and the levels are rebuilt as the cumulated residuals. Then
-    "c": ``y*_t = y_t - y_1``; "ct": ``y*_t = y_t - y_1 - (t-1)(y_T - y_1)/(T-1)`` and the
-    differences are replaced by forward orthogonal deviations; "n": no transformation.
+    constant for "trend"), and the levels are rebuilt as the cumulated residuals. Then
+    "constant": ``y*_t = y_t - y_1``; "trend": ``y*_t = y_t - y_1 - (t-1)(y_T - y_1)/(T-1)`` and
+    the differences are replaced by forward orthogonal deviations; "none": no transformation.
     ``λ = Σ_i σ̂_i⁻² Σ_t Δy*_it y*_{i,t-1} / sqrt(Σ_i σ̂_i⁻² Σ_t y*²_{i,t-1})`` → N(0,1).
     H0: every unit has a unit root; H1: every unit is stationary (common root). Reject for
     small values.
@@ -300,73 +286,63 @@ def breitung_test(panel: Panel, column: str, *, trend: Trend = "c", lags: int = 
     breitung2000 (see the module docstring).
     """
     trend = check_trend(trend)
-    lags = check_lags(lags, methods=())  # type: ignore[assignment]
-    data = panel_data(panel, column, purpose="the Breitung test")
-    check_panel_units(data, min_obs=lags + 6, purpose="the Breitung test")
-    require_balanced(data, purpose="the Breitung test")
-    y = data.values
+    lags = check_lags(lags, rules=())  # type: ignore[assignment]
+    block = column_block(panel, column, min_obs=lags + 6, purpose="the Breitung test")
+    require_balanced(block, purpose="the Breitung test")
+    y = block.values
     if lags > 0:
-        dy = np.diff(y, axis=0)
-        rows = dy.shape[0] - lags
-        white = np.empty((rows, y.shape[1]))
-        for i in range(y.shape[1]):
-            x = np.column_stack([dy[lags - k:dy.shape[0] - k, i] for k in range(1, lags + 1)])
-            if trend == "ct":
-                x = np.column_stack([np.ones(rows), x])
-            beta, *_ = np.linalg.lstsq(x, dy[lags:, i], rcond=None)
-            white[:, i] = dy[lags:, i] - x @ beta
-        y = np.vstack([np.zeros((1, y.shape[1])), np.cumsum(white, axis=0)])
+        y = prewhiten_differences(y, trend, np.full(y.shape[1], lags), lags)[0]
     stat = breitung_statistic(y, trend)
     return TestResult(
         test="Breitung", statistic=stat, pvalue=float(stats.norm.cdf(stat)),
         critical_values={a: float(stats.norm.ppf(a)) for a in (0.01, 0.05, 0.10)},
         null=UNIT_ROOT_ALL, alternative="every unit is stationary (common autoregressive root)",
         nobs=int(y.shape[0] * y.shape[1]),
-        details={"trend": trend, "lags": lags, "units": y.shape[1], "skipped": _skipped(data)},
-        reference="breitung2000", warnings=tuple(_warnings(data)))
+        details={"trend": trend, "lags": lags, "units": y.shape[1],
+                 "excluded": excluded_records(block.excluded)},
+        reference="breitung2000", warnings=tuple(_warnings(block)))
 
 
-def hadri_test(panel: Panel, column: str, *, trend: Trend = "c", robust: bool = True,
-               lags: int = 0) -> TestResult:
+def hadri_test(panel: Panel, column: str, *, trend: Trend = "constant", robust: bool = True,
+               hac_lags: int | None = 0) -> TestResult:
     """Hadri's LM test of stationarity in every unit (balanced panel); note the reversed null.
 
     Parameters
     ----------
-    trend : {"c", "ct"}
+    trend : {"constant", "trend"}
     robust : bool
         True: each unit's statistic uses its own variance (heteroskedasticity across units);
         False: one pooled variance.
-    lags : int
+    hac_lags : int
         Bartlett bandwidth of the variance (0: no serial-correlation correction).
 
     Notes
     -----
     ``e_it`` residuals of y_it on d_t, ``S_it = Σ_{s≤t} e_is``, ``LM_i = T⁻² Σ_t S²_it / σ̂²_i``
     (robust) and ``LM = N⁻¹ Σ LM_i``; non-robust: ``LM = N⁻¹ Σ_i T⁻² Σ_t S²_it / σ̂²`` with σ̂²
-    the mean of the σ̂²_i. ``Z = √N (LM - ξ)/ζ`` → N(0,1) with ξ = 1/6, ζ² = 1/45 ("c") and
-    ξ = 1/15, ζ² = 11/6300 ("ct"). Each LM_i (robust) is the unit's KPSS statistic.
+    the mean of the σ̂²_i. ``Z = √N (LM - ξ)/ζ`` → N(0,1) with ξ = 1/6, ζ² = 1/45 ("constant")
+    and ξ = 1/15, ζ² = 11/6300 ("trend"). Each LM_i (robust) is the unit's KPSS statistic.
     H0: every unit is stationary; H1: some units have a unit root. Reject for large Z.
 
     References
     ----------
     hadri2000 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
-    lags = check_lags(lags, methods=())  # type: ignore[assignment]
+    trend = check_trend(trend, ("constant", "trend"))
+    hac_lags = check_int("hac_lags", hac_lags, minimum=0)
     if not isinstance(robust, bool):
         raise SpecError(f"robust={robust!r} must be True or False.")
-    data = panel_data(panel, column, purpose="the Hadri test")
-    check_panel_units(data, min_obs=max(lags + 3, 5), purpose="the Hadri test")
-    require_balanced(data, purpose="the Hadri test")
-    z, lm, unit_lm = hadri_statistic(data.values, trend, robust, lags)
-    n = data.values.shape[1]
+    block = column_block(panel, column, min_obs=max(hac_lags + 3, 5), purpose="the Hadri test")
+    require_balanced(block, purpose="the Hadri test")
+    z, lm, unit_lm = hadri_statistic(block.values, trend, robust, hac_lags)
+    n = block.values.shape[1]
     return TestResult(
         test="Hadri" + (" (robust)" if robust else ""), statistic=z,
         pvalue=float(stats.norm.sf(z)),
         critical_values={a: float(stats.norm.isf(a)) for a in (0.01, 0.05, 0.10)},
         null="every unit is stationary", alternative="some units have a unit root",
-        nobs=int(data.values.size),
-        details={"trend": trend, "robust": robust, "bandwidth": lags, "lm": lm, "units": n,
-                 "unit_lm": dict(zip(data.units, unit_lm.round(6).tolist())),
-                 "skipped": _skipped(data)},
-        reference="hadri2000", warnings=tuple(_warnings(data)))
+        nobs=int(block.values.size),
+        details={"trend": trend, "robust": robust, "hac_lags": hac_lags, "lm": lm, "units": n,
+                 "unit_lm": dict(zip(block.units, unit_lm.round(6).tolist())),
+                 "excluded": excluded_records(block.excluded)},
+        reference="hadri2000", warnings=tuple(_warnings(block)))

@@ -39,19 +39,14 @@ import numpy as np
 from arch.unitroot import ADF, DFGLS, KPSS, PhillipsPerron, ZivotAndrews
 from arch.utility.exceptions import InfeasibleTestException
 
+from evidence._arrays import SeriesData, clean_series, series_values
+from evidence._hac import newey_west_lags
 from evidence._typing import Trend
-from evidence._validation import check_choice
+from evidence._validation import check_choice, check_int, check_lags, check_max_lags, check_number, check_trend
 from evidence.errors import DataError, SpecError
 from evidence.results import TestResult
 from evidence.roots import _lee_strazicich_tables as ls_tables
-from evidence.roots._common import (
-    SeriesData,
-    as_series,
-    check_lags,
-    check_max_lags,
-    check_trend,
-    default_max_lags,
-)
+from evidence.roots._common import ARCH_TREND, N_DETERMINISTIC, TREND_WORDS, lag_bound
 from evidence.roots._lm_breaks import break_grid, lm_search
 
 __all__ = ["adf_test", "pp_test", "kpss_test", "dfgls_test", "za_test", "lee_strazicich_test",
@@ -59,7 +54,7 @@ __all__ = ["adf_test", "pp_test", "kpss_test", "dfgls_test", "za_test", "lee_str
 
 UNIT_ROOT = "the series has a unit root"
 STATIONARY = "the series is stationary"
-_TREND_WORDS = {"n": "no deterministic terms", "c": "a constant", "ct": "a constant and a trend"}
+_TREND_WORDS = TREND_WORDS
 #: Zivot–Andrews models: what breaks, and arch's name for it.
 ZA_MODELS = {"level": "c", "trend": "t", "both": "ct"}
 #: Lee–Strazicich models: "level" (crash: level shifts) and "both" (level and trend shifts).
@@ -95,6 +90,10 @@ def _run(factory: Any, data: SeriesData, what: str) -> Any:
     return res
 
 
+#: arch's name of each lag rule.
+_ARCH_METHOD = {"aic": "aic", "bic": "bic", "sequential-t": "t-stat"}
+
+
 def _lag_options(lags: Any, max_lags: Any) -> tuple[int | None, str, int | None]:
     lags = check_lags(lags)
     max_lags = check_max_lags(max_lags)
@@ -103,30 +102,46 @@ def _lag_options(lags: Any, max_lags: Any) -> tuple[int | None, str, int | None]
     return None, lags, max_lags
 
 
+def _search_bound(max_lags: int | None, nobs: int, trend: str) -> int:
+    """``max_lags`` as given, or the package's rule bounded by T (see ``_common.lag_bound``)."""
+    return lag_bound(nobs, trend) if max_lags is None else max_lags
+
+
 def _min_obs(lags: int | None, trend: str, extra: int = 0) -> int:
-    return 4 + len(trend.replace("n", "")) + (lags or 0) + extra
+    return 4 + N_DETERMINISTIC[trend] + (lags or 0) + extra
 
 
-def adf_test(y: Any, *, trend: Trend = "c", lags: int | str = "aic",
+def _series(y: Any, *, min_obs: int, purpose: str) -> SeriesData:
+    return clean_series(y, min_obs=min_obs, purpose=purpose)
+
+
+def _hac_lags(hac_lags: Any, nobs: int) -> int:
+    value = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
+    return newey_west_lags(nobs) if value is None else value
+
+
+def adf_test(y: Any, *, trend: Trend = "constant", lags: int | str = "aic",
              max_lags: int | None = None) -> TestResult:
     """Augmented Dickey–Fuller test (through ``arch.unitroot.ADF``).
 
     Parameters
     ----------
     y : pandas.Series or 1-D array
-    trend : {"n", "c", "ct"}
-        Deterministic terms of the test regression.
-    lags : int or {"aic", "bic", "t-stat"}
-        Fixed number of lagged differences, or how to choose it (arch's ``method``).
+    trend : {"none", "constant", "trend"}
+        Deterministic terms of the test regression (none, a constant, a constant and a trend).
+    lags : int or {"aic", "bic", "sequential-t"}
+        Fixed number of lagged differences, or how to choose it ("sequential-t": the largest lag
+        whose t-ratio is significant at 10 %, general to specific).
     max_lags : int, optional
-        Largest lag order searched (arch's default ``ceil(12 (T/100)^(1/4))``, capped).
+        Largest lag order searched; default ``floor(4 (T/100)^(1/4))`` (Schwert's short rule,
+        ``evidence._hac.default_max_lags``), bounded by what the series can carry.
 
     Notes
     -----
     ``Δy_t = d_t'γ + ρ y_{t-1} + Σ_{i=1..p} φ_i Δy_{t-i} + ε_t``; the statistic is the t-ratio of
     ρ. H0: ρ = 0 (unit root); H1: ρ < 0 (stationary around ``d_t``). With automatic lags every
     candidate is fitted on the sample of the largest order, and the chosen order is then
-    re-estimated on the full sample (arch's rule). P-values: MacKinnon (1994/2010) via arch.
+    re-estimated on the full sample (arch's rule). P-values: MacKinnon (1994) via arch.
 
     References
     ----------
@@ -136,31 +151,30 @@ def adf_test(y: Any, *, trend: Trend = "c", lags: int | str = "aic",
     --------
     >>> import numpy as np, pandas as pd
     >>> y = pd.Series(np.cumsum(np.random.default_rng(0).normal(size=40)), index=range(1984, 2024))
-    >>> res = adf_test(y, trend="c", lags=1)
+    >>> res = adf_test(y, trend="constant", lags=1)
     >>> res.details["lags"], res.nobs, res.details["sample"]
     (1, 38, '1986:2023')
     """
     trend = check_trend(trend)
     fixed, method, max_lags = _lag_options(lags, max_lags)
-    data = as_series(y, min_obs=_min_obs(fixed, trend), purpose="an ADF test")
-    res = _run(lambda: ADF(data.values, lags=fixed, trend=trend, max_lags=max_lags,
-                           method=method), data, "an ADF regression")
+    data = _series(y, min_obs=_min_obs(fixed, trend), purpose="an ADF test")
+    bound = None if fixed is not None else _search_bound(max_lags, data.nobs, trend)
+    res = _run(lambda: ADF(data.values, lags=fixed, trend=ARCH_TREND[trend], max_lags=bound,
+                           method=_ARCH_METHOD[method]), data, "an ADF regression")
     return TestResult(
         test="ADF", statistic=res.stat, pvalue=res.pvalue, critical_values=_cv(res.critical_values),
         null=UNIT_ROOT, alternative=f"{STATIONARY} around {_TREND_WORDS[trend]}", nobs=res.nobs,
         details={"trend": trend, "lags": int(res.lags),
-                 "lag_choice": "fixed" if fixed is not None else method,
-                 "max_lags": (max_lags if max_lags is not None else
-                              default_max_lags(data.values.size, trend)) if fixed is None else None,
+                 "lag_choice": "fixed" if fixed is not None else method, "max_lags": bound,
                  "sample": _sample(data, int(res.lags) + 1), "series_span": data.span},
         reference="dickeyfuller1979; saiddickey1984; mackinnon2010")
 
 
-def pp_test(y: Any, *, trend: Trend = "c", lags: int | None = None) -> TestResult:
+def pp_test(y: Any, *, trend: Trend = "constant", hac_lags: int | None = None) -> TestResult:
     """Phillips–Perron Z-tau test (through ``arch.unitroot.PhillipsPerron``).
 
-    ``lags`` is the Newey–West (Bartlett) bandwidth of the long-run variance; ``None`` uses arch's
-    default ``ceil(12 (T/100)^(1/4))``.
+    ``hac_lags`` is the Newey–West (Bartlett) bandwidth of the long-run variance; ``None`` uses
+    the package's rule ``floor(4 (T/100)^(2/9))`` (``evidence._hac.newey_west_lags``).
 
     Notes
     -----
@@ -173,25 +187,24 @@ def pp_test(y: Any, *, trend: Trend = "c", lags: int | None = None) -> TestResul
     phillipsperron1988 (see the module docstring).
     """
     trend = check_trend(trend)
-    if lags is not None:
-        lags = check_lags(lags, methods=())  # type: ignore[assignment]
-    data = as_series(y, min_obs=_min_obs(None, trend), purpose="a Phillips-Perron test")
-    res = _run(lambda: PhillipsPerron(data.values, lags=lags, trend=trend, test_type="tau"),
-               data, "a Phillips-Perron regression")
+    data = _series(y, min_obs=_min_obs(None, trend), purpose="a Phillips-Perron test")
+    bandwidth = _hac_lags(hac_lags, data.nobs)
+    res = _run(lambda: PhillipsPerron(data.values, lags=bandwidth, trend=ARCH_TREND[trend],
+                                      test_type="tau"), data, "a Phillips-Perron regression")
     return TestResult(
         test="Phillips-Perron", statistic=res.stat, pvalue=res.pvalue,
         critical_values=_cv(res.critical_values), null=UNIT_ROOT,
         alternative=f"{STATIONARY} around {_TREND_WORDS[trend]}", nobs=res.nobs,
-        details={"trend": trend, "bandwidth": int(res.lags), "kernel": "Bartlett",
+        details={"trend": trend, "hac_lags": int(res.lags), "kernel": "Bartlett",
                  "statistic_type": "Z-tau", "sample": _sample(data, 1), "series_span": data.span},
         reference="phillipsperron1988; mackinnon2010")
 
 
-def kpss_test(y: Any, *, trend: Trend = "c", lags: int | None = None) -> TestResult:
+def kpss_test(y: Any, *, trend: Trend = "constant", hac_lags: int | None = None) -> TestResult:
     """KPSS stationarity test (through ``arch.unitroot.KPSS``); note the reversed null.
 
-    ``lags`` is the Newey–West bandwidth; ``None`` uses arch's data-dependent choice (Hobijn,
-    Franses & Ooms 1998). ``trend`` is "c" (level stationarity) or "ct" (trend stationarity).
+    ``hac_lags`` is the Newey–West bandwidth; ``None`` uses ``floor(4 (T/100)^(2/9))``.
+    ``trend`` is "constant" (level stationarity) or "trend" (trend stationarity).
 
     Notes
     -----
@@ -203,51 +216,49 @@ def kpss_test(y: Any, *, trend: Trend = "c", lags: int | None = None) -> TestRes
     ----------
     kpss1992 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
-    if lags is not None:
-        lags = check_lags(lags, methods=())  # type: ignore[assignment]
-    data = as_series(y, min_obs=_min_obs(lags, trend), purpose="a KPSS test")
-    res = _run(lambda: KPSS(data.values, lags=lags, trend=trend), data, "a KPSS test")
+    trend = check_trend(trend, ("constant", "trend"))
+    data = _series(y, min_obs=_min_obs(None, trend), purpose="a KPSS test")
+    bandwidth = _hac_lags(hac_lags, data.nobs)
+    res = _run(lambda: KPSS(data.values, lags=bandwidth, trend=ARCH_TREND[trend]), data,
+               "a KPSS test")
     return TestResult(
         test="KPSS", statistic=res.stat, pvalue=res.pvalue, critical_values=_cv(res.critical_values),
         null=f"{STATIONARY} around {_TREND_WORDS[trend]}", alternative=UNIT_ROOT, nobs=res.nobs,
-        details={"trend": trend, "bandwidth": int(res.lags), "kernel": "Bartlett",
-                 "bandwidth_choice": "fixed" if lags is not None else "data-dependent",
+        details={"trend": trend, "hac_lags": int(res.lags), "kernel": "Bartlett",
                  "sample": data.span, "series_span": data.span,
                  "pvalue_note": "arch interpolates p-values in the table; they are clipped to "
                                 "[0.01, 0.10] outside it"},
         reference="kpss1992")
 
 
-def dfgls_test(y: Any, *, trend: Trend = "c", lags: int | str = "aic",
+def dfgls_test(y: Any, *, trend: Trend = "constant", lags: int | str = "aic",
                max_lags: int | None = None) -> TestResult:
     """DF-GLS test of Elliott, Rothenberg & Stock (through ``arch.unitroot.DFGLS``).
 
-    ``trend`` is "c" or "ct"; ``lags`` and ``max_lags`` as in :func:`adf_test`.
+    ``trend`` is "constant" or "trend"; ``lags`` and ``max_lags`` as in :func:`adf_test`.
 
     Notes
     -----
-    The series is GLS-detrended with ``ᾱ = 1 - c̄/T`` (c̄ = 7 for "c", 13.5 for "ct"), then an ADF
-    regression without deterministic terms is run on the detrended series. H0: unit root; H1:
-    stationary around ``d_t``.
+    The series is GLS-detrended with ``ᾱ = 1 - c̄/T`` (c̄ = 7 for a constant, 13.5 for a trend),
+    then an ADF regression without deterministic terms is run on the detrended series. H0: unit
+    root; H1: stationary around ``d_t``.
 
     References
     ----------
     ers1996 (see the module docstring).
     """
-    trend = check_trend(trend, ("c", "ct"))
+    trend = check_trend(trend, ("constant", "trend"))
     fixed, method, max_lags = _lag_options(lags, max_lags)
-    data = as_series(y, min_obs=_min_obs(fixed, trend), purpose="a DF-GLS test")
-    res = _run(lambda: DFGLS(data.values, lags=fixed, trend=trend, max_lags=max_lags,
-                             method=method), data, "a DF-GLS regression")
+    data = _series(y, min_obs=_min_obs(fixed, trend), purpose="a DF-GLS test")
+    bound = None if fixed is not None else _search_bound(max_lags, data.nobs, trend)
+    res = _run(lambda: DFGLS(data.values, lags=fixed, trend=ARCH_TREND[trend], max_lags=bound,
+                             method=_ARCH_METHOD[method]), data, "a DF-GLS regression")
     return TestResult(
         test="DF-GLS", statistic=res.stat, pvalue=res.pvalue,
         critical_values=_cv(res.critical_values), null=UNIT_ROOT,
         alternative=f"{STATIONARY} around {_TREND_WORDS[trend]}", nobs=res.nobs,
         details={"trend": trend, "lags": int(res.lags),
-                 "lag_choice": "fixed" if fixed is not None else method,
-                 "max_lags": (max_lags if max_lags is not None else
-                              default_max_lags(data.values.size, trend)) if fixed is None else None,
+                 "lag_choice": "fixed" if fixed is not None else method, "max_lags": bound,
                  "sample": _sample(data, int(res.lags) + 1), "series_span": data.span},
         reference="ers1996")
 
@@ -284,13 +295,15 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
     zivotandrews1992 (see the module docstring).
     """
     model = check_choice("model", model, tuple(ZA_MODELS))
-    if isinstance(trim, bool) or not isinstance(trim, (int, float)) or not 0 < trim <= 1 / 3:
-        raise SpecError(f"trim={trim!r} must be a fraction in (0, 1/3], e.g. 0.15.")
+    trim = check_number("trim", trim, low=0.0, high=1 / 3, hint=", a fraction such as 0.15")
+    if trim == 0:
+        raise SpecError("trim=0 leaves no room at the ends; use a fraction such as 0.15.")
     fixed, method, max_lags = _lag_options(lags, max_lags)
-    data = as_series(y, min_obs=max(_min_obs(fixed, "ct", 2), int(math.ceil(3 / trim))),
-                     purpose="a Zivot-Andrews test")
+    data = _series(y, min_obs=max(_min_obs(fixed, "trend", 2), int(math.ceil(3 / trim))),
+                   purpose="a Zivot-Andrews test")
+    bound = None if fixed is not None else _search_bound(max_lags, data.nobs, "trend")
     res = _run(lambda: ZivotAndrews(data.values, lags=fixed, trend=ZA_MODELS[model],
-                                    trim=float(trim), max_lags=max_lags, method=method),
+                                    trim=float(trim), max_lags=bound, method=_ARCH_METHOD[method]),
                data, "a Zivot-Andrews search")
     all_stats = np.asarray(res._all_stats, dtype=float)  # arch keeps the statistic by index
     bp = int(np.nanargmin(np.where(np.isfinite(all_stats), all_stats, np.inf)))
@@ -301,15 +314,16 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
         alternative=f"{STATIONARY} with one break in the {model if model != 'both' else 'level and trend'}",
         nobs=res.nobs,
         details={"model": model, "lags": int(res.lags),
-                 "lag_choice": "fixed" if fixed is not None else method, "trim": float(trim),
+                 "lag_choice": "fixed" if fixed is not None else method, "max_lags": bound,
+                 "trim": float(trim),
                  "break_year": int(data.years[last_old]), "arch_index": bp,
                  "break_convention": "break_year is the last year of the old regime",
                  "sample": _sample(data, int(res.lags) + 1), "series_span": data.span},
         reference="zivotandrews1992")
 
 
-def lee_strazicich_test(y: Any, *, model: str = "level", breaks: int = 1,
-                        lags: int | str = "t-stat", max_lags: int = 8,
+def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
+                        lags: int | str = "sequential-t", max_lags: int | None = None,
                         trim: float = 0.1) -> TestResult:
     """Lee–Strazicich minimum LM unit-root test with one or two breaks under both hypotheses.
 
@@ -317,11 +331,14 @@ def lee_strazicich_test(y: Any, *, model: str = "level", breaks: int = 1,
     ----------
     model : {"level", "both"}
         "level": the crash model (level shifts); "both": level and trend shifts.
-    breaks : {1, 2}
-    lags : int or "t-stat"
-        Augmentation lags; "t-stat" chooses them at every break date by the general-to-specific
-        rule (start at ``max_lags``, drop the last lag while |t| < 1.645), as in the papers.
-    max_lags : int
+    n_breaks : {1, 2}
+    lags : int or "sequential-t"
+        Augmentation lags; "sequential-t" chooses them at every break date by the
+        general-to-specific rule (start at ``max_lags``, drop the last lag while |t| < 1.645), as
+        in the papers.
+    max_lags : int, optional
+        Largest lag order; default ``floor(4 (T/100)^(1/4))`` bounded by T (the papers use 8 at
+        T = 100; pass ``max_lags=8`` to reproduce them).
     trim : float
         Break dates are searched in ``[trim T, (1 - trim) T]``; two breaks at least 2 apart.
 
@@ -344,16 +361,17 @@ def lee_strazicich_test(y: Any, *, model: str = "level", breaks: int = 1,
     leestrazicich2003; leestrazicich2004 (see the module docstring).
     """
     model = check_choice("model", model, LS_MODELS)
-    if breaks not in (1, 2) or isinstance(breaks, bool):
-        raise SpecError(f"breaks={breaks!r} must be 1 or 2.")
-    lags = check_lags(lags, methods=("t-stat",))
-    max_lags = check_max_lags(max_lags) or 0
-    if isinstance(trim, bool) or not isinstance(trim, (int, float)) or not 0 < trim < 0.5:
-        raise SpecError(f"trim={trim!r} must be a fraction in (0, 0.5), e.g. 0.1.")
-    k_max = lags if isinstance(lags, int) else max_lags
+    breaks = check_int("n_breaks", n_breaks, minimum=1, maximum=2)
+    lags = check_lags(lags, rules=("sequential-t",))
+    max_lags = check_max_lags(max_lags)
+    trim = check_number("trim", trim, low=0.0, high=0.5, inclusive=False,
+                        hint=", a fraction such as 0.1")
     n_det = 1 + breaks * (2 if model == "both" else 1)
-    data = as_series(y, min_obs=k_max + 2 * n_det + 8,
-                     purpose="a Lee-Strazicich test")
+    if max_lags is None:
+        nobs_raw = series_values(y, purpose="a Lee-Strazicich test")[0].size
+        max_lags = lag_bound(nobs_raw, "trend")
+    k_max = lags if isinstance(lags, int) else max_lags
+    data = _series(y, min_obs=k_max + 2 * n_det + 8, purpose="a Lee-Strazicich test")
     nobs = data.values.size
     dates = break_grid(nobs, breaks, float(trim))
     if dates.shape[0] == 0:
@@ -373,8 +391,8 @@ def lee_strazicich_test(y: Any, *, model: str = "level", breaks: int = 1,
         test="Lee-Strazicich", statistic=stat, pvalue=math.nan, critical_values=cv,
         null=f"{UNIT_ROOT} with {breaks} break(s)",
         alternative=f"{STATIONARY} with {breaks} break(s)", nobs=nobs - k - 1,
-        details={"model": model, "breaks": breaks, "lags": k,
-                 "lag_choice": "fixed" if isinstance(lags, int) else "t-stat (general to specific)",
+        details={"model": model, "n_breaks": breaks, "lags": k,
+                 "lag_choice": "fixed" if isinstance(lags, int) else "sequential-t (general to specific)",
                  "max_lags": max_lags, "trim": float(trim),
                  "break_years": [int(data.years[d - 1]) for d in best],
                  "break_fractions": [round(f, 4) for f in fractions],

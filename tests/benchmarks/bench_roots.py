@@ -36,7 +36,7 @@ def _report(name: str, ref_name: str, t_ref: float, t_ours: float) -> None:
 def bench_adf(n: int = 2000, t: int = 34) -> None:
     y = np.cumsum(np.random.default_rng(0).standard_normal((t, n)), axis=0)
     ref = lambda: np.array([ADF(y[:, i], trend="c", lags=2).stat for i in range(n)])  # noqa: E731
-    ours = lambda: adf_tstats(y, "c", 2)  # noqa: E731
+    ours = lambda: adf_tstats(y, "constant", 2)  # noqa: E731
     np.testing.assert_allclose(ours(), ref(), rtol=1e-9)
     _report(f"ADF t-statistics, {n} series x {t} years, 2 lags", "arch ADF loop",
             best_of(ref, 1), best_of(ours))
@@ -54,7 +54,7 @@ def bench_cadf(n: int = 200, t: int = 34) -> None:
             out.append(sm.OLS(np.diff(y[:, i])[1:], rows).fit().tvalues[0])
         return np.array(out)
 
-    ours = lambda: cadf_tstats(y, "c", 1)  # noqa: E731
+    ours = lambda: cadf_tstats(y, "constant", 1)  # noqa: E731
     np.testing.assert_allclose(ours(), ref(), rtol=1e-9)
     _report(f"CADF t-statistics, {n} units x {t} years, 1 lag", "statsmodels OLS loop",
             best_of(ref, 1), best_of(ours))
