@@ -207,7 +207,7 @@ def _check(code: int, err: str) -> None:
         assert len(err.strip().splitlines()) == 1 and "Traceback" not in err, err
 
 
-@pytest.mark.parametrize("examples", [200, pytest.param(1500, marks=pytest.mark.slow)])
+@pytest.mark.parametrize("examples", [200, pytest.param(1000, marks=pytest.mark.slow)])
 def test_study_files_exit_0_or_2(examples):
     @_fuzz(examples)
     @given(study_files())
@@ -217,7 +217,7 @@ def test_study_files_exit_0_or_2(examples):
     run()
 
 
-@pytest.mark.parametrize("examples", [150, pytest.param(1000, marks=pytest.mark.slow)])
+@pytest.mark.parametrize("examples", [150, pytest.param(600, marks=pytest.mark.slow)])
 def test_csv_files_exit_0_or_2(examples):
     base = _toml(BASE)
 
