@@ -117,7 +117,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     if results:
         parts.append(test_table(results, fmt, title=f"Cointegration and causality: {dependent} on "
                                 f"{', '.join(xs)} (trend '{trend}')",
-                                notes=[_NOTE]))
+                                notes=[_NOTE], caution=not estimates))
     if estimates:
         parts.append(regression_table(estimates, fmt, title=f"Long-run coefficients of {dependent}"))
     if not parts:

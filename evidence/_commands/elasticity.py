@@ -11,7 +11,7 @@ import click
 import evidence as ev
 from evidence._commands._common import data_options, emit, format_options, load
 from evidence.elasticity.fixed_effects import COVARIANCES
-from evidence.tables import regression_table, render_frame, test_table
+from evidence.tables import ekc_table, regression_table, test_table
 
 __all__ = ["command"]
 
@@ -50,20 +50,17 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
                             cov=cov if pooled else None, hac_lags=hac_lags if pooled else None,
                             window=window)
         estimates.append(est)
-        tests += [replace(test, test=f"({len(estimates)}) {test.test}")
+        tests += [replace(test, test=f"{est.estimator}: {test.test}")
                   for test in ev.decoupling_tests(est)]
     fmt = fmt.lower()
     parts = [regression_table(estimates, fmt, title=f"Elasticity of {pressure} with respect to "
-                              f"{activity}"),
-             test_table(tests, fmt, title="One-sided decoupling tests on the elasticity")]
+                              f"{activity}", caution=False),
+             test_table(tests, fmt, title="One-sided decoupling tests on the elasticity",
+                        caution=not ekc)]
     if ekc:
         curve = ev.ekc(panel, pressure, activity, population=population, cov=cov,
                        hac_lags=hac_lags, window=window)
-        parts.append(regression_table([curve.estimate], fmt, title="Environmental Kuznets curve",
-                                      notes=[curve.warnings[0]]))
-        parts.append(render_frame(curve.turning_points, fmt, title="Turning point (log activity)",
-                                  index=False, digits=4))
-        parts.append(test_table([curve.u_test], fmt, title="U-shape test"))
+        parts.append(ekc_table(curve, fmt, title="Environmental Kuznets curve"))
     if fmt == "json":
         emit(json.dumps({"tables": [json.loads(part) for part in parts]}, indent=2) + "\n", output)
     else:

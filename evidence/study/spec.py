@@ -110,6 +110,12 @@ def _choices(options: tuple[str, ...]) -> Check:
     return check
 
 
+def _labels(value: Any, where: str) -> dict[str, str]:
+    if not all(isinstance(k, str) and k and isinstance(v, str) and v for k, v in value.items()):
+        raise _fail(where, 'must map names to the text tables show, e.g. {log_gdp = "ln GDP"}.')
+    return dict(value)
+
+
 def _budgets(value: Any, where: str) -> dict[str, float]:
     out = {}
     for unit, budget in value.items():
@@ -161,6 +167,7 @@ SCHEMA: dict[str, dict[str, Key]] = {
                  "convergence": Key(list, check=_choices(CONVERGENCE_METHODS)),
                  "decomposition": Key(bool)},
     "output": {"formats": Key(list, check=_choices(TABLE_FORMATS)), "figures": Key(bool),
+               "labels": Key(dict, check=_labels),
                "seed": Key(int, check=_int(0, 2**63 - 1))},
     "run": {"executor": Key(str, check=lambda v, w: check_executor(v, w))},
 }
@@ -196,6 +203,7 @@ class StudySpec:
     analyses: dict[str, Any] = field(default_factory=dict)
     formats: tuple[str, ...] = ("markdown", "latex", "html", "csv")
     figures: bool = True
+    labels: dict[str, str] = field(default_factory=dict)
     seed: int = DEFAULT_SEED
     executor: Any = "serial"
     raw: dict[str, Any] = field(default_factory=dict)
@@ -325,7 +333,8 @@ def _build(text: str, raw: dict[str, Any], checked: dict[str, Any], base: Path |
         window=None if window is None else (window["start"], window["end"]),
         criteria=criteria, breaks=dict(checked.get("breaks", {})),
         analyses=dict(checked.get("analyses", {})), formats=formats,
-        figures=bool(output.get("figures", True)), seed=int(output.get("seed", DEFAULT_SEED)),
+        figures=bool(output.get("figures", True)), labels=dict(output.get("labels", {})),
+        seed=int(output.get("seed", DEFAULT_SEED)),
         executor=checked.get("run", {}).get("executor", "serial"), raw=raw, text=text)
 
 

@@ -40,7 +40,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     notes = data_notes(spec)
     figures = _unit_figures(panel, spec, res) if spec.figures else ()
     return StepOutput(
-        "Grade", (TableOut("grade", lambda f: grade_table(res, f, notes=notes)),), figures,
+        "Grade", (TableOut("grade", lambda f: grade_table(res, f, notes=notes,
+                                                                  labels=spec.labels)),), figures,
         note="Each axis is reported separately; the grade summarises them and never replaces "
              "them. Figures for every unit are in figures/.",
         results={"grade": res.to_dict()}, value=res)
