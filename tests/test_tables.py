@@ -88,6 +88,23 @@ def test_table_option_errors_are_spec_errors(nasty_frame):
         render_frame(nasty_frame, "text", digits=2.5)
 
 
+def test_markdown_neutralises_html_and_links():
+    frame = pd.DataFrame({"unit": ["<script>alert(1)</script>", "[a](javascript:x)", "a & b"],
+                          "value": [1.0, 2.0, 3.0]}).set_index("unit")
+    out = render_frame(frame, "markdown", title="<b>t</b>", notes=["<i>n</i>"])
+    assert "<script>" not in out and "<b>" not in out and "<i>" not in out
+    assert "&lt;script&gt;alert(1)&lt;/script&gt;" in out and "\\[a\\](javascript:x)" in out
+    assert "a &amp; b" in out
+
+
+def test_latex_cells_stay_on_one_line():
+    frame = pd.DataFrame({"unit": ["A\n\nB", "C\r\nD\tE"], "value": [1.0, 2.0]}).set_index("unit")
+    out = render_frame(frame, "latex")
+    body = out.split("\\midrule")[1].split("\\bottomrule")[0]
+    rows = [line for line in body.splitlines() if line.strip()]
+    assert "\n\n" not in body and rows[0].startswith("A B &") and rows[1].startswith("C D E &")
+
+
 # --- tables for papers: labels, signs, stars, notes, caution, digits, names -------------------
 
 

@@ -18,7 +18,8 @@ from pathlib import Path
 from typing import Any
 
 from evidence._typing import ADJUSTMENTS, DEFAULT_SEED
-from evidence._validation import check_choice, check_columns, check_window, suggest
+from evidence._validation import (check_choice, check_columns, check_int, check_number,
+                                  check_window, suggest)
 from evidence.elasticity import ESTIMATORS
 from evidence.errors import DataError, EvidenceError, SpecError
 from evidence.parallel import BACKENDS
@@ -66,23 +67,19 @@ def _name(value: Any, where: str) -> str:
 
 def _int(low: int | None, high: int | None) -> Check:
     def check(value: Any, where: str) -> int:
-        if (low is not None and value < low) or (high is not None and value > high):
-            span = (f"between {low} and {high}" if low is not None and high is not None
-                    else f"at least {low}" if low is not None else f"at most {high}")
-            raise _fail(where, f"{value!r} must be an integer {span}.")
-        return int(value)
+        try:
+            return int(check_int("value", value, minimum=low, maximum=high))  # type: ignore[arg-type]
+        except SpecError as exc:
+            raise _fail(where, str(exc).replace("value=", "", 1)) from None
     return check
 
 
 def _number(low: float, high: float, *, inclusive: bool = False, hint: str = "") -> Check:
     def check(value: Any, where: str) -> float:
-        number = float(value)
-        inside = (low <= number <= high) if inclusive else (low < number < high)
-        if not (math.isfinite(number) and inside):
-            sides = "" if inclusive else " (exclusive)"
-            raise _fail(where, f"{value!r} must be a number between {low:g} and {high:g}"
-                               f"{sides}{hint}.")
-        return number
+        try:
+            return check_number("value", value, low=low, high=high, inclusive=inclusive, hint=hint)
+        except SpecError as exc:
+            raise _fail(where, str(exc).replace("value=", "", 1)) from None
     return check
 
 
