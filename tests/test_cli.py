@@ -276,8 +276,8 @@ def test_terminal_output_shows_control_characters_as_escapes(tmp_path, capsys):
     assert main(["rates", str(tmp_path / "esc.csv"), "--pressure", "co2",
                  "--activity", "gdp"]) == 0
     out = capsys.readouterr().out
-    # Tables show a control character in a cell as a space; bidirectional overrides as escapes.
-    assert "\x1b" not in out and "R [2J" in out and "S\\u202eT" in out
+    # tables turn control characters into spaces; anything else printed shows them as escapes
+    assert "\x1b" not in out and "\u202e" not in out and "R [2J" in out and "S\\u202eT" in out
     err = _one_line_exit_2(["rates", str(tmp_path / "esc.csv"), "--pressure", "c\x1bo2",
                             "--activity", "gdp"], capsys)
     assert "\x1b" not in err and "c\\x1bo2" in err
