@@ -87,8 +87,11 @@ def break_interval(index: int, delta: np.ndarray, q1: np.ndarray, q2: np.ndarray
     scale = d1 * d1 / o1
     xi = d2 / d1
     phi = o2 / o1
-    low_q = argmax_quantile(alpha / 2, xi, phi) / scale
-    high_q = argmax_quantile(1 - alpha / 2, xi, phi) / scale
+    try:
+        low_q = argmax_quantile(alpha / 2, xi, phi) / scale
+        high_q = argmax_quantile(1 - alpha / 2, xi, phi) / scale
+    except (OverflowError, ValueError):  # extreme ratios (an outlier year): no finite bounds
+        return 0, nobs - 1
     lo = int(index + math.floor(-high_q))  # T_0 = T_hat - (T_hat - T_0)
     hi = int(index + math.ceil(-low_q))
     return max(lo, 0), min(hi, nobs - 1)
