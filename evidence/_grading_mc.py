@@ -224,7 +224,7 @@ def main(argv: list[str] | None = None) -> None:
                             else "alternative", "n_units": UNITS_PER_PROCESS * len(PROCESSES),
                             "n_years": int(T), "rejection": rate,
                             "mc_se": float(np.sqrt(max(rate * (1 - rate), 1e-12) / len(part))),
-                            "reps": int(len(part)), "counts": dict(Counter(part["rung"]))})
+                            "reps": len(part), "counts": dict(Counter(part["rung"]))})
         data = {"family": "grade", "generated_by": "python -m evidence._grading_mc --write",
                 "seed": SEED, "alpha": 0.05,
                 "note": "rejection = share graded absolute-significant or higher", "entries": entries}

@@ -78,7 +78,7 @@ def _read_excel(path: Path, sheet: str | int | None) -> pd.DataFrame:
         return pd.read_excel(path, sheet_name=0 if sheet is None else sheet, dtype=object)
     except (ImportError, DataError):
         raise
-    except Exception as exc:  # noqa: BLE001 - a damaged workbook can fail anywhere in the reader
+    except Exception as exc:
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise DataError(f"file '{path}' could not be read as Excel: {first}") from None
 

@@ -9,7 +9,7 @@ from typing import Any
 
 import numpy as np
 
-from evidence._typing import ADJUSTMENTS, DEFAULT_SEED, LAG_RULES, TRENDS
+from evidence._typing import ADJUSTMENTS, LAG_RULES, TRENDS
 from evidence.errors import DataError, SpecError
 
 __all__ = ["suggest", "check_choice", "check_columns", "check_window", "check_int", "check_number",

@@ -18,8 +18,7 @@ import click
 
 from evidence._cautions import CAUTION
 from evidence._commands import add_commands
-from evidence._commands._common import (data_options, emit, format_options, load, progress_bar,
-                                        terminal_safe)
+from evidence._commands._common import data_options, emit, format_options, load, progress_bar, terminal_safe
 from evidence._files import DEFAULT_MAX_MB
 from evidence._version import __version__
 from evidence.errors import EvidenceError
@@ -49,7 +48,7 @@ class Terminated(BaseException):
     """SIGTERM arrived: unwind (an output folder being written is removed), then exit 143."""
 
 
-def _terminate(signum: int, frame: object) -> None:  # noqa: ARG001
+def _terminate(signum: int, frame: object) -> None:
     raise Terminated()
 
 
@@ -154,7 +153,7 @@ def inspect(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     emit("\n".join([overview, variables, audit]), output)
 
 
-def _facts_frame(facts: Sequence[tuple[str, str]]):  # noqa: ANN202
+def _facts_frame(facts: Sequence[tuple[str, str]]):
     import pandas as pd
 
     return pd.DataFrame(facts, columns=["item", "value"])

@@ -28,8 +28,15 @@ from evidence import _grading_axes as axes
 from evidence._json import json_safe
 from evidence._size_card import size_note
 from evidence._typing import DEFAULT_SEED, Window
-from evidence._validation import (adjust_pvalues, check_alpha, check_choice, check_columns,
-                                  check_int, check_window, format_years)
+from evidence._validation import (
+    adjust_pvalues,
+    check_alpha,
+    check_choice,
+    check_columns,
+    check_int,
+    check_window,
+    format_years,
+)
 from evidence.errors import DataError, SpecError
 from evidence.indicators import budget_rate, tapio_class
 from evidence.panel import Panel

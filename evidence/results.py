@@ -113,11 +113,11 @@ class ResultProtocol:
     def __post_init__(self) -> None:
         names = {f.name for f in fields(self)}  # type: ignore[arg-type]
         if "details" in names:
-            object.__setattr__(self, "details", _frozen_mapping(getattr(self, "details")))
+            object.__setattr__(self, "details", _frozen_mapping(self.details))
         if "warnings" in names:
-            object.__setattr__(self, "warnings", tuple(str(w) for w in getattr(self, "warnings")))
+            object.__setattr__(self, "warnings", tuple(str(w) for w in self.warnings))
         if "excluded" in names:
-            object.__setattr__(self, "excluded", excluded_frame(getattr(self, "excluded")))
+            object.__setattr__(self, "excluded", excluded_frame(self.excluded))
 
     def summary(self) -> str:
         """A readable block of text (subclasses give their own)."""
@@ -439,7 +439,7 @@ class Estimate(ResultProtocol):
         width = max([len(str(k)) for k in frame.index] + [8])
         lines.append(f"  {'':<{width}} {'estimate':>10} {'std.err':>10} {'t':>8} {'p-value':>9}")
         for name, row in frame.iterrows():
-            lines.append(f"  {str(name):<{width}} {format_number(row['estimate']):>10} "
+            lines.append(f"  {name!s:<{width}} {format_number(row['estimate']):>10} "
                          f"{format_number(row['std_error']):>10} {format_number(row['tstat'], 2):>8} "
                          f"{format_pvalue(row['pvalue']):>9}")
         for key, value in self.details.items():

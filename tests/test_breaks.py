@@ -17,8 +17,13 @@ from statsmodels.stats.diagnostic import breaks_cusumolsresid
 from evidence.breaks import chow_test, cusum_test, find_breaks, ols_cusum_test
 from evidence.breaks.dates import argmax_cdf, argmax_quantile
 from evidence.breaks.find import information_criteria
-from evidence.breaks.segment import (min_length, optimal_partitions, regime_design,
-                                     ssr_table_general, ssr_tables)
+from evidence.breaks.segment import (
+    min_length,
+    optimal_partitions,
+    regime_design,
+    ssr_table_general,
+    ssr_tables,
+)
 from evidence.breaks.tests import break_covariance, wald_equal_regimes
 from evidence.errors import DataError, SpecError
 

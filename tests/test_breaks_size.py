@@ -11,8 +11,15 @@ from numpy.testing import assert_allclose
 from evidence._size_card import size_note
 from evidence.breaks import _batch, find_breaks, screen_breaks
 from evidence.breaks._calibrate import COVERED, GRID, _Conditional, null_table
-from evidence.breaks._sizes import (_panel, _rng, kink_series, null_series, screen_rejection,
-                                    selection_counts, selection_panel)
+from evidence.breaks._sizes import (
+    _panel,
+    _rng,
+    kink_series,
+    null_series,
+    screen_rejection,
+    selection_counts,
+    selection_panel,
+)
 from evidence.breaks.find import make_spec, size_test_name
 
 

@@ -15,9 +15,8 @@ import numpy as np
 import pandas as pd
 import pytest
 import statsmodels.api as sm
-from statsmodels.tsa.filters.hp_filter import hpfilter
-
 from evidence._demo import generate as gen
+from statsmodels.tsa.filters.hp_filter import hpfilter
 
 DEMO_DIR = Path(gen.__file__).resolve().parent
 COLUMNS = ["region", "year", "gdp", "population", "energy", "ghg_territorial",

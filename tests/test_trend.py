@@ -11,8 +11,7 @@ import evidence as ev
 from evidence import SpecError
 from evidence._hac import long_run_cov
 from evidence._montecarlo import ar1
-from evidence.trend import TREND_TESTS, trend_batch, trend_test
-from evidence.trend import _calibrate, _stats
+from evidence.trend import TREND_TESTS, _stats, trend_batch, trend_test
 from evidence.trend.robust import _lower_pvalue, _table
 
 

@@ -26,12 +26,16 @@ through the executor and cached on disk (``evidence._cache``), so any executor g
 
 from __future__ import annotations
 
-
 import numpy as np
 
 from evidence._cache import load_cached, save_cached
-from evidence.breaks.segment import (min_length, optimal_partitions, regime_design,
-                                     ssr_table_general, ssr_tables)
+from evidence.breaks.segment import (
+    min_length,
+    optimal_partitions,
+    regime_design,
+    ssr_table_general,
+    ssr_tables,
+)
 from evidence.parallel import ExecutorLike, task_seeds, using_executor
 
 __all__ = ["NULL_SEED", "NULL_REPS", "NULL_GRID", "max_k", "null_draws", "simulate_chunk"]

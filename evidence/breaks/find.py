@@ -35,8 +35,7 @@ from evidence.breaks import _general
 from evidence.breaks import tests as bt
 from evidence.breaks._calibrate import COVERED, TABLE_REPS, TABLE_SEED, null_table
 from evidence.breaks._core import INFERENCES, SELECTIONS, Spec, describe
-from evidence.breaks._input import (check_breaks, check_model, check_trim, regressor_matrix,
-                                     series_input)
+from evidence.breaks._input import check_breaks, check_model, check_trim, regressor_matrix, series_input
 from evidence.breaks._simulate import NULL_GRID, NULL_REPS, NULL_SEED, null_draws
 from evidence.breaks.result import CONVENTION, BreakResult
 from evidence.breaks.segment import regime_design

@@ -163,7 +163,7 @@ class BreakResult(ResultProtocol):
             "reference": self.reference, "warnings": list(self.warnings),
         })
 
-    def plot(self, path: str | Path | None = None):  # noqa: ANN201
+    def plot(self, path: str | Path | None = None):
         """Series, fitted regimes and interval bands (matplotlib Figure; saved if ``path``)."""
         from evidence.breaks.plot import plot_breaks
 

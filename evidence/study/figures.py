@@ -31,7 +31,7 @@ def save(fig: Any, stem: Path) -> list[Path]:
 
 
 def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[str],
-                   window: tuple[int, int], breaks: dict[str, Sequence[int]]):  # noqa: ANN201
+                   window: tuple[int, int], breaks: dict[str, Sequence[int]]):
     """Activity and pressures of one unit indexed to the window's first year, with break years."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.4, 3.8), dpi=100)
@@ -54,7 +54,7 @@ def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[s
     return fig
 
 
-def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noqa: ANN201
+def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):
     """Start × end map of the sub-windows in which a claim holds (1) or not (0)."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(4.8, 4.2), dpi=100)
@@ -68,7 +68,7 @@ def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noq
     return fig
 
 
-def decomposition_figure(effects: pd.DataFrame, title: str):  # noqa: ANN201
+def decomposition_figure(effects: pd.DataFrame, title: str):
     """Bars of the additive LMDI effects (one group per row of ``effects``)."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.4, 3.6), dpi=100)

@@ -18,8 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from evidence._typing import ADJUSTMENTS, DEFAULT_SEED
-from evidence._validation import (check_choice, check_columns, check_int, check_number,
-                                  check_window, suggest)
+from evidence._validation import check_choice, check_columns, check_int, check_number, check_window, suggest
 from evidence.elasticity import ESTIMATORS
 from evidence.errors import DataError, EvidenceError, SpecError
 from evidence.parallel import BACKENDS

@@ -23,8 +23,17 @@ from evidence._cautions import CAUTION
 from evidence._json import json_safe
 from evidence._validation import check_choice, check_int
 from evidence.errors import SpecError
-from evidence.tables._cells import (CONTROL_CHARS, NUMERIC_TEXT, Number, html_escape, is_missing,
-                                    latex_escape, markdown_escape, minus, table_pvalue)
+from evidence.tables._cells import (
+    CONTROL_CHARS,
+    NUMERIC_TEXT,
+    Number,
+    html_escape,
+    is_missing,
+    latex_escape,
+    markdown_escape,
+    minus,
+    table_pvalue,
+)
 from evidence.tables._latex import FITS, render_latex
 from evidence.tables._names import check_labels, header_name, relabel
 

@@ -15,8 +15,7 @@ from evidence.convergence.beta import BetaResult
 from evidence.elasticity.ekc import EKCResult
 from evidence.tables._cells import Number, table_pvalue
 from evidence.tables._names import display_name, test_name
-from evidence.tables.regression import (check_table_options, estimate_columns, render_frame,
-                                        table_of_columns)
+from evidence.tables.regression import check_table_options, estimate_columns, render_frame, table_of_columns
 
 __all__ = ["beta_table", "ekc_table"]
 

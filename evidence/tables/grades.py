@@ -147,7 +147,7 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         if name not in shown:
             continue
         values = [v.plain() if isinstance(v, Number) else str(v) for v in shown[name]]
-        if len(values) > 1 and len(set(values)) == 1 or (values and all(v == "" for v in values)):
+        if (len(values) > 1 and len(set(values)) == 1) or (values and all(v == "" for v in values)):
             del shown[name]
             if values[0] and name not in ("pressure", "span"):
                 fixed.append(f"{name} {values[0]}")

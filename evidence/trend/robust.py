@@ -61,7 +61,7 @@ import numpy as np
 from scipy import stats
 
 from evidence._arrays import clean_series
-from evidence._hac import long_run_cov, newey_west_lags
+from evidence._hac import newey_west_lags
 from evidence._validation import check_alpha, check_choice, check_int
 from evidence.errors import SpecError
 from evidence.results import TestResult
@@ -107,9 +107,9 @@ def test_label(test: str, *, short: bool = False) -> str:
 # ----------------------------------------------------------------------------- critical values
 def _table(kind: str, nobs: int, segment: int | None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """``(alphas, b_J, c)`` for a J-scaled test at length ``nobs``."""
-    from evidence.trend import _calibrate
-
     import importlib
+
+    from evidence.trend import _calibrate
 
     alphas = np.asarray(_calibrate.ALPHAS)
     try:

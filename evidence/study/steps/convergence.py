@@ -2,8 +2,7 @@
 
 from __future__ import annotations
 
-from evidence.convergence import (beta_convergence, club_convergence, sigma_convergence,
-                                  stochastic_convergence)
+from evidence.convergence import beta_convergence, club_convergence, sigma_convergence, stochastic_convergence
 from evidence.errors import DataError
 from evidence.panel import Panel, derived_name
 from evidence.study.spec import StudySpec
