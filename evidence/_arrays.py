@@ -249,7 +249,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
         inner = np.flatnonzero(~ok[lo:hi + 1]) + lo
         if inner.size:
             t = int(inner[0])
-            missing = [c for c, v in zip(cols, block[t, i, :]) if np.isnan(v)]
+            missing = [c for c, v in zip(cols, block[t, i, :], strict=True) if np.isnan(v)]
             where = (f"has no value of '{missing[0]}' in {time_name} {full[t]}" if present[t]
                      else f"has no row for {time_name} {full[t]}")
             if gaps == "raise":

@@ -6,8 +6,9 @@ Each simulated panel mixes ``UNITS_PER_PROCESS`` units of every process below, s
 multiple-testing adjustment runs over a realistic mix of decliners and non-decliners.
 
 Activity (log GDP): trend growth ``g`` (2 %/yr; 0.2–0.8 %/yr for ``weak-growth``), one or two
-recessions in years common to the panel, drawn at random per panel (a fall of 2–4 % below the previous year, half of it still missing
-the year after and a fifth the year after that), and AR(1) noise (ρ = 0.5, innovations 1 %).
+recessions in years common to the panel, drawn at random per panel (a fall of 2–4 % below the
+previous year, half of it still missing the year after and a fifth the year after that),
+and AR(1) noise (ρ = 0.5, innovations 1 %).
 Pressure (log): a path of its own plus the recession profile of activity (pressure follows the
 cycle with elasticity one) plus noise, AR(1) with innovations of 2 % unless stated.
 

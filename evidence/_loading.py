@@ -119,7 +119,7 @@ def _read_csv_typed(path: Path, sep: str, header: list[str]) -> pd.DataFrame | N
         pieces: dict[str, list[np.ndarray]] = {name: [] for name in header}
         dictionaries: dict[str, dict[str, int]] = {}
         for batch in reader:
-            for name, column in zip(header, batch.columns):
+            for name, column in zip(header, batch.columns, strict=True):
                 pieces[name].append(_arrow_piece(column, name, dictionaries, pa))
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, OSError, UnicodeDecodeError, _NotTyped):
         return None

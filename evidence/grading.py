@@ -346,7 +346,7 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
             continue
         for key in ("p_absolute", "p_absolute_all_years", "p_relative"):
             adjusted = adjust_pvalues([r[key] for r in unit_recs], crit.adjust)
-            for r, p in zip(unit_recs, adjusted):
+            for r, p in zip(unit_recs, adjusted, strict=True):
                 r[f"{key}_adj"] = float(p)
         other = (consumption or {}).get(pressure)
         gaps = (_basis_gaps(panel, pressure, other, activity, (start, end), crit)

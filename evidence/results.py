@@ -326,8 +326,9 @@ class TestGroupResult(ResultProtocol):
         """The summaries of every statistic, one after another, then what was left out."""
         blocks = [r.summary() for r in self.results]
         if len(self.excluded):
-            blocks.append("left out: " + "; ".join(f"{r.unit} {r.column} {r.years} ({r.reason})".replace("  ", " ")
-                                                   for r in self.excluded.itertuples()))
+            blocks.append("left out: " + "; ".join(
+                f"{r.unit} {r.column} {r.years} ({r.reason})".replace("  ", " ")
+                for r in self.excluded.itertuples()))
         return "\n".join(blocks)
 
     def to_dict(self) -> dict[str, Any]:

@@ -130,10 +130,10 @@ def _brute_force(y: np.ndarray, z: np.ndarray, m: int, h: int) -> tuple[float, t
     best = (math.inf, ())
     for cuts in itertools.combinations(range(h - 1, t - h), m):
         bounds = [0, *[c + 1 for c in cuts], t]
-        if any(b - a < h for a, b in zip(bounds[:-1], bounds[1:])):
+        if any(b - a < h for a, b in itertools.pairwise(bounds)):
             continue
         total = 0.0
-        for a, b in zip(bounds[:-1], bounds[1:]):
+        for a, b in itertools.pairwise(bounds):
             coef, *_ = np.linalg.lstsq(z[a:b], y[a:b], rcond=None)
             total += float(np.sum((y[a:b] - z[a:b] @ coef) ** 2))
         if total < best[0]:

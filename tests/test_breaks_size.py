@@ -4,6 +4,8 @@ Carlo; the large versions are marked slow). The processes are those of ``evidenc
 
 from __future__ import annotations
 
+from itertools import pairwise
+
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
@@ -86,7 +88,7 @@ def test_piecewise_fit_equals_a_plain_loop():
     t = np.arange(1, 31, dtype=float)
     for n in range(3):
         bounds = [0, breaks[n, 0] + 1, breaks[n, 1] + 1, 30]
-        for j, (a, b) in enumerate(zip(bounds[:-1], bounds[1:])):
+        for j, (a, b) in enumerate(pairwise(bounds)):
             z = np.column_stack([np.ones(b - a), t[a:b]])
             coef, *_ = np.linalg.lstsq(z, y[n, a:b], rcond=None)
             assert_allclose([fit["intercept"][n, j], fit["slope"][n, j]], coef, atol=1e-9)

@@ -137,7 +137,8 @@ def test_long_run_estimators_unbiased_over_draws():
                 long_run(panel, "y", "x1", estimator=name, pooled=pooled).params["x1"])
     means = {k: float(np.mean(v)) for k, v in est.items()}
     # observed when written: DOLS 0.704 (pooled) / 0.711 (group); FMOLS 0.714 / 0.735 -- FMOLS
-    # keeps more small-T bias than DOLS (Kao & Chiang 2000 report the same ranking, from memory); MG 0.704, PMG 0.699
+    # keeps more small-T bias than DOLS (Kao & Chiang 2000 report the same ranking, from memory);
+    # MG 0.704, PMG 0.699
     tolerance = {"dols": 0.02, "fmols": 0.05, "mg": 0.03, "pmg": 0.02}
     assert all(abs(m - 0.7) < tolerance[k.split("-")[0]] for k, m in means.items()), means
 

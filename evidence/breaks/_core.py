@@ -222,7 +222,7 @@ def _intervals(fits: list[dict[str, np.ndarray]], breaks: np.ndarray, chosen: np
     if not parts:
         empty = np.zeros(0, dtype=np.int64)
         return {"unit": empty, "index": empty, "lower": empty, "upper": empty}
-    units, index, d1, d2, o1, o2 = (np.concatenate(c) for c in zip(*parts))
+    units, index, d1, d2, o1, o2 = (np.concatenate(c) for c in zip(*parts, strict=True))
     lower, upper = break_intervals(index, d1, d2, o1, o2, alpha=spec.alpha, nobs=nobs)
     order = np.lexsort((index, units))
     return {"unit": units[order], "index": index[order], "lower": lower[order],

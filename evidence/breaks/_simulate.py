@@ -133,8 +133,8 @@ def null_draws(q: int, trim: float, *, design: str = "level", units: int = 1, re
     """
     trim = round(float(trim), 6)
     k_max = max_k(trim)
-    params = {"q": int(q), "trim": trim, "design": design, "units": int(units), "reps": int(reps), "grid": int(grid), "seed": int(seed),
-              "k_max": k_max, "version": 2}
+    params = {"q": int(q), "trim": trim, "design": design, "units": int(units), "reps": int(reps),
+              "grid": int(grid), "seed": int(seed), "k_max": k_max, "version": 2}
     cached = load_cached("bp-null", params)
     if cached is not None and cached.get("draws") is not None:
         return cached["draws"]
@@ -142,7 +142,7 @@ def null_draws(q: int, trim: float, *, design: str = "level", units: int = 1, re
     seeds = task_seeds(int(seed), n_tasks)
     sizes = [min(_TASK_REPS, reps - i * _TASK_REPS) for i in range(n_tasks)]
     tasks = [(int(q), trim, int(grid), k_max, size, s, design, int(units))
-             for size, s in zip(sizes, seeds)]
+             for size, s in zip(sizes, seeds, strict=True)]
     with using_executor(executor) as runner:
         draws = np.concatenate(runner.map(simulate_chunk, tasks))
     save_cached("bp-null", params, {"draws": draws})

@@ -204,4 +204,4 @@ def segment_bounds(breaks: np.ndarray, nobs: int) -> list[tuple[int, int]]:
     cuts = [int(b) for b in breaks if b >= 0]
     starts = [0] + [b + 1 for b in cuts]
     ends = cuts + [nobs - 1]
-    return list(zip(starts, ends))
+    return list(zip(starts, ends, strict=True))

@@ -40,7 +40,8 @@ from evidence.results import TestResult
 __all__ = ["chow_test", "cusum_test", "ols_cusum_test"]
 
 
-def _design(y: Any, model: str, regressors: Any, years: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
+def _design(y: Any, model: str, regressors: Any,
+            years: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
     model = check_model(model)
     values, index, label, _ = series_input(y, years, "a stability test")
     z = regime_design(model, values.size)

@@ -83,7 +83,7 @@ def _units(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
     n_units = y.shape[0]
     keys = ("alpha", "se", "alpha1", "sigma", "nobs", "yy", "ydy")
     out = {key: np.empty(n_units) for key in keys}
-    for p, q in sorted(set(zip(p_i.tolist(), q_i.tolist()))):
+    for p, q in sorted(set(zip(p_i.tolist(), q_i.tolist(), strict=True))):
         idx = np.flatnonzero((p_i == p) & (q_i == q))
         des = ec_design(y[idx], x[idx], p, q, trend)
         z, dy, iy = des["z"], des["dy"], int(des["iy"])

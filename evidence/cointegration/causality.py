@@ -208,8 +208,9 @@ def dumitrescu_hurlin_test(panel: Panel, dependent: str, regressors: str | Seque
     details: dict[str, Any] = {"lags": lags, "inference": inference, "w_bar": w_bar,
                                "z_bar": z_bar, "z_bar_pvalue": p_bar,
                                "z_bar_tilde": z_tilde, "z_bar_tilde_pvalue": p_tilde,
-                               "unit_wald": dict(zip(block.units, w.tolist())),
-                               "unit_pvalues": dict(zip(block.units, stats.chi2.sf(w, lags).tolist())),
+                               "unit_wald": dict(zip(block.units, w.tolist(), strict=True)),
+                               "unit_pvalues": dict(zip(block.units, stats.chi2.sf(w, lags).tolist(),
+                                                        strict=True)),
                                "units": n_units, "years": block.span, "excluded": block.excluded}
     statistic, pvalue = (z_bar, p_bar) if math.isnan(z_tilde) else (z_tilde, p_tilde)
     crit = {a: float(stats.norm.isf(a)) for a in (0.01, 0.05, 0.10)}

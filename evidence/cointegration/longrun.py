@@ -122,9 +122,9 @@ def _group_mean(block: Block, estimator: str, trend: str, lags: int,
     beta = b.mean(axis=0)
     cov = np.diag(np.sum(s ** 2, axis=0)) / n ** 2
     t_gm = np.sum(b / s, axis=0) / np.sqrt(n)
-    return beta, cov, {"group_mean_t": dict(zip(block.regressors, t_gm.tolist())),
-                       "unit_slopes": {u: dict(zip(block.regressors, r.tolist()))
-                                       for u, r in zip(block.units, b)}, "nobs": block.y.size}
+    return beta, cov, {"group_mean_t": dict(zip(block.regressors, t_gm.tolist(), strict=True)),
+                       "unit_slopes": {u: dict(zip(block.regressors, r.tolist(), strict=True))
+                                       for u, r in zip(block.units, b, strict=True)}, "nobs": block.y.size}
 
 
 def _mean_group(block: Block, lags: int) -> tuple[pd.Series, np.ndarray, dict]:
@@ -278,9 +278,10 @@ def long_run(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
                         nobs=nobs, details=details, reference=ref)
     params, cov, parts = _mean_group(block, lags)
     nobs = int(parts["arrays"]["dy"].size)
-    details.update({"lags": lags, "unit_long_run": {u: dict(zip(cols, r.tolist()))
-                                                      for u, r in zip(block.units, parts["unit"]["theta"])},
-                    "unit_speed": dict(zip(block.units, parts["unit"]["phi"].tolist()))})
+    details.update({"lags": lags,
+                    "unit_long_run": {u: dict(zip(cols, r.tolist(), strict=True))
+                                      for u, r in zip(block.units, parts["unit"]["theta"], strict=True)},
+                    "unit_speed": dict(zip(block.units, parts["unit"]["phi"].tolist(), strict=True))})
     mg = Estimate(estimator=label["mg"], dependent=dependent, params=params,
                   std_errors=np.sqrt(np.diag(cov)), cov=cov,
                   cov_type="dispersion of the unit estimates (mean group)", nobs=nobs,
@@ -300,7 +301,7 @@ def long_run(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
     pmg_cov[:k, :k] = fit["cov_theta"]
     pmg_cov[k:, k:] = sr_cov
     pmg_details = dict(details)
-    pmg_details.update({"unit_speed": dict(zip(block.units, coef[:, 0].tolist())),
+    pmg_details.update({"unit_speed": dict(zip(block.units, coef[:, 0].tolist(), strict=True)),
                         "iterations": fit["iterations"], "converged": fit["converged"],
                         "loglik": fit["loglik"]})
     pmg_details.pop("unit_long_run")

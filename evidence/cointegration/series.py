@@ -125,7 +125,8 @@ def engle_granger_test(y: Any, x: Any, *, trend: str = "constant", lags: int | s
                       critical_values=_cv(res.critical_values), null=_NULL, alternative=_ALT,
                       nobs=len(ys), details={"trend": trend, "lags": int(res.lags),
                                              "lag_selection": lags if isinstance(lags, str) else "fixed",
-                                             "cointegrating_vector": res.cointegrating_vector.round(6).to_dict()},
+                                             "cointegrating_vector":
+                                                 res.cointegrating_vector.round(6).to_dict()},
                       reference="englegranger1987")
 
 
@@ -197,7 +198,8 @@ def johansen_test(y: Any, x: Any, *, trend: str = "constant", lags: int = 1) -> 
                 test=f"Johansen {kind} r<={r}" if kind == "trace" else f"Johansen {kind} r={r}",
                 statistic=stat[r], pvalue=float("nan"),
                 critical_values={0.10: cvs[r, 0], 0.05: cvs[r, 1], 0.01: cvs[r, 2]},
-                null=f"at most {r} cointegrating vectors" if kind == "trace" else f"{r} cointegrating vectors",
+                null=(f"at most {r} cointegrating vectors" if kind == "trace"
+                      else f"{r} cointegrating vectors"),
                 alternative=f"more than {r}" if kind == "trace" else f"{r + 1} cointegrating vectors",
                 nobs=len(ys), details={"statistic": f"{kind} {r}", "trend": trend, "lags": lags,
                                        "eigenvalue": float(res.eig[r]),
@@ -249,7 +251,7 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "constant", lags: int | str
     if isinstance(lags, str):
         sel = ardl_select_order(ys, max_l, xs, max_l, trend=sm_trend, ic=lags)
         p = max(int(max(sel.model.ardl_order[0], 1)), 1)
-        order = {c: max(int(o), 1) for c, o in zip(xs.columns, sel.model.ardl_order[1:])}
+        order = {c: max(int(o), 1) for c, o in zip(xs.columns, sel.model.ardl_order[1:], strict=True)}
     else:
         p, order = lags, lags
     res = UECM(ys, p, xs, order, trend=sm_trend).fit()
@@ -261,9 +263,11 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "constant", lags: int | str
                       pvalue=float(bounds.pvalue["upper"]), critical_values=upper,
                       null="no level relationship", alternative="a level relationship",
                       nobs=int(res.nobs),
-                      details={"case": case, "lags": int(p), "order": order if isinstance(order, int) else dict(order),
+                      details={"case": case, "lags": int(p),
+                               "order": order if isinstance(order, int) else dict(order),
                                "lower_pvalue": float(bounds.pvalue["lower"]),
-                               "lower_critical_values": lower, "lag_selection": lags if isinstance(lags, str) else "fixed"},
+                               "lower_critical_values": lower,
+                               "lag_selection": lags if isinstance(lags, str) else "fixed"},
                       reference="pesaranshinsmith2001")
 
 

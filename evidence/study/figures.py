@@ -36,7 +36,8 @@ def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[s
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.4, 3.8), dpi=100)
     start, end = window
-    for column, style in zip((activity, *pressures), ("-", "--", ":", "-.", "--")):
+    # Five line styles: a sixth series and beyond are not drawn (figure kept as it was).
+    for column, style in zip((activity, *pressures), ("-", "--", ":", "-.", "--"), strict=False):
         series = panel.series(unit, column).loc[start:end].dropna()
         if series.empty:
             continue

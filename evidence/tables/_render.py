@@ -163,7 +163,7 @@ def render_frame(frame: pd.DataFrame, fmt: str = "text", *, title: str = "",
     for j in range(len(columns)):
         rename = (lambda s: relabel(s, labels)) if j < n_stub else (lambda s: labels.get(s, s))
         columns[j] = [rename(c) if isinstance(c, str) and c else c for c in columns[j]]
-    rows = [list(r) for r in zip(*columns)] if columns else []
+    rows = [list(r) for r in zip(*columns, strict=True)] if columns else []
     spec = Table(header=[header_name(str(c), labels) for c in table.columns], rows=rows,
                  numeric=[is_numeric_column(col) for col in columns],
                  title=relabel(title, labels), notes=all_notes, label=label, fit=fit)
@@ -190,9 +190,9 @@ def _aligned(cells: list[str], numeric: bool) -> list[str]:
             parts.append(None)
     left = max([len(p[0]) for p in parts if p] + [0])
     right = max([len(p[1]) for p in parts if p] + [0])
-    width = max([left + right] + [len(c) for c, p in zip(cells, parts) if p is None])
+    width = max([left + right] + [len(c) for c, p in zip(cells, parts, strict=True) if p is None])
     return [(p[0].rjust(left) + p[1].ljust(right)).rjust(width) if p else c.center(width)
-            for c, p in zip(cells, parts)]
+            for c, p in zip(cells, parts, strict=True)]
 
 
 def _plain(value: Any, numeric: bool) -> str:
@@ -203,16 +203,17 @@ def _plain(value: Any, numeric: bool) -> str:
 def _text(t: Table) -> str:
     body_cols = [_aligned([_plain(r[j], n) for r in t.rows], n) for j, n in enumerate(t.numeric)]
     heads = []
-    for h, col in zip(t.header, body_cols):
+    for h, col in zip(t.header, body_cols, strict=True):
         width = max([len(c) for c in col] + [max((len(w) for w in h.split()), default=0), 16])
         heads.append(textwrap.wrap(h, width=width) or [""])
     depth = max((len(h) for h in heads), default=1)
     heads = [[""] * (depth - len(h)) + h for h in heads]
-    widths = [max([len(c) for c in col] + [len(x) for x in h]) for col, h in zip(body_cols, heads)]
+    widths = [max([len(c) for c in col] + [len(x) for x in h])
+              for col, h in zip(body_cols, heads, strict=True)]
 
     def line(cells: list[str]) -> str:
         return "  ".join(c.rjust(w) if num else c.ljust(w)
-                         for c, w, num in zip(cells, widths, t.numeric)).rstrip()
+                         for c, w, num in zip(cells, widths, t.numeric, strict=True)).rstrip()
 
     rule = "-" * (sum(widths) + 2 * (len(widths) - 1))
     out = [t.title] if t.title else []
@@ -263,7 +264,7 @@ def _html(t: Table) -> str:
     for i, row in enumerate(t.rows):
         if i in t.rules and i > 0:
             out += ["</tbody>", "<tbody>"]
-        out.append("<tr>" + "".join(_html_cell(c, n) for c, n in zip(row, t.numeric)) + "</tr>")
+        out.append("<tr>" + "".join(_html_cell(c, n) for c, n in zip(row, t.numeric, strict=True)) + "</tr>")
     out.append("</tbody>")
     if t.notes:
         out.append("<tfoot>" + "".join(f'<tr><td colspan="{len(t.header)}">{html_escape(n)}</td></tr>'
