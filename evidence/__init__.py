@@ -3,7 +3,7 @@
 The public API, re-exported; see ``docs/`` for the user guide and the methods reference.
 """
 
-from evidence._version import __version__
+from evidence._version import __version__ as __version__
 from evidence.breaks import (
     BreakResult,
     CommonBreakResult,

@@ -239,7 +239,7 @@ def bootstrap_change_interval(log_p: np.ndarray, years: np.ndarray, alpha: float
     """
     from arch.bootstrap import MovingBlockBootstrap
 
-    block = max(2, int(round(years.size ** (1.0 / 3.0))))
+    block = max(2, round(years.size ** (1.0 / 3.0)))
 
     def slope(t: np.ndarray, y: np.ndarray) -> np.ndarray:
         tc = t - t.mean()

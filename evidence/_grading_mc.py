@@ -108,7 +108,7 @@ def _unit(rng: np.random.Generator, process: str, n_years: int,
         k = int(rng.integers(5, 8))
         path = -rng.uniform(0.02, 0.03) * np.maximum(t - (n_years - 1 - k), 0.0)
     elif process == "break-decline":
-        b = int(round(rng.uniform(0.30, 0.45) * n_years))
+        b = round(rng.uniform(0.30, 0.45) * n_years)
         path = -rng.uniform(0.01, 0.03) * np.maximum(t - b, 0.0)
     elif process in ("steady-decline", "unbalanced"):
         path = -rng.uniform(0.01, 0.03) * t

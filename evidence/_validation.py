@@ -195,7 +195,7 @@ def format_years(years: Iterable[int]) -> str:
         return ""
     runs: list[str] = []
     start = prev = ordered[0]
-    for year in ordered[1:] + [None]:  # type: ignore[list-item]
+    for year in [*ordered[1:], None]:  # type: ignore[list-item]
         if year is not None and year == prev + 1:
             prev = year
             continue

@@ -6,6 +6,7 @@ it); 1 an internal failure.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import sys
@@ -56,10 +57,8 @@ def _install_signals() -> dict[int, Any]:
     """SIGTERM unwinds like an error; SIGXFSZ (a file-size limit) becomes an error on write."""
     previous: dict[int, Any] = {}
     for signum, handler in ((signal.SIGTERM, _terminate), (signal.SIGXFSZ, signal.SIG_IGN)):
-        try:
+        with contextlib.suppress(ValueError, OSError):  # not the main thread
             previous[signum] = signal.signal(signum, handler)
-        except (ValueError, OSError):  # not the main thread
-            pass
     return previous
 
 

@@ -246,7 +246,7 @@ class TestResult(ResultProtocol):
         row: dict[str, Any] = {"test": self.test, "statistic": self.statistic,
                                "pvalue": self.pvalue, "nobs": self.nobs}
         for level in LEVELS:
-            row[f"cv_{int(round(level * 100))}"] = self.critical_values.get(level, math.nan)
+            row[f"cv_{round(level * 100)}"] = self.critical_values.get(level, math.nan)
         row["null"] = self.null
         row["warnings"] = "; ".join(self.warnings)
         return pd.DataFrame([row])
@@ -406,10 +406,7 @@ class Estimate(ResultProtocol):
     def pvalues(self) -> pd.Series:
         """Two-sided p-values (Student t with ``df_resid`` degrees of freedom, else normal)."""
         t = np.abs(self.tstats.to_numpy())
-        if self.df_resid is None:
-            p = 2 * stats.norm.sf(t)
-        else:
-            p = 2 * stats.t.sf(t, self.df_resid)
+        p = 2 * stats.norm.sf(t) if self.df_resid is None else 2 * stats.t.sf(t, self.df_resid)
         return pd.Series(p, index=self.params.index, name="pvalues")
 
     def conf_int(self, alpha: float = 0.05) -> pd.DataFrame:

@@ -53,7 +53,7 @@ def test_default_size_band_drift_and_autocorrelation(family):
     # differences (evidence._montecarlo "walks"). 200 draws, B = 99, nominal 5 %. The band
     # [1.5 %, 9 %] is the card's [3 %, 7.5 %] widened by about one Monte Carlo s.e. (1.5 points);
     # the card itself (500 draws, B = 199) is checked against [3 %, 7.5 %] in test_coint_sizes.py.
-    size, asym = _rates("walks", {"drift": 1.0, "rho": 0.5}, 20, 30, 200, 99, 43, (family,))
+    size, _asym = _rates("walks", {"drift": 1.0, "rho": 0.5}, 20, 30, 200, 99, 43, (family,))
     assert all(0.015 <= rate <= 0.09 for rate in size.values()), size
     power, _ = _rates("cointegrated", {"drift": 1.0, "rho": 0.5}, 20, 30, 40, 99, 44, (family,))
     assert min(power.values()) >= 0.4 and np.median(list(power.values())) >= 0.8, power

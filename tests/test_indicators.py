@@ -159,7 +159,7 @@ def test_batch_trend_growth_matches_loop_oracle():
     rng = np.random.default_rng(99)
     years = np.arange(2001, 2021)
     y = rng.normal(size=(years.size, 6)).cumsum(axis=0) * 0.03 + 0.01 * (years - 2001)[:, None]
-    slopes, ses, lags = trend_growth_batch(y, years, hac_lags=2)
+    slopes, ses, _lags = trend_growth_batch(y, years, hac_lags=2)
     for i in range(y.shape[1]):
         slope, se = _naive_hac_slope(y[:, i], years, 2)
         assert_allclose([slopes[i], ses[i]], [slope, se], rtol=1e-8)

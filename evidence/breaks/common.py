@@ -75,10 +75,7 @@ def common_breaks(panel: Panel, column: str, *, model: str = "level", max_breaks
     else:
         draws = null_draws(q, trim, design="trend", units=n_units, reps=1000, grid=200)
     z = regime_design(model, nobs)
-    if m == 0:
-        m_test = 1
-    else:
-        m_test = m
+    m_test = 1 if m == 0 else m
     cut = [int(b) for b in total_breaks[0, m_test, :m_test]]
     num, pooled = 0.0, []
     for n in range(n_units):

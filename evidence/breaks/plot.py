@@ -27,7 +27,7 @@ def plot_breaks(result: Any, *, path: str | Path | None = None) -> Any:
     for row in result.intervals.itertuples(index=False):
         ax.axvspan(row.lower + 0.5, row.upper + 0.5, color="C1", alpha=0.18, linewidth=0)
         ax.axvline(row.break_year + 0.5, color="C1", linestyle="--", linewidth=0.9)
-    conf = int(round((1 - result.alpha) * 100))
+    conf = round((1 - result.alpha) * 100)
     ax.set_title(f"{result.series}: {result.n_breaks} break(s), {conf}% intervals shaded")
     ax.set_xlabel("year (dashed line: after the break year, the last year of the old regime)",
                   fontsize=8)

@@ -97,7 +97,7 @@ class BreakResult(ResultProtocol):
         lines = [f"Structural breaks in {self.series} ({self.model} model, {first}-{last}, T={self.nobs})",
                  f"  trim {self.trim}, max_breaks {self.max_breaks}, selection {self.select}: "
                  f"{self.n_breaks} break(s)", f"  {CONVENTION}"]
-        conf = int(round((1 - self.alpha) * 100))
+        conf = round((1 - self.alpha) * 100)
         for row in self.intervals.itertuples(index=False):
             lines.append(f"  break {row.break_year}   {conf}% interval {row.lower}-{row.upper}")
         lines.append("  regimes:")

@@ -102,7 +102,7 @@ def cusum_test(y: Any, *, model: str = "trend", regressors: Any = None, years: A
 
     H0: constant coefficients; H1: the coefficients change at some unknown time.
     """
-    values, index, z, label = _design(y, model, regressors, years)
+    values, index, z, _label = _design(y, model, regressors, years)
     fit = RecursiveLS(values, z).fit()
     k = z.shape[1]
     nobs = values.size
@@ -124,7 +124,7 @@ def ols_cusum_test(y: Any, *, model: str = "trend", regressors: Any = None, year
 
     H0: constant coefficients; H1: the coefficients change at some unknown time.
     """
-    values, index, z, label = _design(y, model, regressors, years)
+    values, _index, z, _label = _design(y, model, regressors, years)
     coef, *_ = np.linalg.lstsq(z, values, rcond=None)
     resid = values - z @ coef
     stat, pvalue, crit = breaks_cusumolsresid(resid, ddof=z.shape[1])

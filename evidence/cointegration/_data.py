@@ -108,7 +108,7 @@ def lag_matrix(v: np.ndarray, lags: Sequence[int]) -> np.ndarray:
 
     ``v`` is (..., T); the result is (..., T, len(lags)).
     """
-    out = np.full(v.shape + (len(lags),), np.nan)
+    out = np.full((*v.shape, len(lags)), np.nan)
     n = v.shape[-1]
     for c, j in enumerate(lags):
         if j >= 0:

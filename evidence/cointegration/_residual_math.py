@@ -27,7 +27,7 @@ def static_residuals(y: np.ndarray, x: np.ndarray, trend: str) -> tuple[np.ndarr
     """Residuals and slopes of each unit's OLS of ``y`` on its deterministics and ``x``."""
     n_units, n_years = y.shape
     d0 = deterministics(trend, n_years)
-    d = np.broadcast_to(d0, (n_units,) + d0.shape)
+    d = np.broadcast_to(d0, (n_units, *d0.shape))
     z = np.concatenate([d, x], axis=2)
     coef, resid, _ = batch_ols(y, z)
     return resid, coef[:, d.shape[2]:]
@@ -77,7 +77,7 @@ def _pedroni_units(e: np.ndarray, dy: np.ndarray, dx: np.ndarray, adf_lags: np.n
     """The unit pieces of Pedroni's sums (every array (M,) for M units)."""
     n_units = e.shape[0]
     # L11^2: long-run variance of the residual of Δy on Δx (and a constant with a trend).
-    zd = dx if trend != "trend" else np.concatenate([np.ones(dx.shape[:2] + (1,)), dx], axis=2)
+    zd = dx if trend != "trend" else np.concatenate([np.ones((*dx.shape[:2], 1)), dx], axis=2)
     _, eta, _ = batch_ols(dy, zd)
     l11 = long_run_cov(eta[:, :, None], bandwidth)[1][:, 0, 0]
     # Non-parametric (rho, PP) terms from e_t = gamma e_{t-1} + u_t.

@@ -39,7 +39,7 @@ def ec_design(y: np.ndarray, x: np.ndarray, p: int, q: int, trend: str, *,
     dx = np.concatenate([np.full((n_units, 1, k), np.nan), np.diff(x, axis=1)], axis=1)
     rows = slice(start, stop)
     d0 = deterministics(trend, n_years)[rows]
-    parts = [np.broadcast_to(d0, (n_units,) + d0.shape),
+    parts = [np.broadcast_to(d0, (n_units, *d0.shape)),
              lag_matrix(y, [1])[:, rows], lag_matrix(np.moveaxis(x, 2, 1), [1])[:, :, rows, 0]
              .transpose(0, 2, 1)]
     if p:

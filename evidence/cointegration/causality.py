@@ -46,7 +46,7 @@ def _designs(y: np.ndarray, x: np.ndarray, lags: int) -> tuple[np.ndarray, np.nd
     n_units = y.shape[0]
     own = lag_matrix(y, list(range(1, lags + 1)))[:, lags:]
     cross = lag_matrix(x, list(range(1, lags + 1)))[:, lags:]
-    const = np.ones(own.shape[:2] + (1,))
+    const = np.ones((*own.shape[:2], 1))
     restricted = np.concatenate([const, own], axis=2)
     del n_units
     return y[:, lags:], restricted, np.concatenate([restricted, cross], axis=2)

@@ -49,7 +49,7 @@ ESTIMATORS = ("dols", "fmols", "mg", "pmg")
 
 def _det(trend: str, n_units: int, n: int) -> np.ndarray:
     d = deterministics(trend, n)
-    return np.broadcast_to(d, (n_units,) + d.shape)
+    return np.broadcast_to(d, (n_units, *d.shape))
 
 
 def _pooled_dols(y: np.ndarray, x: np.ndarray, trend: str, lags: int, leads: int,
@@ -134,7 +134,7 @@ def _mean_group(block: Block, lags: int) -> tuple[pd.Series, np.ndarray, dict]:
     short = _ardl.short_run_names(block.dependent, block.regressors, lags, lags)
     draws = np.column_stack([unit["theta"], unit["phi"], unit["short"]])
     n = draws.shape[0]
-    params = pd.Series(draws.mean(axis=0), index=names + [_ardl.SPEED] + short)
+    params = pd.Series(draws.mean(axis=0), index=[*names, _ardl.SPEED, *short])
     dev = draws - draws.mean(axis=0)
     cov = dev.T @ dev / (n * (n - 1))
     return params, cov, {"arrays": arr, "unit": unit}

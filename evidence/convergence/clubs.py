@@ -53,7 +53,7 @@ def log_t_statistic(x: np.ndarray, *, trim: float = 0.3) -> tuple[float, float, 
     n_years = x.shape[0]
     h = x / x.mean(axis=1, keepdims=True)
     big_h = ((h - 1.0) ** 2).mean(axis=1)
-    first = max(int(math.floor(trim * n_years)), 2)
+    first = max(math.floor(trim * n_years), 2)
     t = np.arange(first, n_years + 1, dtype=float)
     if not (big_h[0] > 0 and np.all(big_h[first - 1:] > 0)):
         # identical units in a year: the regression is undefined, and such a group is not
@@ -242,7 +242,7 @@ def _find_club(values: np.ndarray, order: list[int], trim: float, sieve: float) 
     threshold = sieve
     while True:
         candidates = [j for j in order if j not in core
-                      and _t(values, core + [j], trim) > threshold]
+                      and _t(values, [*core, j], trim) > threshold]
         club = sorted(core + candidates, key=order.index)
         if not candidates or _t(values, club, trim) > CRITICAL:
             return club

@@ -223,7 +223,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
     blocks = [(y, x) for _, _, y, x in units]
     if len(blocks) < 2:
         raise DataError("the slope homogeneity test needs at least 2 units.")
-    for (unit, _, y, x) in units:
+    for (unit, _, _, x) in units:
         if np.linalg.matrix_rank(_demean(x)) < x.shape[1]:
             raise DataError(f"unit '{unit}' has no variation in a regressor; its own slope cannot "
                             "be estimated. Drop the unit or the regressor.")
@@ -258,7 +258,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
                         "common_shocks": bool(model["common"]),
                         "seed": seed if isinstance(seed, int) else "generator"})
     warnings = []
-    note = size_note(name, n_units, int(round(t_bar)), options=f"inference={inference}")
+    note = size_note(name, n_units, round(t_bar), options=f"inference={inference}")
     if note:
         details["size"] = note
         if not note.get("controlled", True):

@@ -42,7 +42,7 @@ def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[s
         if series.empty:
             continue
         ax.plot(series.index, 100.0 * series / series.iloc[0], style, label=shorten(column))
-    for column, years in breaks.items():
+    for years in breaks.values():
         for year in years:
             ax.axvline(year + 0.5, color="0.55", linewidth=0.8, linestyle=":")
     ax.axhline(100.0, color="0.8", linewidth=0.8)

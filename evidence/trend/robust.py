@@ -189,8 +189,8 @@ def _fixed_b_null(b: float, reps: int = 20000, nsim: int = 200) -> np.ndarray:
     hit = load_cached("trend_fixed_b", params)
     if hit is not None:
         return hit["t"]
-    rng = np.random.default_rng([20261202, int(round(b * 1e6))])
-    lags = max(int(round(b * nsim)) - 1, 0)
+    rng = np.random.default_rng([20261202, round(b * 1e6)])
+    lags = max(round(b * nsim) - 1, 0)
     out = []
     for _ in range(reps // 2000):
         out.append(_stats.hac_t(rng.standard_normal((nsim, 2000)), lags)[0])
