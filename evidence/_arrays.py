@@ -202,7 +202,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
         t, i, j = (int(v[0]) for v in np.nonzero(np.isinf(block)))
         raise DataError(f"column '{cols[j]}' is infinite for unit '{unit_index[i]}' in {time_name} "
                         f"{full[t]}; fix or remove the value.")
-    complete = ~np.isnan(block).any(axis=2)
+    complete: np.ndarray = ~np.isnan(block).any(axis=2)
     excluded: list[dict[str, Any]] = []
     keep = np.ones(unit_index.size, dtype=bool)
     first = np.zeros(unit_index.size, dtype=np.int64)
@@ -295,7 +295,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
             raise DataError(f"the {time_name}s every unit covers, {full[lo] if lo <= hi else '-'}:"
                             f"{full[hi] if lo <= hi else '-'}, are {max(hi - lo + 1, 0)}; {purpose} needs "
                             f"at least {min_years}. Select units with longer common data or a window.")
-        for pos, i in enumerate(idx):
+        for pos, i in enumerate(idx.tolist()):
             cut = np.r_[np.arange(first[pos], lo), np.arange(hi + 1, last[pos] + 1)]
             if cut.size:
                 excluded.append({"unit": unit_index[i], "column": col_label,

@@ -132,7 +132,8 @@ def _unit(rng: np.random.Generator, process: str, n_years: int,
 def simulate_panel(rng: np.random.Generator, n_years: int,
                    units_per_process: int = UNITS_PER_PROCESS) -> tuple[Panel, dict[str, str]]:
     """One mixed panel (levels, not logs) and the process of each unit."""
-    names, cols = [], {"a": [], "p": [], "c": []}
+    names: list[str] = []
+    cols: dict[str, list[Any]] = {"a": [], "p": [], "c": []}
     starts = recession_starts(rng, n_years)
     for process in PROCESSES:
         for k in range(units_per_process):

@@ -5,7 +5,7 @@ from __future__ import annotations
 import difflib
 import math
 from collections.abc import Iterable, Sequence
-from typing import Any
+from typing import Any, Literal, overload
 
 import numpy as np
 
@@ -68,6 +68,16 @@ def check_window(window: Any, years: Sequence[int]) -> tuple[int, int]:
         raise SpecError(f"window=({start}, {end}) lies outside the data's years "
                         f"{min(years)}:{max(years)}.")
     return start, end
+
+
+@overload
+def check_int(parameter: str, value: Any, *, minimum: int | None = None,
+              maximum: int | None = None, allow_none: Literal[False] = False) -> int: ...
+
+
+@overload
+def check_int(parameter: str, value: Any, *, minimum: int | None = None,
+              maximum: int | None = None, allow_none: bool) -> int | None: ...
 
 
 def check_int(parameter: str, value: Any, *, minimum: int | None = None,
@@ -152,7 +162,7 @@ def check_seed(seed: Any) -> int | np.random.Generator:
         return int(np.random.SeedSequence().generate_state(1, dtype=np.uint64)[0] >> np.uint64(1))
     if isinstance(seed, np.random.Generator):
         return seed
-    return check_int("seed", seed, minimum=0)  # type: ignore[return-value]
+    return check_int("seed", seed, minimum=0)
 
 
 def adjust_pvalues(pvalues: Any, method: str) -> np.ndarray:
@@ -195,7 +205,7 @@ def format_years(years: Iterable[int]) -> str:
         return ""
     runs: list[str] = []
     start = prev = ordered[0]
-    for year in [*ordered[1:], None]:  # type: ignore[list-item]
+    for year in [*ordered[1:], None]:
         if year is not None and year == prev + 1:
             prev = year
             continue

@@ -324,7 +324,8 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
     years = panel.years
     start, end = (check_window(window, years) if window is not None
                   else (int(years[0]), int(years[-1])))
-    rows, records, excluded = [], {}, []
+    rows, records = [], {}
+    excluded: list[dict[str, Any]] = []
     spans: list[int] = []
     for pressure in pressures:
         blocks = _unit_blocks(panel, [pressure, activity], (start, end), crit, excluded)

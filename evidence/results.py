@@ -113,11 +113,13 @@ class ResultProtocol:
     def __post_init__(self) -> None:
         names = {f.name for f in fields(self)}  # type: ignore[arg-type]
         if "details" in names:
-            object.__setattr__(self, "details", _frozen_mapping(self.details))
+            # getattr: a mixin, and only some result classes have these fields
+            object.__setattr__(self, "details", _frozen_mapping(getattr(self, "details")))  # noqa: B009
         if "warnings" in names:
-            object.__setattr__(self, "warnings", tuple(str(w) for w in self.warnings))
+            object.__setattr__(self, "warnings",
+                               tuple(str(w) for w in getattr(self, "warnings")))  # noqa: B009
         if "excluded" in names:
-            object.__setattr__(self, "excluded", excluded_frame(self.excluded))
+            object.__setattr__(self, "excluded", excluded_frame(getattr(self, "excluded")))  # noqa: B009
 
     def summary(self) -> str:
         """A readable block of text (subclasses give their own)."""

@@ -115,6 +115,7 @@ def describe(y: np.ndarray, spec: Spec, *, sequential: bool = False) -> dict[str
                            "wdmax": wdmax, "r": r, "innovation": innovation}
     if spec.inference == "simulated":
         table = spec.table
+        assert table is not None  # set whenever inference is "simulated"
         out["p_supf"] = np.stack([table.pvalue(f"supF({k + 1})", supf[:, k], r[:, 0])
                                   for k in range(K)], axis=1)
         out["p_udmax"] = table.pvalue("UDmax", udmax, r[:, 0])

@@ -50,7 +50,7 @@ def common_breaks(panel: Panel, column: str, *, model: str = "level", max_breaks
                          min_years=2, require_units=0, purpose="common_breaks")
     excluded = block.excluded.to_dict(orient="records")
     full = (block.first == 0) & (block.last == block.years.size - 1)
-    for i in np.flatnonzero(~full):
+    for i in np.flatnonzero(~full).tolist():
         span = f"{block.years[block.first[i]]}-{block.years[block.last[i]]}"
         excluded.append({"unit": block.units[i], "column": column, "years": span,
                          "reason": "unit excluded: does not cover every year of the panel "

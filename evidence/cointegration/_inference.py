@@ -173,9 +173,9 @@ def relation_results(*, family: str, block: Block, raw: Mapping[str, float],
     family_warnings: list[str] = []
     if moving and drift_matters:
         verb = "drifts" if len(moving) == 1 else "drift"
-        note = (f"{', '.join(moving)} {verb} in most units: with trend='constant' the asymptotic "
-                "moments do not apply (Hansen 1992)")
-        family_warnings.append(note + ("; the bootstrap reproduces the drift." if draws is not None
+        drift_note = (f"{', '.join(moving)} {verb} in most units: with trend='constant' the "
+                      "asymptotic moments do not apply (Hansen 1992)")
+        family_warnings.append(drift_note + ("; the bootstrap reproduces the drift." if draws is not None
                                        else "; use inference='bootstrap' (the default)."))
     results = []
     for name, value in raw.items():

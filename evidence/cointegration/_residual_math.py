@@ -8,6 +8,8 @@ bootstrap recomputes a statistic on hundreds of panels in one pass. The public t
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from evidence._hac import long_run_cov
@@ -260,7 +262,7 @@ def kao_raw(y: np.ndarray, x: np.ndarray, lags: int, *, bandwidth: int) -> dict[
     One panel ``y`` (N, T), ``x`` (N, T, k), a fixed pooled ADF order: see :func:`kao_statistics`.
     """
     raw = kao_statistics(y[None], x[None], lags=int(lags), max_lags=int(lags), bandwidth=bandwidth)
-    out = {key: float(value[0]) for key, value in raw.items() if key != "beta"}
-    out["beta"] = raw["beta"][0]  # type: ignore[assignment]
+    out: dict[str, Any] = {key: float(value[0]) for key, value in raw.items() if key != "beta"}
+    out["beta"] = raw["beta"][0]
     out.update({"n_units": y.shape[0], "n_years": y.shape[1]})
     return out

@@ -60,8 +60,8 @@ def log_t_statistic(x: np.ndarray, *, trim: float = 0.3) -> tuple[float, float, 
         # accepted as converging by the test (t is NaN, never above the critical value)
         return math.nan, math.nan, t.size
     y = np.log(big_h[0] / big_h[first - 1:]) - 2.0 * np.log(np.log(t))
-    slope, se, _ = trend_growth_batch(y[:, None], np.log(t))
-    b, se, n = float(slope[0]), float(se[0]), t.size
+    slopes, ses, _ = trend_growth_batch(y[:, None], np.log(t))
+    b, se, n = float(slopes[0]), float(ses[0]), t.size
     return (b / se if se > 0 else math.nan), b, n
 
 

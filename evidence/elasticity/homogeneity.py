@@ -214,7 +214,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
     """
     inference = check_choice("inference", INFERENCES[0] if inference is None else inference,
                              INFERENCES)
-    reps = int(check_int("reps", reps, minimum=19))  # type: ignore[arg-type]
+    reps = int(check_int("reps", reps, minimum=19))
     length = check_int("block_length", block_length, minimum=1, allow_none=True) or 1
     seed = check_seed(seed)
     design = build_design(panel, pressure, activity, controls=controls, log=log, window=window,

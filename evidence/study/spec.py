@@ -67,7 +67,7 @@ def _name(value: Any, where: str) -> str:
 def _int(low: int | None, high: int | None) -> Check:
     def check(value: Any, where: str) -> int:
         try:
-            return int(check_int("value", value, minimum=low, maximum=high))  # type: ignore[arg-type]
+            return int(check_int("value", value, minimum=low, maximum=high))
         except SpecError as exc:
             raise _fail(where, str(exc).replace("value=", "", 1)) from None
     return check

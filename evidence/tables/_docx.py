@@ -20,8 +20,13 @@ _FIXED_TIME = datetime(2000, 1, 1, tzinfo=UTC)
 class _TableParser(HTMLParser):
     def __init__(self) -> None:
         super().__init__()
-        self.caption, self.header, self.rows, self.notes = "", [], [], []
-        self._part, self._cell, self._row = "", None, None
+        self.caption = ""
+        self.header: list[str] = []
+        self.rows: list[list[str]] = []
+        self.notes: list[str] = []
+        self._part = ""
+        self._cell: str | None = None
+        self._row: list[str] | None = None
 
     def handle_starttag(self, tag: str, attrs: list) -> None:
         if tag in ("caption", "thead", "tbody", "tfoot"):
@@ -77,5 +82,5 @@ def html_to_docx(html_text: str, path: str | Path) -> Path:
         for note in parser.notes:
             document.add_paragraph(note)
     path = Path(path)
-    document.save(path)
+    document.save(str(path))
     return path

@@ -180,10 +180,10 @@ def _aligned(cells: list[str], numeric: bool) -> list[str]:
     """Numeric text cells aligned on the decimal point (text cells right-aligned)."""
     if not numeric:
         return cells
-    parts = []
+    parts: list[tuple[str, str] | None] = []
     for c in cells:
-        if NUMERIC_TEXT.search(c):
-            match = NUMERIC_TEXT.search(c)
+        match = NUMERIC_TEXT.search(c)
+        if match:
             point = c.find(".", match.start()) if "." in c[match.start():match.end()] else match.end()
             parts.append((c[:point], c[point:]))
         else:

@@ -119,7 +119,8 @@ def estimate_columns(estimates: Sequence[Estimate], *, stat: str = "se", digits:
         terms += [t for t in est.params.index if t not in terms]
     out = EstimateColumns(heads)
     for term in terms:
-        top, below = [], []
+        top: list[Number | str] = []
+        below: list[Number | str] = []
         for est in estimates:
             if term not in est.params.index:
                 top.append("")

@@ -25,7 +25,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
              f"{res.window[0]}-{res.window[1]}")
     table = TableOut("decomposition", lambda f: render_frame(
         res.to_frame("additive"), f, title=title, notes=notes, labels=spec.labels))
-    figures = ()
+    figures: tuple[FigureOut, ...] = ()
     if spec.figures:
         effects = res.to_frame("additive").loc[[res.total_row], list(res.factors)]
         figures = (FigureOut("decomposition", lambda: figs.decomposition_figure(
