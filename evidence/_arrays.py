@@ -202,7 +202,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
         t, i, j = (int(v[0]) for v in np.nonzero(np.isinf(block)))
         raise DataError(f"column '{cols[j]}' is infinite for unit '{unit_index[i]}' in {time_name} "
                         f"{full[t]}; fix or remove the value.")
-    complete: np.ndarray = ~np.isnan(block).any(axis=2)
+    complete = np.asarray(~np.isnan(block).any(axis=2))
     excluded: list[dict[str, Any]] = []
     keep = np.ones(unit_index.size, dtype=bool)
     first = np.zeros(unit_index.size, dtype=np.int64)
@@ -237,7 +237,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
             first[i], last[i] = lo_all[i], hi_all[i]
             continue
         ok = complete[:, i]
-        present = ~np.isnan(block[:, i, :]).all(axis=1)
+        present = np.asarray(~np.isnan(block[:, i, :]).all(axis=1))
         if not ok.any():
             drop(i, full[present], "unit excluded: no year with every column present")
             continue

@@ -183,8 +183,9 @@ def _sequential_p(stats: np.ndarray, r: np.ndarray, spec: Spec) -> np.ndarray:
         if not finite.any():
             continue
         name = f"supF({ell + 1}|{ell})"
-        if spec.inference == "simulated" and name in spec.table.stats:
-            p = spec.table.pvalue(name, stats[:, ell], r[:, ell])
+        table = spec.table if spec.inference == "simulated" else None
+        if table is not None and name in table.stats:
+            p = table.pvalue(name, stats[:, ell], r[:, ell])
         else:
             p = 1.0 - (1.0 - _asymptotic_p(stats[:, ell], one)) ** (ell + 1)
         pvals[:, ell] = np.where(finite, p, 1.0)

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Literal
 
 import numpy as np
 import pandas as pd
@@ -26,7 +27,7 @@ __all__ = ["ARCH_TREND", "Block", "as_columns", "batch_ols", "deterministics", "
            "option_int", "relation_block"]
 
 #: The package's trend words in the spelling of arch and statsmodels.
-ARCH_TREND = {"none": "n", "constant": "c", "trend": "ct"}
+ARCH_TREND: dict[str, Literal["n", "c", "ct"]] = {"none": "n", "constant": "c", "trend": "ct"}
 
 
 @dataclass(frozen=True, eq=False)

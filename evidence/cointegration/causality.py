@@ -106,7 +106,7 @@ def _null_model(y: np.ndarray, x: np.ndarray, lags: int) -> dict[str, np.ndarray
             "common": common_shocks(resid)}
 
 
-def _bootstrap_draw(spec: tuple[dict[str, np.ndarray], int, int], rng: np.random.Generator,
+def _bootstrap_draw(spec: tuple[dict[str, Any], int, int], rng: np.random.Generator,
                     reps: int) -> dict[str, np.ndarray]:
     """Z-bar of ``reps`` panels generated from the null model (see ``dumitrescu_hurlin_test``)."""
     model, lags, block_length = spec

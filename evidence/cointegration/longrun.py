@@ -22,7 +22,12 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
-from arch.unitroot.cointegration import DynamicOLS, FullyModifiedOLS
+from arch.unitroot.cointegration import (
+    CointegrationAnalysisResults,
+    DynamicOLS,
+    DynamicOLSResults,
+    FullyModifiedOLS,
+)
 from scipy import stats
 
 from evidence._hac import long_run_cov, newey_west_lags
@@ -110,6 +115,7 @@ def _group_mean(block: Block, estimator: str, trend: str, lags: int,
     for i in range(block.n_units):
         yi = pd.Series(block.y[i])
         xi = pd.DataFrame(block.x[i], columns=list(block.regressors))
+        res: DynamicOLSResults | CointegrationAnalysisResults
         if estimator == "dols":
             res = DynamicOLS(yi, xi, trend=ARCH_TREND[trend], lags=lags,
                              leads=leads).fit(cov_type="kernel")

@@ -24,13 +24,15 @@ park1992 : Park, J. Y. (1992). Canonical cointegrating regressions. Econometrica
 
 from __future__ import annotations
 
-from typing import Any
+from typing import Any, Literal, cast
 
 import numpy as np
 import pandas as pd
 from arch.unitroot.cointegration import (
     CanonicalCointegratingReg,
+    CointegrationAnalysisResults,
     DynamicOLS,
+    DynamicOLSResults,
     FullyModifiedOLS,
     engle_granger,
     phillips_ouliaris,
@@ -120,7 +122,7 @@ def engle_granger_test(y: Any, x: Any, *, trend: str = "constant", lags: int | s
         kw["method"] = "t-stat" if lags == "sequential-t" else lags
     else:
         kw["lags"] = lags
-    res = engle_granger(ys, xs, trend=ARCH_TREND[trend], **kw)  # type: ignore[arg-type]
+    res = engle_granger(ys, xs, trend=ARCH_TREND[trend], **kw)
     return TestResult(test="Engle-Granger", statistic=res.stat, pvalue=res.pvalue,
                       critical_values=_cv(res.critical_values), null=_NULL, alternative=_ALT,
                       nobs=len(ys), details={"trend": trend, "lags": int(res.lags),
@@ -156,8 +158,8 @@ def phillips_ouliaris_test(y: Any, x: Any, *, trend: str = "constant", variant: 
     variant = check_choice("variant", variant, ("Zt", "Za", "Pu", "Pz"))
     hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
     ys, xs = _inputs(y, x, min_obs=xs_min(x) + 8, purpose="phillips_ouliaris_test")
-    res = phillips_ouliaris(ys, xs, trend=ARCH_TREND[trend],  # type: ignore[arg-type]
-                            test_type=variant, bandwidth=hac_lags)
+    res = phillips_ouliaris(ys, xs, trend=ARCH_TREND[trend],
+                            test_type=cast(Literal["Za", "Zt", "Pu", "Pz"], variant), bandwidth=hac_lags)
     return TestResult(test=f"Phillips-Ouliaris {variant}", statistic=res.stat, pvalue=res.pvalue,
                       critical_values=_cv(res.critical_values), null=_NULL, alternative=_ALT,
                       nobs=len(ys), details={"trend": trend, "hac_lags": float(res.bandwidth),
@@ -248,6 +250,7 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "constant", lags: int | str
         raise SpecError("lags=0 leaves no lagged level of y; use lags of at least 1.")
     sm_trend = {1: "n", 2: "c", 3: "c", 4: "ct", 5: "ct"}[case]
     ys, xs = ys.reset_index(drop=True), xs.reset_index(drop=True)
+    order: int | dict[Any, int]
     if isinstance(lags, str):
         sel = ardl_select_order(ys, max_l, xs, max_l, trend=sm_trend, ic=lags)
         p = max(int(max(sel.model.ardl_order[0], 1)), 1)
@@ -297,18 +300,20 @@ def cointegrating_regression(y: Any, x: Any, *, estimator: str = "dols", trend: 
     leads = check_lags(leads, parameter="leads", rules=("aic", "bic"))
     max_lags = check_max_lags(max_lags)
     ys, xs = _inputs(y, x, min_obs=xs_min(x) * 3 + 10, purpose="cointegrating_regression")
+    res: DynamicOLSResults | CointegrationAnalysisResults
+    details: dict[str, Any]
     if estimator == "dols":
         method = lags if isinstance(lags, str) else (leads if isinstance(leads, str) else "bic")
-        model = DynamicOLS(ys, xs, trend=ARCH_TREND[trend],  # type: ignore[arg-type]
+        model = DynamicOLS(ys, xs, trend=ARCH_TREND[trend],
                            lags=None if isinstance(lags, str) else lags,
                            leads=None if isinstance(leads, str) else leads, max_lag=max_lags,
-                           max_lead=max_lags, method=method)
+                           max_lead=max_lags, method=cast(Literal["aic", "bic", "hqic"], method))
         res = model.fit(cov_type="kernel")
         details = {"lags": int(res.lags), "leads": int(res.leads), "hac_lags": float(res.bandwidth)}
         label = "DOLS"
     else:
         cls = FullyModifiedOLS if estimator == "fmols" else CanonicalCointegratingReg
-        res = cls(ys, xs, trend=ARCH_TREND[trend]).fit()  # type: ignore[arg-type]
+        res = cls(ys, xs, trend=ARCH_TREND[trend]).fit()
         details = {"hac_lags": float(res.bandwidth), "kernel": str(res.kernel)}
         label = estimator.upper()
     details["trend"] = trend

@@ -113,6 +113,7 @@ def _null_model(blocks: Sequence[tuple[np.ndarray, np.ndarray]], max_lags: int) 
     balanced = len(sizes) == 1
     order = 0
     coef = np.zeros((0, 1, 1))
+    innov: Any  # (N, S, 1) array when balanced, else one array per unit
     if balanced:
         u = np.stack(resid)[:, :, None]                                     # (N, T, 1)
         n_obs = u.shape[1]
