@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import replace
+from functools import partial
 
 from evidence.elasticity import decoupling_tests, elasticity
 from evidence.panel import Panel
@@ -24,9 +25,9 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
                  for t in decoupling_tests(fit)]
         results[pressure] = [f.to_dict() for f in fits]
         title = f"Elasticity of {pressure} with respect to {spec.activity}"
-        tables.append(TableOut(f"elasticity_{safe_name(pressure)}", lambda f, fs=fits, t=title:
-                               regression_table(fs, f, title=t, notes=notes,
-                                                labels=spec.labels), pressure))
-        tables.append(TableOut(f"elasticity_tests_{safe_name(pressure)}", lambda f, ts=tests: test_table(
-            ts, f, title="One-sided decoupling tests", labels=spec.labels), pressure))
+        tables.append(TableOut(f"elasticity_{safe_name(pressure)}",
+                               partial(regression_table, fits, title=title, notes=notes,
+                                       labels=spec.labels), pressure))
+        tables.append(TableOut(f"elasticity_tests_{safe_name(pressure)}", partial(
+            test_table, tests, title="One-sided decoupling tests", labels=spec.labels), pressure))
     return StepOutput("Elasticities", tuple(tables), results={"elasticity": results})

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import fields
+from functools import partial
 from typing import Any
 
 from evidence.breaks import find_breaks
@@ -57,16 +58,21 @@ def _unit_figures(panel: Panel, spec: StudySpec, res: GradeResult) -> tuple[Figu
         breaks = {p: records[(unit, p)].get("break_years") or []
                   for p in pressures if (unit, p) in records}
         out.append(FigureOut(
-            f"indexed_{safe_name(unit)}", lambda u=unit, b=breaks: figs.indexed_figure(
-                panel, u, spec.activity, shown, window, b), in_report=number < SHOWN, source=unit))
+            f"indexed_{safe_name(unit)}", partial(
+                figs.indexed_figure, panel, unit, spec.activity, shown, window, breaks),
+            in_report=number < SHOWN, source=unit))
         out.append(FigureOut(f"intensity_{safe_name(unit)}",
-                             lambda u=unit: _intensity_figure(panel, u, pressures[0], spec, window),
+                             partial(_intensity_figure, panel, unit, pressures[0], spec, window),
                              label=f"intensity {unit}", source=unit))
         rec = records.get((unit, pressures[0]))
         if rec is not None:
-            out.append(FigureOut(f"subwindows_{safe_name(unit)}", lambda u=unit, r=rec: figs.heatmap_figure(
-                r["subwindow_matrix"], _span_years(r["span"]),
-                f"{u}: sub-windows where the {r['claim_tested']} claim holds"), source=unit))
+
+            def subwindows(u: str = unit, r: dict[str, Any] = rec) -> Any:
+                return figs.heatmap_figure(
+                    r["subwindow_matrix"], _span_years(r["span"]),
+                    f"{u}: sub-windows where the {r['claim_tested']} claim holds")
+
+            out.append(FigureOut(f"subwindows_{safe_name(unit)}", subwindows, source=unit))
     return tuple(out)
 
 

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from functools import partial
+
 from evidence.indicators import rates
 from evidence.panel import Panel
 from evidence.study.spec import StudySpec
@@ -19,5 +21,5 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         res = rates(panel, pressure, spec.activity, window=spec.window)
         results[pressure] = res.to_dict()
         tables.append(TableOut(f"rates_{safe_name(pressure)}",
-                               lambda f, r=res: rates_table(r, f, notes=notes, labels=spec.labels), pressure))
+                               partial(rates_table, res, notes=notes, labels=spec.labels), pressure))
     return StepOutput("Decoupling indicators", tuple(tables), results={"rates": results})

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+from typing import Any
+
 from evidence.panel import Panel, derived_name
 from evidence.roots import root_battery
 from evidence.study.spec import StudySpec
@@ -22,7 +24,11 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
                            tests=tuple(spec.analyses["roots"]))
         results[column] = res.to_dict()
         title = f"Unit-root battery, log {column} (p-values; decision at 5 %)"
-        tables.append(TableOut(f"roots_{safe_name(column)}", lambda f, r=res, t=title: render_frame(
-            r.to_frame() if f in ("csv", "json") else r.decision_table(), f, title=t,
-            index=False, notes=notes, labels=spec.labels), column))
+
+
+        def render(f: str, r: Any = res, t: str = title) -> str:
+            return render_frame(r.to_frame() if f in ("csv", "json") else r.decision_table(), f,
+                                title=t, index=False, notes=notes, labels=spec.labels)
+
+        tables.append(TableOut(f"roots_{safe_name(column)}", render, column))
     return StepOutput("Unit roots", tuple(tables), results={"roots": results})
