@@ -46,7 +46,7 @@ PENDING = {
     "trend": {"elasticity"},
     "panel_columns": set(),
     "layering": {"evidence._commands.coint", "evidence._commands.elasticity",
-                 "evidence._commands.grade", "evidence.breaks.screen"},
+                 "evidence._commands.grade"},
 }
 
 def _area(module: str) -> str:
