@@ -36,6 +36,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import sys
 from collections import Counter
 from pathlib import Path
 from typing import Any
@@ -157,6 +158,7 @@ def run(reps: int = 30, years: tuple[int, ...] = (25, 30, 35), seed: int = SEED,
             panel, process = simulate_panel(rng, n_years)
             res = grade(panel, ["p"], "a", criteria=crit, consumption={"p": "c"},
                         latest_break=False)
+            print(f"T={n_years}: panel graded", file=sys.stderr, flush=True)
             for row in res.table.itertuples():
                 rows.append({"process": process[row.unit], "T": n_years, "rung": row.rung,
                              "flags": row.flags, "span": row.span, "years": row.years,

@@ -216,7 +216,17 @@ def perron_yabu_parts(y: np.ndarray, d: Design | None = None) -> dict[str, np.nd
              / np.maximum(np.einsum("tn,tn->n", resid[:-1], resid[:-1]), 1e-300))
     alpha = np.minimum(alpha + (1.0 + 3.0 * alpha) / n, 1.0)
     out: dict[str, np.ndarray] = {"alpha": alpha}
-    for name, a in (("gls", alpha), ("diff", np.ones_like(alpha))):
+    k = d.x.shape[1]
+    diff_x = np.vstack([d.x[:1], d.x[1:] - d.x[:-1]])   # a = 1: one design for every series
+    diff_inv = np.linalg.pinv(diff_x.T @ diff_x)
+    ys = np.vstack([y[:1], np.diff(y, axis=0)])
+    coef = diff_inv @ diff_x.T @ ys                                              # (k, m)
+    e = ys - diff_x @ coef
+    s2 = np.einsum("tm,tm->m", e, e) / (n - k)
+    est = d.contrast @ coef
+    se = np.sqrt(s2 * float(d.contrast @ diff_inv @ d.contrast))
+    out["t_diff"], out["est_diff"], out["se_diff"] = est / se, est, se
+    for name, a in (("gls", alpha),):
         ys = np.vstack([y[:1], y[1:] - a * y[:-1]])                              # (T, m)
         xs = np.concatenate([d.x[None, :1, :].repeat(y.shape[1], 0),
                              d.x[None, 1:, :] - a[:, None, None] * d.x[None, :-1, :]],
