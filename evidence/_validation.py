@@ -5,11 +5,11 @@ from __future__ import annotations
 import difflib
 import math
 from collections.abc import Iterable, Sequence
-from typing import Any, Literal, overload
+from typing import Any, Literal, cast, overload
 
 import numpy as np
 
-from evidence._typing import ADJUSTMENTS, LAG_RULES, TRENDS
+from evidence._typing import ADJUSTMENTS, LAG_RULES, TRENDS, Trend
 from evidence.errors import DataError, SpecError
 
 __all__ = ["suggest", "check_choice", "check_columns", "check_window", "check_int", "check_number",
@@ -131,9 +131,9 @@ def check_alpha(alpha: Any, parameter: str = "alpha") -> float:
     return check_number(parameter, alpha, low=0.0, high=1.0, inclusive=False, hint=", e.g. 0.05")
 
 
-def check_trend(trend: Any, allowed: Sequence[str] = TRENDS) -> str:
+def check_trend(trend: Any, allowed: Sequence[str] = TRENDS) -> Trend:
     """Deterministic terms: one of ``"none"``, ``"constant"``, ``"trend"`` (or a subset)."""
-    return check_choice("trend", trend, tuple(allowed))
+    return cast(Trend, check_choice("trend", trend, tuple(allowed)))
 
 
 def check_lags(lags: Any, *, parameter: str = "lags", rules: Sequence[str] = LAG_RULES) -> int | str:
