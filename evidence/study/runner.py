@@ -14,7 +14,7 @@ import time
 from collections.abc import Callable
 from contextlib import ExitStack
 from dataclasses import dataclass, replace
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import metadata
 from pathlib import Path
 from typing import Any
@@ -221,7 +221,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
 def _input_hashes(spec: StudySpec, source: Path | None) -> dict[str, Any]:
     """Hashes of the inputs, taken before anything is written."""
     check_source(spec.data_file)
-    out = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
+    out: dict[str, Any] = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
     if source is not None:
         out["study_file"] = {"file": source.name, "sha256": file_hash(source)}
     return out
@@ -232,7 +232,7 @@ def run_into(spec: StudySpec, folder: OutputFolder, executor: ExecutorLike,
              progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Run ``spec`` into an open output folder and commit it (the runner behind ``run_study``
     and ``run_demo``)."""
-    started, clock = datetime.now(timezone.utc), time.perf_counter()
+    started, clock = datetime.now(UTC), time.perf_counter()
     panel = _load(spec)
     stack = ExitStack()
     try:
