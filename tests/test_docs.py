@@ -11,6 +11,8 @@ import importlib
 import re
 from pathlib import Path
 
+import pytest
+
 import evidence
 
 DOCS = Path(__file__).resolve().parents[1] / "docs"
@@ -104,3 +106,12 @@ def test_every_methods_page_is_in_the_toctree():
     assert {p.stem for p in METHOD_PAGES} <= listed
     assert "methods/index" in toctree_entries(DOCS / "index.md")
 
+
+@pytest.mark.parametrize("page", [p for p in METHOD_PAGES if p.name != "size.md"], ids=lambda p: p.name)
+def test_methods_page_has_math_assumptions_size_example_references(page: Path):
+    text = page.read_text(encoding="utf-8")
+    assert "$$" in text or re.search(r"\$[^$\n]+\$", text), "formulas as math ($...$ or $$...$$)"
+    assert re.search(r"^#+ .*Assumptions|^\**Assumptions", text, re.M), "an Assumptions part"
+    assert "](size.md" in text, "a link to the size card (size.md)"
+    assert re.search(r"^## Worked example.*demo", text, re.M | re.I), "a worked example on the demo"
+    assert re.search(r"^(## )?References?\b", text, re.M), "references"
