@@ -189,8 +189,8 @@ def test_study_result_protocol_and_executor_option(tmp_path):
     res = run_study(spec, tmp_path / "out", executor=executor)
     assert repr(res).startswith("StudyResult(folder=") and "\n" not in repr(res)
     assert str(res) == res.summary() and "Wrote" in res.summary()
-    assert res.steps == ("grade", "rates", "elasticity")
-    assert res.to_frame()["status"].tolist() == ["run", "run", "run"]
+    assert res.steps == ("grade", "rates", "breaks", "elasticity")
+    assert res.to_frame()["status"].tolist() == ["run", "run", "run", "run"]
     payload = res.to_dict()
     assert json.loads(json.dumps(payload)) == payload and "grade" not in payload
     manifest = json.loads((tmp_path / "out" / "manifest.json").read_text())
