@@ -58,9 +58,13 @@ nav#contents ol { columns: 3 220px; margin: 0.3em 0; }
 table { border-collapse: collapse; font-size: 0.76em; }
 th, td { border-bottom: 1px solid #ccc; padding: 0.2em 0.35em; vertical-align: top; }
 th { font-weight: 600; }
+td[style*="right"] { white-space: nowrap; }
 th { background: #fafafa; }
 caption { font-weight: bold; text-align: left; padding-bottom: 0.3em; caption-side: top; }
-tfoot td { font-size: 0.92em; color: #555; border: none; font-weight: normal; }
+.table-notes { font-family: Helvetica, Arial, 'DejaVu Sans', sans-serif; font-size: 0.74em;
+               color: #555; max-width: 80em; }
+.table-notes p { margin: 0.15em 0; }
+.table { margin-bottom: 0.2em; }
 details > summary { cursor: pointer; font-family: Helvetica, Arial, sans-serif; font-size: 0.9em; }
 .lead { max-width: 60em; }
 .files { font-size: 0.8em; color: #555; }
@@ -139,13 +143,28 @@ def _files(files: Sequence[str]) -> str:
     return f'<p class="files">Files: {_links(files)}</p>' if files else ""
 
 
+_FOOT = re.compile(r"<tfoot>(.*?)</tfoot>", re.S)
+_NOTE = re.compile(r'<tr><td colspan="\d+">(.*?)</td></tr>', re.S)
+
+
+def _notes_below(table_html: str) -> str:
+    """The table with its footer notes moved below it as paragraphs, so that long notes do not
+    widen the columns (a spanning footer cell counts in the table's column widths)."""
+    found = _FOOT.search(table_html)
+    if not found:
+        return f'<div class="table">{table_html}</div>'
+    notes = "".join(f"<p>{n}</p>" for n in _NOTE.findall(found.group(1)))
+    body = table_html[:found.start()] + table_html[found.end():]
+    return f'<div class="table">{body}</div><div class="table-notes">{notes}</div>'
+
+
 def _table(item: Any) -> str:
     if isinstance(item, str):
-        return f'<div class="table">{item}</div>'
+        return _notes_below(item)
     if item.shown == "file":
         return (f'<p class="files">{html.escape(item.summary or "Table")}, not shown here: '
                 f'{_links(item.files)}</p>')
-    body = f'<div class="table">{item.html}</div>{_files(item.files)}'
+    body = f"{_notes_below(item.html)}{_files(item.files)}"
     if item.shown == "folded":
         return (f"<details><summary>{html.escape(item.summary or 'Show the table')}</summary>"
                 f"{body}</details>")
