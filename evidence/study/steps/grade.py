@@ -8,7 +8,7 @@ report beside the verdict. Unit figures (indexed series, sub-window maps) are dr
 
 from __future__ import annotations
 
-from dataclasses import fields, replace
+from dataclasses import replace
 
 import pandas as pd
 
@@ -27,15 +27,9 @@ SMALL_MULTIPLES = 48
 
 
 def criteria(spec: StudySpec) -> Criteria:
-    """The grade's criteria from ``[criteria]``, the study seed and ``[breaks]``.
-
-    The study file says ``reps`` (the one vocabulary); it is passed under the name the grade's
-    ``Criteria`` has for its bootstrap replications.
-    """
-    options = dict(spec.criteria)
-    if "reps" in options and "reps" not in {f.name for f in fields(Criteria)}:
-        options["bootstrap_reps"] = options.pop("reps")
-    return Criteria(**{**options, "seed": spec.seed,
+    """The grade's criteria from ``[criteria]`` (``reps`` included), the study seed and
+    ``[breaks]``."""
+    return Criteria(**{**spec.criteria, "seed": spec.seed,
                        **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
 
 
