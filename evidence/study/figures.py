@@ -87,15 +87,43 @@ def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noq
     return fig
 
 
-def decomposition_figure(effects: pd.DataFrame, title: str):  # noqa: ANN201
-    """Bars of the additive LMDI effects (one group per row of ``effects``)."""
+def decomposition_figure(effects: pd.DataFrame, title: str, *, unit: str = ""):  # noqa: ANN201
+    """Horizontal bars of the additive LMDI effects and their sum (the change), one bar each.
+
+    ``effects`` holds one row (the effects of every factor); more rows are drawn as groups.
+    Increases are drawn in orange, decreases in blue, the net change in grey; each bar carries
+    its value.
+    """
     plt = pyplot()
-    fig, ax = plt.subplots(figsize=(6.4, 3.6), dpi=100)
-    effects.plot.bar(ax=ax, width=0.8)
-    ax.axhline(0.0, color="0.4", linewidth=0.8)
+    if len(effects) != 1:
+        fig, ax = plt.subplots(figsize=(6.4, 3.6), dpi=100)
+        effects.plot.barh(ax=ax, width=0.8)
+        ax.axvline(0.0, color="0.4", linewidth=0.8)
+        ax.set_title(title, fontsize=9)
+        ax.set_xlabel(f"contribution to the change{' (' + unit + ')' if unit else ''}")
+        ax.legend(frameon=False, fontsize=7)
+        fig.tight_layout()
+        return fig
+    row = effects.iloc[0].astype(float)
+    names = [*map(str, row.index), "change (sum)"]
+    values = [*row.to_numpy(), float(row.sum())]
+    colours = [("#d55e00" if v > 0 else "#0072b2") for v in values[:-1]] + ["0.45"]
+    fig, ax = plt.subplots(figsize=(6.4, 0.45 * len(names) + 1.2), dpi=100)
+    place = list(range(len(names)))[::-1]
+    ax.barh(place, values, color=colours, height=0.6)
+    ax.set_yticks(place, names, fontsize=8)
+    ax.axvline(0.0, color="0.3", linewidth=0.8)
+    span = max(abs(v) for v in values) or 1.0
+    for y, v in zip(place, values):
+        ax.annotate(f"{v:+,.0f}".replace("-", "\u2212"), (v, y), fontsize=7, va="center",
+                    ha="left" if v >= 0 else "right",
+                    xytext=(3 if v >= 0 else -3, 0), textcoords="offset points")
+    ax.set_xlim(-1.3 * span if min(values) < 0 else 0, 1.3 * span if max(values) > 0 else 0)
     ax.set_title(title, fontsize=9)
-    ax.set_ylabel("contribution to the change")
-    ax.legend(frameon=False, fontsize=7)
+    ax.set_xlabel(f"contribution to the change{' (' + unit + ')' if unit else ''}", fontsize=8)
+    ax.tick_params(axis="x", labelsize=7)
+    for side in ("top", "right"):
+        ax.spines[side].set_visible(False)
     fig.tight_layout()
     return fig
 

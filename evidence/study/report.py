@@ -72,6 +72,14 @@ details > summary { cursor: pointer; font-family: Helvetica, Arial, sans-serif; 
 """
 
 _ID = re.compile(r"[^a-z0-9]+")
+# A hyphen used as a minus sign in running text: before a digit, not after a letter or digit
+# (so "1995-2023", "T-29" and "AR-1" keep their hyphens).
+_MINUS = re.compile(r"(?<![\w.])-(?=\.?\d)")
+
+
+def _prose(text: str) -> str:
+    """Escaped running text with true minus signs (−) for negative numbers."""
+    return html.escape(_MINUS.sub("\u2212", str(text)))
 
 
 def anchor(title: str) -> str:
@@ -175,8 +183,8 @@ def _answer(answer: Answer) -> list[str]:
     esc = html.escape
     parts = ['<section class="answer">', '<div class="verdict" id="verdict">', "<h2>Verdict</h2>"]
     if answer.headline:
-        parts.append(f"<p><strong>{esc(answer.headline)}</strong></p>")
-    parts += [f"<p>{esc(p)}</p>" for p in answer.paragraphs]
+        parts.append(f"<p><strong>{_prose(answer.headline)}</strong></p>")
+    parts += [f"<p>{_prose(p)}</p>" for p in answer.paragraphs]
     if answer.counts:
         parts.append('<ul class="counts">')
         for label, n, meaning, colour in answer.counts:
@@ -228,9 +236,9 @@ def render_report(title: str, claim: str, source: str, sections: Sequence[Sectio
     for ident, section in zip(ids, sections):
         parts.append(f'<section id="{ident}">')
         parts.append(f"<h2>{esc(section.title)}</h2>")
-        parts += [f'<p class="lead">{esc(p)}</p>' for p in section.lead]
+        parts += [f'<p class="lead">{_prose(p)}</p>' for p in section.lead]
         if section.note:
-            parts.append(f'<p class="note">{esc(section.note)}</p>')
+            parts.append(f'<p class="note">{_prose(section.note)}</p>')
         parts.extend(_table(t) for t in section.fragments)
         if section.figures:
             parts.append('<div class="figures">')

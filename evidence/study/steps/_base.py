@@ -8,6 +8,7 @@ place and a step stays a small pure function ``(panel, spec) -> StepOutput``.
 from __future__ import annotations
 
 import hashlib
+import math
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -16,7 +17,7 @@ from typing import Any
 from evidence.panel import Panel
 from evidence.study.spec import StudySpec
 
-__all__ = ["Step", "StepOutput", "TableOut", "FigureOut", "data_notes", "safe_name",
+__all__ = ["Step", "StepOutput", "TableOut", "FigureOut", "data_notes", "safe_name", "p_words",
            "size_notes"]
 
 
@@ -112,6 +113,17 @@ def safe_name(text: str) -> str:
         return text
     stem = re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")[:40].strip("-") or "n"
     return f"{stem}-{hashlib.sha256(text.encode('utf-8', 'surrogatepass')).hexdigest()[:8]}"
+
+
+def p_words(p: float) -> str:
+    """A p-value in running text: ``"p = 0.028"``, ``"p < 0.001"``, ``"p n/a"`` when missing.
+
+    >>> p_words(0.0284), p_words(1e-9)
+    ('p = 0.028', 'p < 0.001')
+    """
+    if p is None or not math.isfinite(float(p)):
+        return "p n/a"
+    return "p < 0.001" if p < 0.001 else f"p = {p:.3f}"
 
 
 def _pct(value: float) -> str:

@@ -18,7 +18,8 @@ from evidence.panel import Panel, derived_name
 from evidence.study import figures as figs
 from evidence.study.choice import DEFAULT_LIMIT
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, safe_name
+from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, p_words,
+                                         safe_name)
 from evidence.tables import render_frame
 
 __all__ = ["run", "series_label", "choose_break_units"]
@@ -81,8 +82,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
                 + (("; most common break years " + ", ".join(f"{y} ({n})" for y, n in top.items()))
                    if len(top) else "")
                 + f". Break years cluster across {many}: {res.clustering.statistic:.0f} within "
-                f"±{res.clustering.details.get('spread', 1)} year, permutation p "
-                f"{res.clustering.pvalue:.3f}.")
+                f"±{res.clustering.details.get('spread', 1)} year, permutation "
+                f"{p_words(res.clustering.pvalue)}.")
             counts[label] = res.counts
             notes = [CONVENTION, f"Series tested: {label}, {years[0]}–{years[1]}.",
                      f"Trend model (intercept and slope per regime), trim {res.details['trim']}, "

@@ -16,7 +16,8 @@ from evidence.errors import DataError
 from evidence.panel import Panel, derived_name
 from evidence.study import figures as figs
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, size_notes
+from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, p_words,
+                                         size_notes)
 from evidence.tables import beta_table, render_frame, test_table
 
 __all__ = ["run", "PANEL_ROW_TEXT"]
@@ -56,7 +57,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         path = sigma.path
         lead.append(f"Sigma: the dispersion ({sigma.measure}) went from {path.iloc[0]:.3f} in "
                     f"{path.index[0]} to {path.iloc[-1]:.3f} in {path.index[-1]}; the one-sided "
-                    f"test of a falling trend has p {sigma.trend_test.pvalue:.3f}.")
+                    f"test of a falling trend has {p_words(sigma.trend_test.pvalue)}.")
         tests = [sigma.trend_test, *sigma.first_last_tests]
         tables.append(TableOut("sigma_convergence", lambda f, c=True: test_table(
             tests, f, title=f"Sigma convergence of {column}", notes=[*size_notes(tests), *notes],
@@ -81,10 +82,10 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
 def _beta_text(beta: Any) -> str:
     test = getattr(beta, "test", None)
     p = getattr(test, "pvalue", float("nan"))
-    verdict = ("the slope is significantly negative (one-sided p "
-               f"{p:.3f}): {'' if p < 0.05 else 'weak '}evidence that low emitters catch up"
+    verdict = ("the slope is significantly negative (one-sided "
+               f"{p_words(p)}): {'' if p < 0.05 else 'weak '}evidence that low emitters catch up"
                if p < 0.10 else
-               f"the slope is not significantly negative (one-sided p {p:.3f}): no evidence of "
+               f"the slope is not significantly negative (one-sided {p_words(p)}): no evidence of "
                "catching up, so no speed or half-life is reported")
     return f"Beta: growth regressed on the initial level; {verdict}."
 

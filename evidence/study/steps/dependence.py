@@ -5,7 +5,7 @@ from __future__ import annotations
 from evidence.panel import Panel, derived_name
 from evidence.roots import pesaran_cd_test
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import StepOutput, TableOut, size_notes
+from evidence.study.steps._base import StepOutput, TableOut, p_words, size_notes
 from evidence.tables import test_table
 
 __all__ = ["run"]
@@ -18,7 +18,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     for column in spec.pressure_columns:
         logged = derived_name("log", column)
         tests.append(pesaran_cd_test(base.with_log(column, name=logged), logged))
-    found = "; ".join(f"{t.test} on {c}: p {t.pvalue:.3f}" for t, c in
+    found = "; ".join(f"{t.test} on ln {c}: {p_words(t.pvalue)}" for t, c in
                       zip(tests, spec.pressure_columns))
     lead = (f"Does a shock to one unit's pressure show up in the others? {found}. A rejection "
             "(p < 0.05) calls for the tests and estimators in this report that allow for "

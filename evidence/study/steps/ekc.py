@@ -8,9 +8,10 @@ from evidence.elasticity import ekc
 from evidence.panel import Panel, derived_name
 from evidence.study import figures as figs
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, safe_name,
-                                        size_notes)
+from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, p_words,
+                                        safe_name, size_notes)
 from evidence.tables import ekc_table
+from evidence.tables._names import header_name
 
 __all__ = ["run"]
 
@@ -34,8 +35,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         lead.insert(len(lead) - 1, (
             f"{pressure}{' per person' if spec.population else ''} on "
             f"{spec.activity}{' per person' if spec.population else ''} (logs, unit fixed "
-            f"effects): turning point at ln activity {where}; Lind–Mehlum test p "
-            f"{test.pvalue:.3f}." if test.applicable else
+            f"effects): turning point at ln activity {where}; Lind–Mehlum test "
+            f"{p_words(test.pvalue)}." if test.applicable else
             f"{pressure}: turning point {where}; the U test could not be computed."))
         tables.append(TableOut(
             f"ekc_{safe_name(pressure)}", lambda f, c=True, r=res, p=pressure: ekc_table(
@@ -67,4 +68,5 @@ def _figure(panel: Panel, spec: StudySpec, res, pressure: str):  # noqa: ANN001,
     ok = np.isfinite(x) & np.isfinite(y)
     coefficients = list(res.estimate.params.iloc[:res.degree])
     return figs.ekc_figure(x[ok], y[ok], coefficients, list(res.turning_points["point"]),
-                           f"ln {a_col}", f"ln {p_col}")
+                           header_name(derived_name("log", a_col), spec.labels),
+                           header_name(derived_name("log", p_col), spec.labels))

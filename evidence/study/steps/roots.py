@@ -21,6 +21,7 @@ from evidence.roots.battery import PANEL_TESTS, SERIES_TESTS
 from evidence.study.spec import StudySpec
 from evidence.study.steps._base import StepOutput, TableOut, data_notes, safe_name
 from evidence.tables import render_frame
+from evidence.tables._names import test_name
 
 __all__ = ["run", "RULE", "LEVEL_TREND"]
 
@@ -35,6 +36,10 @@ RULE = ("Decision rule at 5 %: a transform is stationary when every unit-root te
 _NAMES = {"adf": "ADF", "pp": "PP", "kpss": "KPSS", "dfgls": "DF-GLS", "za": "ZA", "ls": "LS",
           "ips": "IPS", "llc": "LLC", "fisher": "Fisher", "breitung": "Breitung",
           "hadri": "Hadri", "cips": "CIPS"}
+#: Panel tests in tables: the author–year forms (the battery's Fisher combination is Choi's Pm).
+_PANEL_NAMES = {"ips": test_name("IPS W-tbar"), "llc": test_name("LLC"),
+                "fisher": test_name("Fisher (Choi Pm)"), "breitung": test_name("Breitung"),
+                "hadri": test_name("Hadri"), "cips": test_name("CIPS")}
 
 
 def _cell(row: Any) -> str:
@@ -76,11 +81,13 @@ def _panel_frame(res: Any) -> tuple[pd.DataFrame, list[str]]:
     rows, notes = [], []
     for row in table.itertuples(index=False):
         cell = _cell(row)
-        rows.append({"test": _NAMES[row.test], "transform": row.series,
+        rows.append({"test": _PANEL_NAMES[row.test], "transform": row.series,
                      "statistic": row.statistic, "p-value": cell,
-                     "lags": row.lags, "rejects at 5 %": {True: "yes", False: "no"}.get(row.reject, "n/a")})
+                     "lags": str(row.lags).replace("-", "–"),
+                     "rejects at 5 %": {True: "yes", False: "no"}.get(row.reject, "n/a")})
         if cell == "n/a" and str(row.note or ""):
-            notes.append(f"{_NAMES[row.test]} ({row.series}) could not be computed: {row.note}")
+            notes.append(f"{_PANEL_NAMES[row.test]} ({row.series}) could not be computed: "
+                         f"{row.note}")
     return pd.DataFrame(rows, columns=["test", "transform", "statistic", "p-value", "lags",
                                        "rejects at 5 %"]), notes
 
@@ -100,8 +107,10 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         units = [u for u in res.decisions["unit"] if u in set(base.units)]
         decided = Counter(res.decisions.set_index("unit").loc[units, "decision"])
         panel_frame, panel_notes = _panel_frame(res)
+        panel_keys = [t for t in res.table["test"] if t in PANEL_TESTS]
         panel_text = "; ".join(
-            f"{r['test']} {r['transform']} p {r['p-value']}" for _, r in panel_frame.iterrows())
+            f"{_NAMES[key]} {r['transform']} p {r['p-value']}"
+            for key, (_, r) in zip(panel_keys, panel_frame.iterrows()))
         lead.append(f"ln {column}: unit decisions " + ", ".join(
             f"{k} {v}" for k, v in decided.most_common()) + f" (of {len(units)} {many})"
             + (f"; panel tests: {panel_text}." if panel_text else "."))
