@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from dataclasses import replace
 from html.parser import HTMLParser
+from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -120,11 +121,12 @@ figures = false
     assert second.results["not_run"] == {} or "roots" not in second.results["not_run"]
 
 
-def test_demo_study_runs(tmp_path):
-    result = ev.run_demo(tmp_path / "demo")
+def test_demo_study_runs(demo_run):
+    result = demo_run
     study = result["study"]
-    assert (tmp_path / "demo" / "report.html").exists()
-    assert (tmp_path / "demo" / "tables" / "grade.tex").exists()
+    folder = Path(result["folder"])
+    assert (folder / "report.html").exists()
+    assert (folder / "tables" / "grade.tex").exists()
     assert any(p.suffix == ".svg" for p in study.files)
     assert study.results["not_run"] == {}
     truth = ev.demo_truth()["regions"]
