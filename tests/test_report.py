@@ -41,7 +41,15 @@ window.addEventListener("load", function () {
     if (r.width > 0 && r.right > main.getBoundingClientRect().right + 1
         && !el.closest(".table")) { wide.push(el.tagName + "." + el.className); }
   });
+  var scrolled = [];
+  document.querySelectorAll("main .table").forEach(function (el) {
+    if (el.scrollWidth > el.clientWidth + 1) {
+      var caption = el.querySelector("caption");
+      scrolled.push(caption ? caption.textContent : el.innerHTML.slice(0, 60));
+    }
+  });
   var out = {
+    scrolled: scrolled,
     inner_width: window.innerWidth, inner_height: window.innerHeight,
     page_width: document.documentElement.scrollWidth,
     main_scroll: main.scrollWidth, main_client: main.clientWidth,
@@ -156,6 +164,7 @@ def test_report_in_a_browser(demo_run, width):
     assert layout["page_width"] <= layout["inner_width"], layout
     assert layout["main_scroll"] <= layout["main_client"], layout
     assert layout["too_wide"] == [], layout["too_wide"]
+    assert layout["scrolled"] == [], layout["scrolled"]  # every table fits: no sideways scrolling
     # the verdict, the grade figure and the contents come before the first table
     for name in ("verdict", "figure", "contents"):
         assert layout[name]["top"] < layout["table"]["top"], name

@@ -61,6 +61,7 @@ th { font-weight: 600; }
 td[style*="right"] { white-space: nowrap; }
 th { background: #fafafa; }
 caption { font-weight: bold; text-align: left; padding-bottom: 0.3em; caption-side: top; }
+@media (max-width: 1100px) { table { font-size: 0.7em; } th, td { padding: 0.2em 0.25em; } }
 .table-notes { font-family: Helvetica, Arial, 'DejaVu Sans', sans-serif; font-size: 0.74em;
                color: #555; max-width: 80em; }
 .table-notes p { margin: 0.15em 0; }
