@@ -323,7 +323,9 @@ def _answer(spec: StudySpec, grade: Any, top: list[Figure], not_run: dict[str, s
     paragraphs = (first.intro, *(v.text for v in found[1:]))
     counts = tuple((rung, n, RUNG_TEXT.get(rung, ""), RUNG_COLOURS.get(rung, ""))
                    for rung, n in reversed(list(first.rungs.items())))
-    counts += tuple((f"flagged {flag}", n, FLAG_MEANINGS.get(flag, ""), "")
+    meanings = {**FLAG_MEANINGS, "short-window": (
+        f"graded on fewer than {grade.criteria.short_window} years ([criteria] short_window)")}
+    counts += tuple((f"flagged {flag}", n, meanings.get(flag, ""), "")
                     for flag, n in first.flags.items())
     return Answer(headline=first.headline, paragraphs=paragraphs, counts=counts,
                   figure=top[0] if top else None, link="grade")
