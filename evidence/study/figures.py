@@ -119,6 +119,7 @@ def decomposition_figure(effects: pd.DataFrame, title: str, *, unit: str = ""): 
                     ha="left" if v >= 0 else "right",
                     xytext=(3 if v >= 0 else -3, 0), textcoords="offset points")
     ax.set_xlim(-1.3 * span if min(values) < 0 else 0, 1.3 * span if max(values) > 0 else 0)
+    ax.xaxis.set_major_formatter(lambda v, _pos: f"{v:,.0f}".replace("-", "\u2212"))
     ax.set_title(title, fontsize=9)
     ax.set_xlabel(f"contribution to the change{' (' + unit + ')' if unit else ''}", fontsize=8)
     ax.tick_params(axis="x", labelsize=7)
@@ -170,7 +171,7 @@ def grade_figure(table: pd.DataFrame, pressure: str, *, required: float | None =
                for r in reversed(present)]
     if required is not None and np.isfinite(required):
         handles.append(Line2D([], [], color="#d55e00", linestyle="--",
-                              label=f"required {100 * required:+.1f} %/yr"))
+                              label=f"required {100 * required:+.1f} %/yr".replace("-", "\u2212")))
     ax.legend(handles=handles, fontsize=7, frameon=False, loc="upper center",
               bbox_to_anchor=(0.5, -0.09 if labelled and n > 12 else -0.16),
               ncol=min(len(handles), 3))
@@ -218,15 +219,17 @@ def dispersion_figure(path: pd.Series, measure: str, title: str):  # noqa: ANN20
     fig, ax = plt.subplots(figsize=(5.6, 3.2), dpi=100)
     years = np.asarray(path.index, dtype=float)
     values = path.to_numpy(dtype=float)
-    ax.plot(years, values, "o-", color="#0072b2", markersize=3, linewidth=1.2, label=measure)
+    words = {"sd_log": "standard deviation of logs", "cv": "coefficient of variation",
+             "weighted_sd_log": "weighted s.d. of logs"}
+    ax.plot(years, values, "o-", color="#0072b2", markersize=3, linewidth=1.2,
+            label=words.get(measure, measure))
     ok = np.isfinite(values)
     if ok.sum() >= 2:
         slope, intercept = np.polyfit(years[ok], values[ok], 1)
         ax.plot(years, intercept + slope * years, "--", color="0.4", linewidth=0.9,
                 label="linear trend")
     ax.set_xlabel("year")
-    ax.set_ylabel({"sd_log": "standard deviation of logs", "cv": "coefficient of variation",
-                   "weighted_sd_log": "weighted s.d. of logs"}.get(measure, measure))
+    ax.set_ylabel(words.get(measure, measure))
     ax.set_title(shorten(title, 80), fontsize=9)
     ax.legend(frameon=False, fontsize=7)
     fig.tight_layout()

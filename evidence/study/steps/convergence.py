@@ -19,6 +19,7 @@ from evidence.study.spec import StudySpec
 from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, p_words,
                                          size_notes)
 from evidence.tables import beta_table, render_frame, test_table
+from evidence.tables._names import header_name
 
 __all__ = ["run", "PANEL_ROW_TEXT"]
 
@@ -67,10 +68,12 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
             labels=spec.labels, caution=c), shown="file",
             summary="The dispersion year by year (the figure below)"))
         if spec.figures:
+            shown = header_name(column, spec.labels)
             figures.append(FigureOut("dispersion", lambda: figs.dispersion_figure(
-                path, sigma.measure, f"Dispersion of log {column} across {many}"),
-                in_report=True, caption=(f"Dispersion of log {column} across {many}, year by "
-                                         "year, with its linear trend.")))
+                path, sigma.measure, f"Dispersion of ln {shown} across {many}"),
+                in_report=True, caption=(f"Dispersion of ln {shown} across {many}, year by "
+                                         "year, with its linear trend (the dispersion path "
+                                         "is tested for a falling trend above).")))
     if "stochastic" in chosen:
         _stochastic(work, column, spec, tables, results, lead)
     if "clubs" in chosen:
@@ -150,7 +153,8 @@ def _clubs(work: Panel, column: str, spec: StudySpec, tables: list, figures: lis
         caution=c), shown="folded", summary=f"The club of every {one}"))
     if spec.figures:
         figures.append(FigureOut("club_transitions", lambda: figs.club_figure(
-            clubs.transition, clubs.clubs, f"Relative transition paths of {column}, by club"),
+            clubs.transition, clubs.clubs,
+            f"Relative transition paths of ln {header_name(column, spec.labels)}, by club"),
             in_report=True, caption=("Relative transition paths (each unit's filtered log value "
                                      "over its club's mean), one panel per club; paths that "
                                      "close in on 1 converge.")))
