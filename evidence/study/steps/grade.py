@@ -36,7 +36,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     """Grade every unit on every pressure; figures per unit when the spec asks for them."""
     pressures = spec.pressure_columns
     res = grade(panel, list(pressures), spec.activity, window=spec.window,
-                criteria=criteria(spec), consumption=spec.consumption)
+                criteria=criteria(spec), consumption=spec.consumption, executor=spec.executor)
     notes = data_notes(spec)
     figures = _unit_figures(panel, spec, res) if spec.figures else ()
     return StepOutput(
