@@ -357,7 +357,7 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
 
 
 #: Units per task sent to the executor (large enough that a task outweighs its transfer).
-CHUNK = 100
+CHUNK = 25
 
 
 def _in_chunks(runner: Any, func: Any, items: list[Any]) -> list[Any]:

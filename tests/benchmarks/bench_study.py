@@ -135,3 +135,154 @@ def write_study(folder: Path, n_units: int, n_years: int = N_YEARS) -> Path:
     path = folder / "study.toml"
     path.write_text(STUDY.format(n=n_units), encoding="utf-8")
     return path
+
+
+# ----------------------------------------------------------------------------- the reference
+def reference_unit(frame: pd.DataFrame) -> dict[str, float]:
+    """The study's per-unit analyses for one unit, written by hand on statsmodels and arch.
+
+    ``frame``: one unit's years (sorted) with the panel's columns. What the study computes per
+    unit, done the plain way: trend growth (OLS with Newey-West errors) of the log pressures,
+    activity and intensity and the Tapio elasticity (rates); the direction tests with recession
+    dummies, the latest-regime kinked trend, every sub-window of at least 10 years, the
+    Hodrick-Prescott trends and a two-break trend search by least squares (grade); ADF and KPSS
+    on each log series in levels and differences (roots); the unit's own regression of log
+    pressure on log activity (mean-group elasticity); an ADF test of log relative per-capita
+    pressure (stochastic convergence); the LMDI effects of the Kaya factors (decomposition).
+    """
+    import statsmodels.api as sm
+    from arch.unitroot import ADF, KPSS
+    from statsmodels.tsa.filters.hp_filter import hpfilter
+
+    out: dict[str, float] = {}
+    years = frame["year"].to_numpy(dtype=float)
+    logs = {c: np.log(frame[c].to_numpy(dtype=float))
+            for c in ("gdp", "population", "energy", "ghg_territorial", "ghg_consumption")}
+    logs["intensity"] = logs["ghg_territorial"] - logs["gdp"]
+    trend = sm.add_constant(years - years.mean())
+    lags = int(np.floor(4 * (years.size / 100) ** (2 / 9)))
+
+    def hac_slope(y: np.ndarray, x: np.ndarray) -> tuple[float, float]:
+        fit = sm.OLS(y, x).fit(cov_type="HAC", cov_kwds={"maxlags": lags, "use_correction": True})
+        return float(fit.params[1]), float(fit.pvalues[1])
+
+    for name in ("ghg_territorial", "ghg_consumption", "gdp", "intensity"):       # rates
+        out[f"growth_{name}"] = hac_slope(logs[name], trend)[0]
+    out["tapio"] = ((logs["ghg_territorial"][-1] - logs["ghg_territorial"][0])
+                    / (logs["gdp"][-1] - logs["gdp"][0]))
+    peak = np.maximum.accumulate(logs["gdp"])                                     # grade
+    below = np.r_[False, logs["gdp"][1:] < peak[:-1]]
+    dummies = np.column_stack([np.eye(years.size)[:, below]]) if below.any() else np.zeros((years.size, 0))
+    out["p_absolute"] = hac_slope(logs["ghg_territorial"], np.column_stack([trend, dummies]))[1]
+    kink = np.maximum(years - years[-11], 0.0)
+    out["p_latest"] = hac_slope(logs["ghg_territorial"], np.column_stack([trend, kink]))[1]
+    holds = []
+    for length in range(10, years.size + 1):
+        for start in range(0, years.size - length + 1):
+            part = slice(start, start + length)
+            x = sm.add_constant(years[part] - years[part].mean())
+            holds.append(hac_slope(logs["ghg_territorial"][part], x)[1] < 0.05
+                         and hac_slope(logs["gdp"][part], x)[0] > 0)
+    out["subwindow_share"] = float(np.mean(holds))
+    out["hp_slope"] = float(np.polyfit(years, hpfilter(logs["ghg_territorial"], 100)[1], 1)[0])
+    h = max(3, int(0.15 * years.size))
+    best = (np.inf, None)
+    for b1 in range(h, years.size - 2 * h):
+        for b2 in range(b1 + h, years.size - h):
+            x = np.column_stack([trend, np.maximum(years - years[b1], 0), np.maximum(years - years[b2], 0)])
+            ssr = sm.OLS(logs["ghg_territorial"], x).fit().ssr
+            best = min(best, (ssr, (b1, b2)), key=lambda v: v[0])
+    out["break_ssr"] = float(best[0])
+    for name in ("ghg_territorial", "gdp"):                                       # roots
+        for series in (logs[name], np.diff(logs[name])):
+            out[f"adf_{name}_{series.size}"] = float(ADF(series, trend="ct").pvalue)
+            out[f"kpss_{name}_{series.size}"] = float(KPSS(series, trend="ct", lags=lags).pvalue)
+    fit = sm.OLS(logs["ghg_territorial"], sm.add_constant(logs["gdp"])).fit()     # elasticity
+    out["mg_slope"] = float(fit.params[1])
+    per_capita = logs["ghg_territorial"] - logs["population"]                     # convergence
+    out["adf_relative"] = float(ADF(per_capita - per_capita.mean(), trend="c").pvalue)
+    factors = [logs["population"], logs["gdp"] - logs["population"],              # decomposition
+               logs["energy"] - logs["gdp"], logs["ghg_territorial"] - logs["energy"]]
+    change = np.expm1(logs["ghg_territorial"][-1] - logs["ghg_territorial"][0])
+    level0, level1 = np.exp(logs["ghg_territorial"][0]), np.exp(logs["ghg_territorial"][-1])
+    weight = (level1 - level0) / (np.log(level1) - np.log(level0)) if change else level0
+    out["lmdi"] = float(sum(weight * (f[-1] - f[0]) for f in factors))
+    return out
+
+
+# ----------------------------------------------------------------------------- the runs
+CHILD = r"""
+import json, os, resource, sys, time
+from pathlib import Path
+import evidence as ev
+spec, out, executor = sys.argv[1], sys.argv[2], sys.argv[3]
+from evidence._cache import cache_dir
+folder = cache_dir()
+before = set(folder.glob("*.npz")) if folder and folder.exists() else set()
+start = time.perf_counter()
+result = ev.run_study(spec, out, executor=executor, overwrite=True)
+elapsed = time.perf_counter() - start
+after = set(folder.glob("*.npz")) if folder and folder.exists() else set()
+own = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
+kids = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
+cpu = sum(resource.getrusage(w).ru_utime + resource.getrusage(w).ru_stime
+          for w in (resource.RUSAGE_SELF, resource.RUSAGE_CHILDREN))
+print(json.dumps({"seconds": elapsed, "peak_mib": own, "peak_child_mib": kids, "cpu": cpu,
+                  "files": len(result.files), "new_cache_entries": len(after - before),
+                  "figures": sum(1 for f in result.files if f.suffix == ".png")}))
+"""
+
+
+def run_study_child(spec: Path, out: Path, executor: str = "serial") -> dict[str, float]:
+    """Run the study in a fresh process (imports not timed); seconds, peak memory, files."""
+    import json
+
+    done = subprocess.run([sys.executable, "-c", CHILD, str(spec), str(out), executor],
+                          check=True, capture_output=True, text=True)
+    return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def reference_seconds_per_unit(frame: pd.DataFrame, units: int) -> float:
+    """Seconds per unit of the hand-written loop on the first ``units`` units."""
+    chosen = frame["county"].drop_duplicates().iloc[:units]
+    parts = [g.sort_values("year") for _, g in frame[frame["county"].isin(chosen)].groupby("county")]
+    start = time.perf_counter()
+    for part in parts:
+        reference_unit(part)
+    return (time.perf_counter() - start) / len(parts)
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("units", nargs="?", type=int, default=3000)
+    parser.add_argument("--reference-units", type=int, default=20)
+    parser.add_argument("--executor", default="serial")
+    parser.add_argument("--keep", type=Path, default=None, help="write the panel and output here")
+    args = parser.parse_args()
+    with tempfile.TemporaryDirectory() as tmp:
+        folder = args.keep or Path(tmp)
+        folder.mkdir(parents=True, exist_ok=True)
+        spec = write_study(folder, args.units)
+        print(f"panel: {args.units} invented counties x {N_YEARS} years, seed {SEED}; "
+              f"study: the demo study's analyses; executor {args.executor}")
+        ours = run_study_child(spec, folder / "out", args.executor)
+        peak = max(ours["peak_mib"], ours["peak_child_mib"])
+        print(f"evidence study: {ours['seconds']:7.1f} s wall ({ours['cpu']:.1f} s CPU), peak memory "
+              f"{peak:,.0f} MiB (this process {ours['peak_mib']:,.0f}, largest worker "
+              f"{ours['peak_child_mib']:,.0f}); {ours['files']} files, {ours['figures']} figures (PNG); "
+              f"{ours['new_cache_entries']} null distributions simulated and cached on this run")
+        print(f"  goals at 3,000 units: < 180 s {'met' if ours['seconds'] < 180 else 'NOT met'}, "
+              f"< 4 GB {'met' if peak < 4096 else 'NOT met'}")
+        frame = pd.read_csv(folder / "counties.csv")
+        per_ref = reference_seconds_per_unit(frame, args.reference_units)
+        per_ours = ours["seconds"] / args.units
+        print(f"hand-written loop (statsmodels + arch), {args.reference_units} units: "
+              f"{per_ref * 1000:8.1f} ms per unit")
+        print(f"evidence study, whole panel:                 {per_ours * 1000:8.1f} ms per unit "
+              f"(everything included: loading, every analysis, tables, report)")
+        print(f"ratio (per unit): {per_ref / per_ours:.1f}x (goal >= 20x: "
+              f"{'met' if per_ref / per_ours >= 20 else 'NOT met'})")
+
+
+if __name__ == "__main__":
+    main()
