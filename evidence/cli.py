@@ -20,6 +20,7 @@ from evidence._cautions import CAUTION
 from evidence._commands import add_commands
 from evidence._commands._common import (data_options, emit, format_options, load, progress_bar,
                                         terminal_safe)
+from evidence._commands._profile import profiling
 from evidence._files import DEFAULT_MAX_MB
 from evidence._version import __version__
 from evidence.errors import EvidenceError
@@ -110,13 +111,16 @@ def demo(out: Path, executor: str | None, overwrite: bool) -> None:
               help=_EXECUTOR_HELP + " [default: the study file's [run] executor, else serial]")
 @click.option("--overwrite", is_flag=True,
               help="Replace the folder even if it holds files evidence did not write.")
-def study(spec: Path, out: Path, executor: str | None, overwrite: bool) -> None:
+@click.option("--profile", is_flag=True,
+              help="Print where the time went (per step, then the hot spots) on stderr.")
+def study(spec: Path, out: Path, executor: str | None, overwrite: bool, profile: bool) -> None:
     """Run a study file (TOML): report, tables, figures, results.json, manifest."""
     executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("analyses")
     try:
-        result = run_study(spec, out, executor=executor, overwrite=overwrite,
-                           progress=progress.update if progress else None)
+        with profiling(profile):
+            result = run_study(spec, out, executor=executor, overwrite=overwrite,
+                               progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()

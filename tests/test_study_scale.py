@@ -100,3 +100,19 @@ def test_study_on_a_local_dask_cluster_gives_identical_results(tmp_path, small_c
     serial = (tmp_path / "serial" / "results.json").read_bytes()
     assert serial == (tmp_path / "dask" / "results.json").read_bytes()
     assert b'"grade"' in serial
+
+
+def test_study_profile_prints_steps_and_hot_spots(tmp_path):
+    from click.testing import CliRunner
+
+    from evidence.cli import cli
+
+    _frame(n_units=4).to_csv(tmp_path / "panel.csv", index=False)
+    text = STUDY.replace('elasticity = ["fe", "mg"]', "elasticity = []").replace(
+        'convergence = ["beta", "sigma"]', "convergence = []").replace("grade = true", "grade = false")
+    (tmp_path / "study.toml").write_text(text)
+    result = CliRunner().invoke(cli, ["study", str(tmp_path / "study.toml"), "--out",
+                                      str(tmp_path / "out"), "--profile"])
+    assert result.exit_code == 0, result.output
+    err = result.stderr if hasattr(result, "stderr") else result.output
+    assert "Profile (cProfile" in err and "rates" in err and "hot spots" in err
