@@ -65,7 +65,9 @@ def build_panel(n_units: int, n_years: int = N_YEARS, seed: int = SEED) -> pd.Da
     brk = rng.integers(8, n_years - 8, (n_units, 1))
     # absolute decouplers: intensity flat-ish growth before the break, steep decline after it
     kink = np.where(kind == 0, slope * np.maximum(s - brk, 0.0) + (slope + 0.03) * np.minimum(s - brk, 0.0), slope * s)
-    log_int = (rng.uniform(np.log(0.2), np.log(0.8), (n_units, 1)) + kink
+    # first-year emissions of 5-25 t per person (population in thousands, emissions in kt)
+    start = rng.uniform(np.log(5.0), np.log(25.0), (n_units, 1)) + log_pop[:, :1] - log_gdp[:, :1]
+    log_int = (start + kink
                - 0.02 * recession + _ar1(rng, (n_units, n_years), 0.012))
     log_ghg = log_gdp + log_int
     log_energy = log_gdp + rng.uniform(np.log(0.004), np.log(0.01), (n_units, 1)) + rng.uniform(
