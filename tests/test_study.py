@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from dataclasses import replace
 from html.parser import HTMLParser
+from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -120,11 +121,12 @@ figures = false
     assert second.results["not_run"] == {} or "roots" not in second.results["not_run"]
 
 
-def test_demo_study_runs(tmp_path):
-    result = ev.run_demo(tmp_path / "demo")
+def test_demo_study_runs(demo_run):
+    result = demo_run
     study = result["study"]
-    assert (tmp_path / "demo" / "report.html").exists()
-    assert (tmp_path / "demo" / "tables" / "grade.tex").exists()
+    folder = Path(result["folder"])
+    assert (folder / "report.html").exists()
+    assert (folder / "tables" / "grade.tex").exists()
     assert any(p.suffix == ".svg" for p in study.files)
     assert study.results["not_run"] == {}
     truth = ev.demo_truth()["regions"]
@@ -189,8 +191,8 @@ def test_study_result_protocol_and_executor_option(tmp_path):
     res = run_study(spec, tmp_path / "out", executor=executor)
     assert repr(res).startswith("StudyResult(folder=") and "\n" not in repr(res)
     assert str(res) == res.summary() and "Wrote" in res.summary()
-    assert res.steps == ("grade", "rates", "elasticity")
-    assert res.to_frame()["status"].tolist() == ["run", "run", "run"]
+    assert res.steps == ("grade", "rates", "breaks", "elasticity")
+    assert res.to_frame()["status"].tolist() == ["run", "run", "run", "run"]
     payload = res.to_dict()
     assert json.loads(json.dumps(payload)) == payload and "grade" not in payload
     manifest = json.loads((tmp_path / "out" / "manifest.json").read_text())

@@ -10,7 +10,8 @@ import pandas as pd
 
 import evidence.breaks as eb
 from evidence._cautions import CAUTION
-from evidence._commands._common import data_options, emit, format_options, load, progress_bar
+from evidence._commands._common import (data_options, emit, format_options, load, progress_bar,
+                                        quiet_option, window_option)
 from evidence.breaks.result import CONVENTION
 from evidence.tables import render_frame
 
@@ -50,12 +51,17 @@ def _intervals(lower: tuple, upper: tuple) -> str:
 @click.option("--executor", default="serial", show_default=True,
               help="Where the units are computed: serial, processes, dask, or a Dask scheduler "
                    "address (tcp://host:8786).")
+@window_option
+@quiet_option
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
             per: str | None, take_log: bool, model: str, max_breaks: int, trim: float, select: str,
-            inference: str, adjust: str, executor: str, fmt: str, output: Path | None) -> None:
+            inference: str, adjust: str, executor: str, window: str | None, quiet: bool, fmt: str,
+            output: Path | None) -> None:
     """Break years of COLUMN for every unit (Bai-Perron), with intervals and adjusted p-values."""
     panel = load(data, unit_col, time_col, layout)
+    if window:
+        panel = panel.window(window)
     name = column
     if per:
         name = f"{column}/{per}"
@@ -63,7 +69,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     if take_log:
         panel = panel.with_log(name, name=f"log({name})")
         name = f"log({name})"
-    bar = progress_bar("screening")
+    bar = progress_bar("screening units", quiet=quiet)
     try:
         result = eb.screen_breaks(panel, name, model=model.lower(), max_breaks=max_breaks, trim=trim,
                                   select=select.lower(), inference=inference.lower(),

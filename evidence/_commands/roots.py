@@ -8,7 +8,7 @@ import click
 import pandas as pd
 
 from evidence._cautions import CAUTION
-from evidence._commands._common import data_options, emit, format_options, load
+from evidence._commands._common import data_options, emit, format_options, load, window_option
 from evidence._validation import check_lags
 from evidence.errors import SpecError
 from evidence.roots import (
@@ -63,8 +63,10 @@ def _dependence_frame(panel, column: str, trend: str, min_overlap: int) -> pd.Da
               help="Comma-separated tests: " + ",".join(SERIES_TESTS + PANEL_TESTS)
               + " (default adf,kpss,ips,cips).")
 @click.option("--trend", type=click.Choice(["none", "constant", "trend"], case_sensitive=False),
-              default="constant", show_default=True,
-              help="Deterministic terms in levels: none, a constant, or a constant and a trend.")
+              default="trend", show_default=True,
+              help="Deterministic terms in levels: none, a constant, or a constant and a linear "
+                   "trend (the default: trending series such as GDP or emissions call for it). "
+                   "First differences are tested with a constant.")
 @click.option("--lags", default="aic", show_default=True,
               help="Lags: an integer, aic, bic or sequential-t.")
 @click.option("--max-lags", type=int, default=None, help="Largest lag order searched.")
@@ -76,13 +78,17 @@ def _dependence_frame(panel, column: str, trend: str, min_overlap: int) -> pd.Da
               help="Print the cross-sectional dependence table (CD, LM, scaled LM, bias-corrected LM).")
 @click.option("--min-overlap", type=int, default=8, show_default=True,
               help="With --dependence: fewest shared years for a pair of units.")
+@window_option
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
             tests: str | None, trend: str, lags: str, max_lags: int | None, alpha: float,
-            differences: bool, take_log: bool, dependence: bool, min_overlap: int, fmt: str,
+            differences: bool, take_log: bool, dependence: bool, min_overlap: int, window: str | None,
+            fmt: str,
             output: Path | None) -> None:
     """Unit-root battery (levels, differences, decision) or cross-sectional dependence table."""
     panel = load(data, unit_col, time_col, layout)
+    if window:
+        panel = panel.window(window)
     fmt = fmt.lower()
     if take_log:
         panel = panel.with_log(column)

@@ -28,6 +28,7 @@ from evidence.results import Estimate, ResultProtocol, TestResult, excluded_fram
 __all__ = ["ESTIMATORS", "elasticity", "decoupling_tests", "time_varying_elasticity",
            "ElasticityPath"]
 
+#: The estimators of ``elasticity`` (``estimator=``).
 ESTIMATORS = ("fe", "twfe", "mg", "ccemg", "ccep", "amg")
 
 

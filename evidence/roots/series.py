@@ -334,7 +334,7 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
     n_breaks : {1, 2}
     lags : int or "sequential-t"
         Augmentation lags; "sequential-t" chooses them at every break date by the
-        general-to-specific rule (start at ``max_lags``, drop the last lag while |t| < 1.645), as
+        general-to-specific rule (start at ``max_lags``, drop the last lag while :math:`|t| < 1.645`), as
         in the papers.
     max_lags : int, optional
         Largest lag order; default ``floor(4 (T/100)^(1/4))`` bounded by T (the papers use 8 at

@@ -31,6 +31,7 @@ from evidence.tables._names import check_labels, header_name, relabel
 __all__ = ["FORMATS", "render_frame", "latex_escape", "format_cell", "Table", "render",
            "check_label", "finish_notes"]
 
+#: The formats every table renders to (``fmt=``).
 FORMATS = ("text", "markdown", "latex", "html", "csv", "json")
 _PVALUE_HEAD = re.compile(r"(?:^|[\s_(])(?:p|p-?value|pvalue)(?:$|[\s_)])", re.I)
 _LABEL = re.compile(r"[A-Za-z0-9:._/-]+")

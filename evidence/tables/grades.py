@@ -54,7 +54,9 @@ def _interval(low: Any, high: Any) -> str:
 def _gap(g: Any, low: Any, high: Any) -> str:
     if g is None or (isinstance(g, float) and math.isnan(g)):
         return ""
-    return f"{100 * g:.2f} [{100 * low:.2f}, {100 * high:.2f}]"
+    cells = [_pct(v) for v in (g, low, high)]
+    texts = [c.plain() if isinstance(c, Number) else "n/a" for c in cells]
+    return f"{texts[0]} [{texts[1]}, {texts[2]}]"
 
 
 def _break_label(rec: Mapping[str, Any]) -> str:

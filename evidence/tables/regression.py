@@ -229,8 +229,8 @@ def regression_table(estimates: Sequence[Estimate] | Estimate, fmt: str = "text"
                      caution: bool = True, fit: str = "auto") -> str:
     """Estimates side by side, each column headed by its estimator.
 
-    Each coefficient carries a superscript mark of its two-sided p-value (*** < 0.01, ** < 0.05,
-    * < 0.10) and, beneath it, its standard error (``stat="se"``), t statistic (``"t"``) or
+    Each coefficient carries a superscript mark of its two-sided p-value (``***`` < 0.01, ``**`` < 0.05,
+    ``*`` < 0.10) and, beneath it, its standard error (``stat="se"``), t statistic (``"t"``) or
     p-value (``"p"``) in parentheses. Below a rule: unit and year effects, observations, units,
     years per unit and R² where the estimates have them. The notes name the dependent variable and
     the errors of each column, then ``notes``, what each estimate left out and (``caution=True``)

@@ -70,10 +70,13 @@ from evidence.trend import _stats
 __all__ = ["TREND_TESTS", "DEFAULT_TREND_TEST", "ALTERNATIVES", "trend_test", "trend_batch",
            "test_label", "MIN_YEARS"]
 
+#: The trend tests ``trend_test`` and ``grade`` offer (``test=``); the default is ``DEFAULT_TREND_TEST``.
 TREND_TESTS = ("perron-yabu", "dan-j", "ps-j", "perron-yabu-normal", "hac-fixed-b", "hac")
+#: The default trend test (``test=``); its measured size is on the size card (docs/methods/size.md).
 DEFAULT_TREND_TEST = "perron-yabu"
 #: Tests whose critical values are simulated per T (and segment), and their calibration kind.
 CALIBRATED = {"perron-yabu": "py", "dan-j": "dan", "ps-j": "ps"}
+#: The alternatives of a trend test (``alternative=``).
 ALTERNATIVES = ("decrease", "increase", "two-sided")
 #: Fewest years a trend test is computed on (the J-scaled tests are tabulated from 8).
 MIN_YEARS = 8
