@@ -116,3 +116,18 @@ def test_study_profile_prints_steps_and_hot_spots(tmp_path):
     assert result.exit_code == 0, result.output
     err = result.stderr if hasattr(result, "stderr") else result.output
     assert "Profile (cProfile" in err and "rates" in err and "hot spots" in err
+
+
+def test_long_tables_are_cut_in_the_report_and_complete_in_their_files():
+    from evidence.study._long import shorten_rows
+    from evidence.tables import render_frame
+
+    frame = pd.DataFrame({"unit": [f"county {i:03d}" for i in range(120)], "value": range(120)})
+    html = render_frame(frame, "html", index=False, title="Long")
+    cut = shorten_rows(html, ["tables/long.html", "tables/long.csv"], limit=50)
+    assert cut.count("<tr>") == 1 + 50 + 1  # head, rows shown, the note
+    assert "county 049" in cut and "county 050" not in cut
+    assert "70 more rows (of 120)" in cut and "tables/long.csv" in cut
+    assert cut.count("<table>") == cut.count("</table>") == 1
+    short = render_frame(frame.head(10), "html", index=False)
+    assert shorten_rows(short, ["tables/x.csv"]) == short
