@@ -6,6 +6,7 @@ it); 1 an internal failure.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import sys
@@ -18,8 +19,17 @@ import click
 
 from evidence._cautions import CAUTION
 from evidence._commands import add_commands
-from evidence._commands._common import (basis_option, data_options, emit, format_options, load,
-                                        progress_bar, quiet_option, terminal_safe, with_basis)
+from evidence._commands._common import (
+    basis_option,
+    data_options,
+    emit,
+    format_options,
+    load,
+    progress_bar,
+    quiet_option,
+    terminal_safe,
+    with_basis,
+)
 from evidence._commands._profile import profiling
 from evidence._files import DEFAULT_MAX_MB
 from evidence._version import __version__
@@ -50,7 +60,7 @@ class Terminated(BaseException):
     """SIGTERM arrived: unwind (an output folder being written is removed), then exit 143."""
 
 
-def _terminate(signum: int, frame: object) -> None:  # noqa: ARG001
+def _terminate(signum: int, frame: object) -> None:
     raise Terminated()
 
 
@@ -58,10 +68,8 @@ def _install_signals() -> dict[int, Any]:
     """SIGTERM unwinds like an error; SIGXFSZ (a file-size limit) becomes an error on write."""
     previous: dict[int, Any] = {}
     for signum, handler in ((signal.SIGTERM, _terminate), (signal.SIGXFSZ, signal.SIG_IGN)):
-        try:
+        with contextlib.suppress(ValueError, OSError):  # not the main thread
             previous[signum] = signal.signal(signum, handler)
-        except (ValueError, OSError):  # not the main thread
-            pass
     return previous
 
 
@@ -182,7 +190,7 @@ def inspect(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     emit("\n".join([overview, variables, audit]), output)
 
 
-def _facts_frame(facts: Sequence[tuple[str, str]]):  # noqa: ANN202
+def _facts_frame(facts: Sequence[tuple[str, str]]):
     import pandas as pd
 
     return pd.DataFrame(facts, columns=["item", "value"])

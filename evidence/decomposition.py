@@ -176,7 +176,7 @@ def _check_factors(values: np.ndarray, units: list[str], year: int, pressure: st
         row = values[i]
         if np.isnan(row).any():
             raise DataError(f"unit '{unit}' lacks a value in {year} for "
-                            f"{', '.join(n for n, v in zip(names, row) if np.isnan(v))}.")
+                            f"{', '.join(n for n, v in zip(names, row, strict=True) if np.isnan(v))}.")
     products = values[:, 1:].prod(axis=1)
     bad = ~np.isclose(products, values[:, 0], rtol=1e-6, atol=0.0)
     if bad.any():
@@ -215,11 +215,13 @@ def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
     weights = log_mean(vt, v0)
     logs = np.log(xt / x0)
     unit_add = (weights * logs).T
-    unit_mul = np.exp((weights / log_mean(vt, v0) * logs)).T
-    rows_add = [[a, b, b - a, *eff] for a, b, eff in zip(first[:, 0], last[:, 0], unit_add)]
-    rows_mul = [[a, b, _ratio(b, a), *eff] for a, b, eff in zip(first[:, 0], last[:, 0], unit_mul)]
-    starts, ends = list(starts), list(ends)
-    add_total, mul_total = lmdi_effects(np.column_stack(starts), np.column_stack(ends))
+    unit_mul = np.exp(weights / log_mean(vt, v0) * logs).T
+    ends_p, starts_p = last[:, 0], first[:, 0]
+    rows_add = [[a, b, b - a, *eff] for a, b, eff in zip(starts_p, ends_p, unit_add, strict=True)]
+    rows_mul = [[a, b, _ratio(b, a), *eff]
+                for a, b, eff in zip(starts_p, ends_p, unit_mul, strict=True)]
+    # (factors, units), laid out as the per-unit rows stacked column by column
+    add_total, mul_total = lmdi_effects(np.ascontiguousarray(starts.T), np.ascontiguousarray(ends.T))
     v0 = sum(r[0] for r in rows_add)
     vt = sum(r[1] for r in rows_add)
     rows_add.append([v0, vt, vt - v0, *add_total])

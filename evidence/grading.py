@@ -18,9 +18,9 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
+from dataclasses import asdict, dataclass, field
 from functools import partial
 from itertools import chain
-from dataclasses import asdict, dataclass, field
 from typing import Any
 
 import numpy as np
@@ -30,8 +30,15 @@ from evidence import _grading_axes as axes
 from evidence._json import json_safe
 from evidence._size_card import size_note
 from evidence._typing import DEFAULT_SEED, Window
-from evidence._validation import (adjust_pvalues, check_alpha, check_choice, check_columns,
-                                  check_int, check_window, format_years)
+from evidence._validation import (
+    adjust_pvalues,
+    check_alpha,
+    check_choice,
+    check_columns,
+    check_int,
+    check_window,
+    format_years,
+)
 from evidence.errors import DataError, SpecError
 from evidence.indicators import budget_rate, tapio_class
 from evidence.panel import Panel
@@ -325,7 +332,9 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
     years = panel.years
     start, end = (check_window(window, years) if window is not None
                   else (int(years[0]), int(years[-1])))
-    rows, records, excluded = [], {}, []
+    rows: list[dict[str, Any]] = []
+    records: dict[tuple[str, str], dict[str, Any]] = {}
+    excluded: list[dict[str, Any]] = []
     spans: list[int] = []
     with using_executor(executor) as runner:
         for pressure in pressures:
@@ -379,7 +388,7 @@ def _collect(pressure: str, blocks: dict[str, tuple[np.ndarray, np.ndarray]],
              records: dict[tuple[str, str], dict[str, Any]], spans: list[int]) -> None:
     """Adjust the p-values across the units of one pressure, add the basis gaps and the rung."""
     unit_recs = []
-    for (unit, (logs, unit_years)), rec in zip(blocks.items(), axes_of):
+    for (unit, (logs, unit_years)), rec in zip(blocks.items(), axes_of, strict=True):
         rec.update(unit=unit, pressure=pressure, years=int(unit_years.size),
                    span=f"{int(unit_years[0])}-{int(unit_years[-1])}",
                    basis=panel.basis(pressure) or "not stated")
@@ -395,7 +404,7 @@ def _collect(pressure: str, blocks: dict[str, tuple[np.ndarray, np.ndarray]],
         return
     for key in ("p_absolute", "p_absolute_all_years", "p_relative"):
         adjusted = adjust_pvalues([r[key] for r in unit_recs], crit.adjust)
-        for r, p in zip(unit_recs, adjusted):
+        for r, p in zip(unit_recs, adjusted, strict=True):
             r[f"{key}_adj"] = float(p)
     for rec in unit_recs:
         rec.update(gaps.get(rec["unit"], _no_gap(other)))
@@ -433,7 +442,7 @@ def _basis_gaps(panel: Panel, pressure: str, other: str, activity: str, window: 
     sink: list[dict[str, Any]] = []
     blocks = _unit_blocks(panel, [pressure, other, activity], window, crit, sink)
     found = _in_chunks(runner, partial(_chunk_gaps, crit=crit), list(blocks.values()))
-    return dict(zip(blocks, found))
+    return dict(zip(blocks, found, strict=True))
 
 
 def _chunk_gaps(blocks: list[tuple[np.ndarray, np.ndarray]], crit: Criteria) -> list[dict[str, Any]]:

@@ -306,7 +306,7 @@ def test_output_file_is_written_whole(demo_csv, tmp_path, capsys, monkeypatch):
     target.write_text("old table\n")
     real_replace = os.replace
 
-    def failing_replace(src, dst):  # noqa: ANN001
+    def failing_replace(src, dst):
         raise OSError(28, "No space left on device")
 
     monkeypatch.setattr(os, "replace", failing_replace)

@@ -46,7 +46,7 @@ def rejection_rates(reps: int, t: int, n: int, rho: float, factor: float, seed: 
     rng = np.random.default_rng(seed)
     means, variances, _ = ips_moments(np.zeros(n, int), np.full(n, t - 1), "constant")
     cips_cv = float(np.quantile(cips_draws, 0.05))
-    bandwidth = int(round(3.21 * t ** (1 / 3)))
+    bandwidth = round(3.21 * t ** (1 / 3))
     hits = dict.fromkeys(("ips", "llc", "breitung", "fisher", "cips", "hadri"), 0)
     for _ in range(reps):
         y = panel_draw(rng, t, n, rho, factor)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import re
 from dataclasses import replace
 from html.parser import HTMLParser
 from pathlib import Path
@@ -82,13 +83,13 @@ class _Checker(HTMLParser):
         super().__init__()
         self.stack, self.scripts = [], 0
 
-    def handle_starttag(self, tag, attrs):  # noqa: ANN001
+    def handle_starttag(self, tag, attrs):
         if tag == "script":
             self.scripts += 1
         if tag not in ("meta", "img", "br"):
             self.stack.append(tag)
 
-    def handle_endtag(self, tag):  # noqa: ANN001
+    def handle_endtag(self, tag):
         assert self.stack and self.stack[-1] == tag, (self.stack[-3:], tag)
         self.stack.pop()
 
@@ -373,7 +374,7 @@ def test_an_unreachable_scheduler_is_a_data_error(tmp_path):
     pytest.importorskip("dask.distributed")
     _panel_csv(tmp_path)
     (tmp_path / "study.toml").write_text(MINIMAL + LIGHT + '[run]\nexecutor = "tcp://127.0.0.1:9"\n')
-    with dask.config.set({"distributed.comm.timeouts.connect": "1s"}):
-        with pytest.raises(ev.DataError, match="cannot start the executor 'tcp://127.0.0.1:9'"):
-            run_study(tmp_path / "study.toml", tmp_path / "out")
+    with (dask.config.set({"distributed.comm.timeouts.connect": "1s"}),
+          pytest.raises(ev.DataError, match=re.escape("cannot start the executor 'tcp://127.0.0.1:9'"))):
+        run_study(tmp_path / "study.toml", tmp_path / "out")
     assert not (tmp_path / "out").exists()

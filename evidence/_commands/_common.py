@@ -119,8 +119,7 @@ def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) ->
 class _Progress:
     def __init__(self, label: str) -> None:
         from rich.console import Console
-        from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn,
-                                   TimeElapsedColumn)
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
 
         self._bar = Progress(TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
                              TimeElapsedColumn(), console=Console(stderr=True), transient=True)

@@ -46,7 +46,7 @@ def profile_lines(stats: pstats.Stats, top: int = 20) -> list[str]:
     """Seconds per study step and runner part, then the ``top`` functions by own time."""
     table = stats.stats  # type: ignore[attr-defined]
     steps, parts = [], []
-    for (filename, _line, function), (_cc, _nc, own, cumulative, _callers) in table.items():
+    for (filename, _line, function), (_cc, _nc, _own, cumulative, _callers) in table.items():
         path = Path(filename)
         if path.parent.name == "steps" and function == "run":
             steps.append((cumulative, path.stem))

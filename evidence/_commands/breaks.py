@@ -10,8 +10,15 @@ import pandas as pd
 
 import evidence.breaks as eb
 from evidence._cautions import CAUTION
-from evidence._commands._common import (data_options, emit, format_options, load, progress_bar,
-                                        quiet_option, window_option)
+from evidence._commands._common import (
+    data_options,
+    emit,
+    format_options,
+    load,
+    progress_bar,
+    quiet_option,
+    window_option,
+)
 from evidence.breaks.result import CONVENTION
 from evidence.tables import render_frame
 
@@ -23,7 +30,7 @@ def _years(values: tuple) -> str:
 
 
 def _intervals(lower: tuple, upper: tuple) -> str:
-    return "; ".join(f"{lo}-{hi}" for lo, hi in zip(lower, upper))
+    return "; ".join(f"{lo}-{hi}" for lo, hi in zip(lower, upper, strict=True))
 
 
 @click.command("breaks")
@@ -80,10 +87,11 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
             bar.close()
     tab = result.table
     frame = pd.DataFrame({
-        "unit": tab.index, "years": [f"{a}-{b}" for a, b in zip(tab["first_year"], tab["last_year"])],
+        "unit": tab.index,
+        "years": [f"{a}-{b}" for a, b in zip(tab["first_year"], tab["last_year"], strict=True)],
         "breaks": tab["n_breaks"].to_numpy(),
         "break years": [_years(v) for v in tab["break_years"]],
-        "95% intervals": [_intervals(lo, hi) for lo, hi in zip(tab["lower"], tab["upper"])],
+        "95% intervals": [_intervals(lo, hi) for lo, hi in zip(tab["lower"], tab["upper"], strict=True)],
         "UDmax p": tab["pvalue"].to_numpy(), "adjusted p": tab["pvalue_adjusted"].to_numpy(),
         "residual AR(1)": tab["ar1"].to_numpy(),
         "calibrated": np.where(tab["ar1_covered"].to_numpy(), "yes", "no")})

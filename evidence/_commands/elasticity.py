@@ -8,8 +8,7 @@ from pathlib import Path
 
 import click
 
-from evidence._commands._common import (basis_option, data_options, emit, format_options, load,
-                                        with_basis)
+from evidence._commands._common import basis_option, data_options, emit, format_options, load, with_basis
 from evidence.elasticity import decoupling_tests, elasticity
 from evidence.elasticity import ekc as fit_ekc
 from evidence.elasticity.fixed_effects import COVARIANCES

@@ -6,8 +6,7 @@ from pathlib import Path
 
 import click
 
-from evidence._commands._common import (basis_option, data_options, emit, format_options, load,
-                                        with_basis)
+from evidence._commands._common import basis_option, data_options, emit, format_options, load, with_basis
 from evidence.errors import SpecError
 from evidence.grading import Criteria, grade
 from evidence.tables import grade_table

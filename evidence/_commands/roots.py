@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import cast
 
 import click
 import pandas as pd
 
 from evidence._cautions import CAUTION
 from evidence._commands._common import data_options, emit, format_options, load, window_option
+from evidence._typing import Trend
 from evidence._validation import check_lags
 from evidence.errors import SpecError
 from evidence.roots import (
@@ -101,7 +103,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
         emit(render_frame(frame, fmt, title=f"Cross-sectional dependence: {column}", notes=notes,
                           index=False), output)
         return
-    result = root_battery(panel, column, tests=_parse_tests(tests), trend=trend.lower(),
+    result = root_battery(panel, column, tests=_parse_tests(tests), trend=cast(Trend, trend.lower()),
                           lags=_parse_lags(lags), max_lags=max_lags, alpha=alpha,
                           differences=differences)
     notes = [_RULE] + [f"not run: {r.unit} {r.column} {r.years}: {r.reason}"

@@ -117,7 +117,7 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
     extra_values = None if extra is None else extra.to_numpy()
     for unit, years, y_i, x_i in unit_blocks(design):
         d_i = _deterministics(years.astype(float), trend)
-        if extra is not None:
+        if extra is not None and extra_values is not None:
             rows = extra.index.get_indexer(years)
             if (rows < 0).any():  # a year the common terms lack: the label lookup's KeyError
                 raise KeyError(f"{years[rows < 0].tolist()} not in index")
@@ -192,7 +192,7 @@ def _cce_pooled(design: Design, extra: pd.DataFrame | None, trend: str, used: li
     n = b.shape[0]
     psi = np.mean(cross, axis=0)
     dev = b - b.mean(axis=0)
-    r = sum(c @ np.outer(d, d) @ c for c, d in zip(cross, dev)) / (n - 1)
+    r = sum(c @ np.outer(d, d) @ c for c, d in zip(cross, dev, strict=True)) / (n - 1)
     psi_inv = np.linalg.inv(psi)
     return pooled, psi_inv @ r @ psi_inv / n
 

@@ -52,7 +52,10 @@ def cadf_tstats(y: np.ndarray, trend: str, lags: int) -> np.ndarray:
     dy, dbar = np.diff(y, axis=1), np.diff(ybar, axis=1)
     rows = nobs - lags - 1
     sl = slice(lags, nobs - 1)                       # Δ index for t = p+2..T
-    full = lambda a: np.broadcast_to(a, (reps, rows, n_units))
+
+    def full(a: np.ndarray) -> np.ndarray:
+        return np.broadcast_to(a, (reps, rows, n_units))
+
     cols = [y[:, lags:nobs - 1, :], full(ybar[:, lags:nobs - 1, :]), full(dbar[:, sl, :])]
     for j in range(1, lags + 1):
         cols.append(full(dbar[:, lags - j:nobs - 1 - j, :]))
@@ -103,7 +106,7 @@ def simulate_cips(n_units: int, nobs: int, *, trend: str = "constant", lags: int
     sizes = [_CHUNK] * (reps // _CHUNK) + ([reps % _CHUNK] if reps % _CHUNK else [])
     seeds = task_seeds(seed, len(sizes))
     tasks = [(s, r, int(n_units), int(nobs), trend, int(lags), bool(truncate))
-             for s, r in zip(seeds, sizes)]
+             for s, r in zip(seeds, sizes, strict=True)]
     with using_executor(executor) as runner:
         draws = np.sort(np.concatenate(runner.map(_simulate_chunk, tasks)))
     if cacheable:
@@ -186,6 +189,6 @@ def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 0
         details={"trend": trend, "lags": lags, "truncated": truncate, "units": n, "periods": nobs,
                  "critical_values_source": source, "reps": reps, "seed": seed_label,
                  "pvalue_mc_error": math.sqrt(max(pvalue * (1 - pvalue), 1e-12) / reps),
-                 "unit_cadf": dict(zip(block.units, np.round(t, 6).tolist())),
+                 "unit_cadf": dict(zip(block.units, np.round(t, 6).tolist(), strict=True)),
                  "excluded": excluded_records(block.excluded)},
         reference="pesaran2007", warnings=tuple(warn))

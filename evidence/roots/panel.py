@@ -137,7 +137,7 @@ def ips_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int 
         "max_lags": units.max_lags.tolist(),
         "regression_obs": n_reg.tolist(), "mean_moment": float(means.mean()),
         "var_moment": float(variances.mean()), "balanced": block.balanced,
-        "unit_tstats": dict(zip(block.units, t.round(6).tolist())),
+        "unit_tstats": dict(zip(block.units, t.round(6).tolist(), strict=True)),
         "excluded": excluded_records(block.excluded)}
     if (p == 0).all() and trend == "constant":
         zm, _ = interpolate_in_t(np.array(tables.IPS_ZBAR_T), np.array(tables.IPS_ZBAR_MEAN),
@@ -210,7 +210,7 @@ def fisher_test(panel: Panel, column: str, *, combine: str = "pm", unit_test: st
         details={"combine": combine, "unit_test": unit_test, "trend": trend, "tail": tail,
                  "units": pvals.size, "combinations": {k: {"statistic": v[0], "pvalue": v[1]}
                                                        for k, v in combos.items()},
-                 "unit_pvalues": dict(zip(block.units, pvals.round(6).tolist())),
+                 "unit_pvalues": dict(zip(block.units, pvals.round(6).tolist(), strict=True)),
                  "unit_lags": units.lags.tolist(),
                  "balanced": block.balanced, "excluded": excluded_records(block.excluded)},
         reference="maddalawu1999; choi2001" if combine != "p" else "maddalawu1999",
@@ -249,7 +249,7 @@ def llc_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int 
     y = block.values
     nobs, n = y.shape
     if hac_lags is None:
-        hac_lags = int(round(3.21 * nobs ** (1.0 / 3.0)))
+        hac_lags = round(3.21 * nobs ** (1.0 / 3.0))
     pieces = llc_statistic(y, trend, units.lags, hac_lags)
     stat, t_tilde = pieces["statistic"], pieces["t_tilde"]
     warn = _warnings(block)
@@ -343,6 +343,6 @@ def hadri_test(panel: Panel, column: str, *, trend: Trend = "constant", robust: 
         null="every unit is stationary", alternative="some units have a unit root",
         nobs=int(block.values.size),
         details={"trend": trend, "robust": robust, "hac_lags": hac_lags, "lm": lm, "units": n,
-                 "unit_lm": dict(zip(block.units, unit_lm.round(6).tolist())),
+                 "unit_lm": dict(zip(block.units, unit_lm.round(6).tolist(), strict=True)),
                  "excluded": excluded_records(block.excluded)},
         reference="hadri2000", warnings=tuple(_warnings(block)))

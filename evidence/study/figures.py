@@ -42,17 +42,18 @@ def save(fig: Any, stem: Path) -> list[Path]:
 
 
 def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[str],
-                   window: tuple[int, int], breaks: dict[str, Sequence[int]]):  # noqa: ANN201
+                   window: tuple[int, int], breaks: dict[str, Sequence[int]]):
     """Activity and pressures of one unit indexed to the window's first year, with break years."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.4, 3.8), dpi=100)
     start, end = window
-    for column, style in zip((activity, *pressures), ("-", "--", ":", "-.", "--")):
+    # Five line styles: a sixth series and beyond are not drawn (figure kept as it was).
+    for column, style in zip((activity, *pressures), ("-", "--", ":", "-.", "--"), strict=False):
         series = panel.series(unit, column).loc[start:end].dropna()
         if series.empty:
             continue
         ax.plot(series.index, 100.0 * series / series.iloc[0], style, label=shorten(column))
-    for column, years in breaks.items():
+    for years in breaks.values():
         for year in years:
             ax.axvline(year + 0.5, color="0.55", linewidth=0.8, linestyle=":")
     ax.axhline(100.0, color="0.8", linewidth=0.8)
@@ -65,7 +66,7 @@ def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[s
     return fig
 
 
-def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noqa: ANN201
+def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):
     """Start × end map of the sub-windows in which a claim holds (1) or not (0)."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(4.8, 4.2), dpi=100)
@@ -87,7 +88,7 @@ def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noq
     return fig
 
 
-def decomposition_figure(effects: pd.DataFrame, title: str, *, unit: str = ""):  # noqa: ANN201
+def decomposition_figure(effects: pd.DataFrame, title: str, *, unit: str = ""):
     """Horizontal bars of the additive LMDI effects and their sum (the change), one bar each.
 
     ``effects`` holds one row (the effects of every factor); more rows are drawn as groups.
@@ -114,7 +115,7 @@ def decomposition_figure(effects: pd.DataFrame, title: str, *, unit: str = ""): 
     ax.set_yticks(place, names, fontsize=8)
     ax.axvline(0.0, color="0.3", linewidth=0.8)
     span = max(abs(v) for v in values) or 1.0
-    for y, v in zip(place, values):
+    for y, v in zip(place, values, strict=True):
         ax.annotate(f"{v:+,.0f}".replace("-", "\u2212"), (v, y), fontsize=7, va="center",
                     ha="left" if v >= 0 else "right",
                     xytext=(3 if v >= 0 else -3, 0), textcoords="offset points")
@@ -130,7 +131,7 @@ def decomposition_figure(effects: pd.DataFrame, title: str, *, unit: str = ""): 
 
 
 def grade_figure(table: pd.DataFrame, pressure: str, *, required: float | None = None,
-                 unit_word: str = "unit"):  # noqa: ANN201
+                 unit_word: str = "unit"):
     """Each unit's observed annual change of ``pressure`` with its interval, coloured by grade.
 
     Units are sorted by the change (largest decline at the top); a dagger marks a basis gap.
@@ -160,7 +161,7 @@ def grade_figure(table: pd.DataFrame, pressure: str, *, required: float | None =
     if labelled:
         gaps = ["basis-gap" in str(f) for f in rows["flags"]]
         ax.set_yticks(y, [shorten(str(u), 24) + (" †" if g else "")
-                          for u, g in zip(rows["unit"], gaps)], fontsize=7.5)
+                          for u, g in zip(rows["unit"], gaps, strict=True)], fontsize=7.5)
     else:
         ax.set_yticks([])
         ax.set_ylabel(f"{n} {unit_word}s, sorted by the change")
@@ -182,7 +183,7 @@ def grade_figure(table: pd.DataFrame, pressure: str, *, required: float | None =
 
 
 def small_multiples(panel: Panel, units: Sequence[str], activity: str, pressure: str,
-                    window: tuple[int, int], *, rungs: dict[str, str] | None = None):  # noqa: ANN201
+                    window: tuple[int, int], *, rungs: dict[str, str] | None = None):
     """One small panel per unit: activity and pressure indexed to the window's first year."""
     plt = pyplot()
     n = len(units)
@@ -195,7 +196,7 @@ def small_multiples(panel: Panel, units: Sequence[str], activity: str, pressure:
     wides = {c: panel.wide(c).loc[start:end] for c in (activity, pressure)}
     for ax in axes.flat[n:]:
         ax.axis("off")
-    for ax, unit in zip(axes.flat, units):
+    for ax, unit in zip(axes.flat, units, strict=False):  # the grid may have spare axes
         for column, colour in ((activity, "0.45"), (pressure, "#0072b2")):
             series = wides[column][unit].dropna() if unit in wides[column] else None
             if series is not None and not series.empty:
@@ -213,7 +214,7 @@ def small_multiples(panel: Panel, units: Sequence[str], activity: str, pressure:
     return fig
 
 
-def dispersion_figure(path: pd.Series, measure: str, title: str):  # noqa: ANN201
+def dispersion_figure(path: pd.Series, measure: str, title: str):
     """The cross-sectional dispersion year by year, with its fitted linear trend."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(5.6, 3.2), dpi=100)
@@ -236,13 +237,13 @@ def dispersion_figure(path: pd.Series, measure: str, title: str):  # noqa: ANN20
     return fig
 
 
-def club_figure(transition: pd.DataFrame, clubs: Sequence[Sequence[str]], title: str):  # noqa: ANN201
+def club_figure(transition: pd.DataFrame, clubs: Sequence[Sequence[str]], title: str):
     """Relative transition paths (unit / club mean) per club, with unit legends and axis labels."""
     plt = pyplot()
     k = max(len(clubs), 1)
     fig, axes = plt.subplots(1, k, figsize=(min(3.3 * k, 10.5), 3.4), dpi=100, squeeze=False,
                              sharey=True)
-    for i, (ax, club) in enumerate(zip(axes[0], clubs), start=1):
+    for i, (ax, club) in enumerate(zip(axes[0], clubs, strict=False), start=1):  # no club: one empty axis
         for unit in club:
             ax.plot(transition.index, transition[unit], linewidth=0.9, label=shorten(unit, 14))
         ax.axhline(1.0, color="0.3", linewidth=0.8, linestyle=":")
@@ -257,7 +258,7 @@ def club_figure(transition: pd.DataFrame, clubs: Sequence[Sequence[str]], title:
     return fig
 
 
-def break_years_figure(counts: dict[str, pd.Series], years: tuple[int, int]):  # noqa: ANN201
+def break_years_figure(counts: dict[str, pd.Series], years: tuple[int, int]):
     """Units with a break in each year, one bar series per tested series."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(6.0, 2.8), dpi=100)
@@ -276,14 +277,14 @@ def break_years_figure(counts: dict[str, pd.Series], years: tuple[int, int]):  #
 
 
 def ekc_figure(x: np.ndarray, y: np.ndarray, coefficients: Sequence[float], turning: Sequence[float],
-               x_label: str, y_label: str):  # noqa: ANN201
+               x_label: str, y_label: str):
     """Log pressure against log activity, and the fitted polynomial at the average unit effect
     (the mean of ``y - f(x)`` over the observations)."""
     plt = pyplot()
     fig, ax = plt.subplots(figsize=(5.6, 3.6), dpi=100)
     ax.scatter(x, y, s=5, color="0.6", alpha=0.6, label="observations")
 
-    def shape(values: np.ndarray) -> np.ndarray:
+    def shape(values: np.ndarray) -> Any:
         return sum(b * values ** (i + 1) for i, b in enumerate(coefficients))
 
     grid = np.linspace(np.nanmin(x), np.nanmax(x), 200)

@@ -228,13 +228,13 @@ def render_report(title: str, claim: str, source: str, sections: Sequence[Sectio
             ident += "-2"
         ids.append(ident)
     parts.append('<nav id="contents"><h2>Contents</h2><ol>')
-    parts += [f'<li><a href="#{i}">{esc(s.title)}</a></li>' for i, s in zip(ids, sections)]
+    parts += [f'<li><a href="#{i}">{esc(s.title)}</a></li>' for i, s in zip(ids, sections, strict=True)]
     parts.append('</ol><p class="files">Every table in every format is in '
                  '<a href="tables/">tables/</a>, every figure (PNG and SVG) in '
                  '<a href="figures/">figures/</a>; all numbers at full precision in '
                  '<a href="results.json">results.json</a>; versions, inputs and hashes in '
                  '<a href="manifest.json">manifest.json</a>.</p></nav>')
-    for ident, section in zip(ids, sections):
+    for ident, section in zip(ids, sections, strict=True):
         parts.append(f'<section id="{ident}">')
         parts.append(f"<h2>{esc(section.title)}</h2>")
         parts += [f'<p class="lead">{_prose(p)}</p>' for p in section.lead]

@@ -14,7 +14,7 @@ import time
 from collections.abc import Callable
 from contextlib import ExitStack
 from dataclasses import dataclass, replace
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import metadata
 from pathlib import Path
 from typing import Any
@@ -32,9 +32,9 @@ from evidence.results import ResultProtocol
 from evidence.study import figures as figs
 from evidence.study._long import shorten_rows
 from evidence.study._output import OutputFolder, file_hash
+from evidence.study.figures import RUNG_COLOURS
 from evidence.study.report import Answer, Figure, Section, Table, render_report
 from evidence.study.spec import StudySpec, check_against_data, check_executor, read_spec
-from evidence.study.figures import RUNG_COLOURS
 from evidence.study.steps import AUDIT, STEPS, TITLES, StepOutput, TableOut
 from evidence.study.verdict import FLAG_MEANINGS, RUNG_TEXT, verdicts
 from evidence.tables import html_to_docx
@@ -236,7 +236,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
 def _input_hashes(spec: StudySpec, source: Path | None) -> dict[str, Any]:
     """Hashes of the inputs, taken before anything is written."""
     check_source(spec.data_file)
-    out = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
+    out: dict[str, Any] = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
     if source is not None:
         out["study_file"] = {"file": source.name, "sha256": file_hash(source)}
     return out
@@ -247,7 +247,7 @@ def run_into(spec: StudySpec, folder: OutputFolder, executor: ExecutorLike,
              progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Run ``spec`` into an open output folder and commit it (the runner behind ``run_study``
     and ``run_demo``)."""
-    started, clock = datetime.now(timezone.utc), time.perf_counter()
+    started, clock = datetime.now(UTC), time.perf_counter()
     panel = _load(spec)
     stack = ExitStack()
     try:

@@ -18,8 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from evidence._typing import ADJUSTMENTS, DEFAULT_SEED
-from evidence._validation import (check_choice, check_columns, check_int, check_number,
-                                  check_window, suggest)
+from evidence._validation import check_choice, check_columns, check_int, check_number, check_window, suggest
 from evidence.elasticity import ESTIMATORS
 from evidence.errors import DataError, EvidenceError, SpecError
 from evidence.parallel import BACKENDS
@@ -76,7 +75,7 @@ def _name(value: Any, where: str) -> str:
 def _int(low: int | None, high: int | None) -> Check:
     def check(value: Any, where: str) -> int:
         try:
-            return int(check_int("value", value, minimum=low, maximum=high))  # type: ignore[arg-type]
+            return int(check_int("value", value, minimum=low, maximum=high))
         except SpecError as exc:
             raise _fail(where, str(exc).replace("value=", "", 1)) from None
     return check

@@ -98,9 +98,11 @@ def verdicts(result: Any, unit_words: tuple[str, str] = ("unit", "units")) -> li
         span_text = (f"all on {spans[0].replace('-', '–')}" if len(spans) == 1 else
                      f"each on its own longest complete span inside {window[0]}–{window[1]}")
         adjust = _ADJUST.get(crit.adjust, crit.adjust)
+        adjusted = (f"adjusted across {unit_words[1]} by {adjust}" if crit.adjust != "none"
+                    else "not adjusted")
         intro = (f"Of {_plural(units, *unit_words)} graded on {pressure} ({basis} basis, "
                  f"{span_text}; direction tested one-sided at {crit.alpha:g}, p-values "
-                 f"{'adjusted across ' + unit_words[1] + ' by ' + adjust if crit.adjust != 'none' else 'not adjusted'}):")
+                 f"{adjusted}):")
         text = f"{headline} {intro} {_sentence(rungs)}."
         if flags:
             text += " Flags: " + ", ".join(f"{f} {n}" for f, n in flags.items()) + "."

@@ -64,7 +64,8 @@ def build_panel(n_units: int, n_years: int = N_YEARS, seed: int = SEED) -> pd.Da
                              rng.uniform(-0.004, 0.004, (n_units, 1))])
     brk = rng.integers(8, n_years - 8, (n_units, 1))
     # absolute decouplers: intensity flat-ish growth before the break, steep decline after it
-    kink = np.where(kind == 0, slope * np.maximum(s - brk, 0.0) + (slope + 0.03) * np.minimum(s - brk, 0.0), slope * s)
+    kink = np.where(kind == 0, slope * np.maximum(s - brk, 0.0)
+                    + (slope + 0.03) * np.minimum(s - brk, 0.0), slope * s)
     # first-year emissions of 5-25 t per person (population in thousands, emissions in kt)
     start = rng.uniform(np.log(5.0), np.log(25.0), (n_units, 1)) + log_pop[:, :1] - log_gdp[:, :1]
     log_int = (start + kink

@@ -8,8 +8,19 @@ reports as "not run" with its reason. Adding an analysis means one module here a
 
 from __future__ import annotations
 
-from evidence.study.steps import (audit, breaks, cointegration, convergence, decomposition,
-                                  dependence, ekc, elasticity, grade, rates, roots)
+from evidence.study.steps import (
+    audit,
+    breaks,
+    cointegration,
+    convergence,
+    decomposition,
+    dependence,
+    ekc,
+    elasticity,
+    grade,
+    rates,
+    roots,
+)
 from evidence.study.steps._base import FigureOut, Step, StepOutput, TableOut
 
 __all__ = ["STEPS", "AUDIT", "TITLES", "Step", "StepOutput", "TableOut", "FigureOut"]

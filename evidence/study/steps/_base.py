@@ -34,7 +34,9 @@ class TableOut:
     """
 
     name: str
-    render: Callable[[str, bool], str]
+    # Called as render(fmt, caution); typed loosely because the steps bind their data as lambda
+    # defaults, which mypy cannot infer against a fixed signature.
+    render: Callable[..., str]
     source: str | None = None
     shown: str = "open"
     summary: str = ""
@@ -51,7 +53,7 @@ class FigureOut:
     """
 
     name: str
-    draw: Callable[[], Any]
+    draw: Callable[..., Any]  # called as draw(); loose for the same reason as TableOut.render
     label: str = ""
     in_report: bool = False
     source: str | None = None

@@ -37,7 +37,7 @@ def condense_audit(audit: pd.DataFrame, units: tuple[str, ...] | list[str]) -> p
             who = f"{len(names)} units: {', '.join(names[:NAMED])} and {len(names) - NAMED} more"
         else:
             who = ", ".join(names)
-        rows.append({"units": who, **dict(zip(keys, values))})
+        rows.append({"units": who, **dict(zip(keys, values, strict=True))})
     return pd.DataFrame(rows, columns=["units", *keys])
 
 

@@ -18,8 +18,7 @@ from evidence.panel import Panel, derived_name
 from evidence.study import figures as figs
 from evidence.study.choice import DEFAULT_LIMIT
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, p_words,
-                                         safe_name)
+from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, p_words, safe_name
 from evidence.tables import render_frame
 
 __all__ = ["run", "series_label", "choose_break_units"]
@@ -43,11 +42,11 @@ def _frame(res: Any) -> pd.DataFrame:
     tab = res.table
     return pd.DataFrame({
         "unit": tab.index,
-        "span": [f"{a}–{b}" for a, b in zip(tab["first_year"], tab["last_year"])],
+        "span": [f"{a}–{b}" for a, b in zip(tab["first_year"], tab["last_year"], strict=True)],
         "breaks": tab["n_breaks"].to_numpy(),
         "break years (95% interval)": [
-            ", ".join(f"{y} ({lo}–{hi})" for y, lo, hi in zip(b, lo_, hi_)) or "none"
-            for b, lo_, hi_ in zip(tab["break_years"], tab["lower"], tab["upper"])],
+            ", ".join(f"{y} ({lo}–{hi})" for y, lo, hi in zip(b, lo_, hi_, strict=True)) or "none"
+            for b, lo_, hi_ in zip(tab["break_years"], tab["lower"], tab["upper"], strict=True)],
         "UDmax p": tab["pvalue"].to_numpy(), "adjusted p": tab["pvalue_adjusted"].to_numpy(),
         "residual AR(1)": tab["ar1"].to_numpy(),
         "p calibrated": ["yes" if c else "no" for c in tab["ar1_covered"]]})

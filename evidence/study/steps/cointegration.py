@@ -3,6 +3,7 @@ long-run elasticity where the relation cointegrates."""
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from typing import Any
 
 from evidence.cointegration import kao_test, long_run, pedroni_test, westerlund_test
@@ -14,7 +15,8 @@ from evidence.tables.tests import flatten_tests
 
 __all__ = ["run"]
 
-_TESTS = {"pedroni": pedroni_test, "kao": kao_test, "westerlund": westerlund_test}
+_TESTS: dict[str, Callable[..., Any]] = {"pedroni": pedroni_test, "kao": kao_test,
+                                          "westerlund": westerlund_test}
 RULE = ("Decision rule: H0 is no cointegration; a statistic rejects at 5 % when its p-value is "
         "below 0.05. p-values come from each test's default inference (a sieve bootstrap under H0 "
         "that reproduces drifting activity and dependence across units, where the test has one).")
@@ -39,7 +41,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
                     "statistics reject no cointegration at 5 %"
                     + (f" ({', '.join(rejected)})." if rejected else "."))
         results[pressure] = {name: r.to_dict() for name, r in zip(spec.analyses["cointegration"],
-                                                                  found)}
+                                                                  found, strict=True)}
         test_notes = [RULE, *size_notes(tests), *notes]
         tables.append(TableOut(
             f"cointegration_{safe_name(pressure)}",

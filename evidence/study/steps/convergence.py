@@ -10,14 +10,12 @@ from __future__ import annotations
 from collections import Counter
 from typing import Any
 
-from evidence.convergence import (beta_convergence, club_convergence, sigma_convergence,
-                                  stochastic_convergence)
+from evidence.convergence import beta_convergence, club_convergence, sigma_convergence, stochastic_convergence
 from evidence.errors import DataError
 from evidence.panel import Panel, derived_name
 from evidence.study import figures as figs
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, p_words,
-                                         size_notes)
+from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, p_words, size_notes
 from evidence.tables import beta_table, render_frame, test_table
 from evidence.tables._names import header_name
 
@@ -39,7 +37,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     column = derived_name("per_capita", pressure)
     work = panel.with_per_capita(pressure, spec.population, name=column)
     chosen = spec.analyses["convergence"]
-    one, many = spec.unit_words
+    _one, many = spec.unit_words
     notes = data_notes(spec)
     tables: list[TableOut] = []
     figures: list[FigureOut] = []

@@ -36,7 +36,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     table = TableOut("decomposition", lambda f, c=True: render_frame(
         frame, f, title=title, notes=notes, labels=spec.labels, caution=c), shown="folded",
         summary=f"Effects for every {one}")
-    figures = ()
+    figures: tuple[FigureOut, ...] = ()
     if spec.figures:
         effects_frame = frame.loc[[res.total_row], list(res.factors)].rename(columns=shown)
         figures = (FigureOut("decomposition", lambda: figs.decomposition_figure(

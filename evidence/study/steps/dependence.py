@@ -19,7 +19,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         logged = derived_name("log", column)
         tests.append(pesaran_cd_test(base.with_log(column, name=logged), logged))
     found = "; ".join(f"{t.test} on ln {c}: {p_words(t.pvalue)}" for t, c in
-                      zip(tests, spec.pressure_columns))
+                      zip(tests, spec.pressure_columns, strict=True))
     lead = (f"Does a shock to one unit's pressure show up in the others? {found}. A rejection "
             "(p < 0.05) calls for the tests and estimators in this report that allow for "
             "cross-sectional dependence (CIPS, CCE mean group, Driscoll–Kraay errors, the "

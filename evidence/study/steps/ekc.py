@@ -8,8 +8,15 @@ from evidence.elasticity import ekc
 from evidence.panel import Panel, derived_name
 from evidence.study import figures as figs
 from evidence.study.spec import StudySpec
-from evidence.study.steps._base import (FigureOut, StepOutput, TableOut, data_notes, p_words,
-                                        safe_name, size_notes)
+from evidence.study.steps._base import (
+    FigureOut,
+    StepOutput,
+    TableOut,
+    data_notes,
+    p_words,
+    safe_name,
+    size_notes,
+)
 from evidence.tables import ekc_table
 from evidence.tables._names import header_name
 
@@ -54,7 +61,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
                       lead=tuple(x for x in lead if x))
 
 
-def _figure(panel: Panel, spec: StudySpec, res, pressure: str):  # noqa: ANN001, ANN202
+def _figure(panel: Panel, spec: StudySpec, res, pressure: str):
     work, p_col, a_col = panel, pressure, spec.activity
     if spec.window:
         work = work.window(spec.window)

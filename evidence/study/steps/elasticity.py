@@ -38,8 +38,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         test_notes = [RULE, *size_notes(tests)]
         tables.append(TableOut(
             f"elasticity_tests_{safe_name(pressure)}",
-            lambda f, c=True, ts=tests, n=test_notes: test_table(
-                ts, f, title=f"One-sided decoupling tests, {pressure}", notes=n,
+            lambda f, c=True, ts=tests, n=test_notes, p=pressure: test_table(
+                ts, f, title=f"One-sided decoupling tests, {p}", notes=n,
                 labels=spec.labels, caution=c), pressure))
     lead.append(RULE)
     return StepOutput("Elasticities", tuple(tables), results={"elasticity": results},

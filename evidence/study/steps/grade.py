@@ -73,7 +73,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     more = ""
     if spec.figures:
         figures, more = _figures(panel, spec, res)
-    one, many = spec.unit_words
+    one, _many = spec.unit_words
     lead = (f"Each {one} is graded on four axes, reported separately: direction (is the decline "
             "significant?), duration (how long?), robustness (in how many sub-windows, and on "
             "the consumption basis?) and sufficiency (fast enough for the stated target?). The "

@@ -20,7 +20,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     """
     notes = data_notes(spec)
     tables, results, lead = [], {}, []
-    one, many = spec.unit_words
+    one, _many = spec.unit_words
     for number, pressure in enumerate([*spec.pressure_columns, *spec.consumption.values()]):
         res = rates(panel, pressure, spec.activity, window=spec.window)
         results[pressure] = res.to_dict()

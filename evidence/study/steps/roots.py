@@ -14,6 +14,7 @@ from typing import Any
 
 import pandas as pd
 
+from evidence._typing import Trend
 from evidence.panel import Panel, derived_name
 from evidence.results import format_pvalue
 from evidence.roots import root_battery
@@ -26,7 +27,7 @@ from evidence.tables._names import test_name
 __all__ = ["run", "RULE", "LEVEL_TREND"]
 
 #: Deterministic terms of the levels: the log series trend, so a constant and a linear trend.
-LEVEL_TREND = "trend"
+LEVEL_TREND: Trend = "trend"
 RULE = ("Decision rule at 5 %: a transform is stationary when every unit-root test (ADF, PP, "
         "DF-GLS, IPS, CIPS, ...) rejects and no stationarity test (KPSS, Hadri) rejects; "
         "non-stationary when no unit-root test rejects. I(0): levels stationary. I(1): levels "
@@ -110,7 +111,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         panel_keys = [t for t in res.table["test"] if t in PANEL_TESTS]
         panel_text = "; ".join(
             f"{_NAMES[key]} {r['transform']} p {r['p-value']}"
-            for key, (_, r) in zip(panel_keys, panel_frame.iterrows()))
+            for key, (_, r) in zip(panel_keys, panel_frame.iterrows(), strict=True))
         lead.append(f"ln {column}: unit decisions " + ", ".join(
             f"{k} {v}" for k, v in decided.most_common()) + f" (of {len(units)} {many})"
             + (f"; panel tests: {panel_text}." if panel_text else "."))
