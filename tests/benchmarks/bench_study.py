@@ -15,7 +15,8 @@ as CSV with a study file that turns on the demo study's analyses, and then
   broken trend over every admissible break year, OLS per unit for the mean-group elasticity) on
   ``--reference-units`` units and prints seconds per unit for both and the ratio (goal ≥ 20x).
 
-Not part of the default test run.
+``--crossover 25 50 100 200`` times only the grade on the first N units on each executor (the
+crossover N of ``docs/scale.md``). Not part of the default test run.
 """
 
 from __future__ import annotations
@@ -255,13 +256,38 @@ def reference_seconds_per_unit(frame: pd.DataFrame, units: int) -> float:
     return (time.perf_counter() - start) / len(parts)
 
 
+def crossover(sizes: list[int], panel_units: int = 300) -> None:
+    """The grade (both bases, basis gap) on the first N units, serial against 2 local processes
+    and a new local Dask cluster (started inside the call, as a study does); cache warmed first."""
+    from evidence.grading import grade
+    from evidence.panel import load_panel
+
+    full = build_panel(max(panel_units, *sizes))
+    options = {"consumption": {"ghg_territorial": "ghg_consumption"}}
+    for n in sizes:
+        units = full["county"].drop_duplicates().iloc[:n]
+        panel = load_panel(full[full["county"].isin(units)], unit="county", time="year")
+        grade(panel, "ghg_territorial", "gdp", **options)  # simulate and cache the designs
+        line = [f"N={n}:"]
+        for executor in ("serial", "processes", "dask"):
+            start = time.perf_counter()
+            grade(panel, "ghg_territorial", "gdp", executor=executor, **options)
+            line.append(f"{executor} {time.perf_counter() - start:6.1f} s")
+        print("  ".join(line), flush=True)
+
+
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("units", nargs="?", type=int, default=3000)
     parser.add_argument("--reference-units", type=int, default=20)
     parser.add_argument("--executor", default="serial")
     parser.add_argument("--keep", type=Path, default=None, help="write the panel and output here")
+    parser.add_argument("--crossover", type=int, nargs="+", default=None, metavar="N",
+                        help="only time the grade on N units on each executor")
     args = parser.parse_args()
+    if args.crossover:
+        crossover(args.crossover)
+        return
     with tempfile.TemporaryDirectory() as tmp:
         folder = args.keep or Path(tmp)
         folder.mkdir(parents=True, exist_ok=True)
