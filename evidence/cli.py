@@ -30,6 +30,7 @@ from evidence._commands._common import (
     terminal_safe,
     with_basis,
 )
+from evidence._commands._profile import profiling
 from evidence._files import DEFAULT_MAX_MB
 from evidence._version import __version__
 from evidence.errors import EvidenceError
@@ -141,13 +142,17 @@ def next_steps(folder: str) -> str:
 @click.option("--overwrite", is_flag=True,
               help="Replace the folder even if it holds files evidence did not write.")
 @quiet_option
-def study(spec: Path, out: Path, executor: str | None, overwrite: bool, quiet: bool) -> None:
+@click.option("--profile", is_flag=True,
+              help="Print where the time went (per step, then the hot spots) on stderr.")
+def study(spec: Path, out: Path, executor: str | None, overwrite: bool, quiet: bool,
+          profile: bool) -> None:
     """Run a study file (TOML): report, tables, figures, results.json, manifest."""
     executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("study: analyses", quiet=quiet)
     try:
-        result = run_study(spec, out, executor=executor, overwrite=overwrite,
-                           progress=progress.update if progress else None)
+        with profiling(profile):
+            result = run_study(spec, out, executor=executor, overwrite=overwrite,
+                               progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()

@@ -154,6 +154,38 @@ def _ratio(end: float, start: float) -> float:
     return float(end) / float(start) if start != 0 else float("nan")
 
 
+def _rows_of_year(panel: Panel, year: int, columns: list[str], units: list[str]) -> np.ndarray:
+    """``(units, columns)`` values of one year (NaN where missing); a unit without a row for the
+    year is an error naming it."""
+    frame = panel.frame
+    at = frame.index.get_level_values(1) == year
+    part = frame.loc[at, columns]
+    part.index = part.index.get_level_values(0)
+    missing = [u for u in units if u not in part.index] if len(part) < len(units) else []
+    if missing:
+        raise DataError(f"unit '{missing[0]}' has no row for {year}; choose a window "
+                        "with both years for every unit.")
+    return part.reindex(units).to_numpy(dtype=float)
+
+
+def _check_factors(values: np.ndarray, units: list[str], year: int, pressure: str,
+                   factors: tuple[str, ...]) -> None:
+    """Every value present, and the factors multiplying to the pressure (relative 1e-6)."""
+    names = [pressure, *factors]
+    for i, unit in enumerate(units):
+        row = values[i]
+        if np.isnan(row).any():
+            raise DataError(f"unit '{unit}' lacks a value in {year} for "
+                            f"{', '.join(n for n, v in zip(names, row, strict=True) if np.isnan(v))}.")
+    products = values[:, 1:].prod(axis=1)
+    bad = ~np.isclose(products, values[:, 0], rtol=1e-6, atol=0.0)
+    if bad.any():
+        i = int(np.argmax(bad))
+        raise DataError(f"at unit '{units[i]}', year {year}, the product of {list(factors)} is "
+                        f"{float(products[i]):g}, not {pressure} = {values[i, 0]:g}; the factors "
+                        "must multiply to the pressure.")
+
+
 def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
          window: Window | str | None = None) -> LMDIResult:
     """LMDI-I decomposition of the change in ``pressure`` between the window's end years.
@@ -168,32 +200,28 @@ def lmdi(panel: Panel, pressure: str, factors: Sequence[str], *,
     panel.require(pressure, *factors)
     start, end = (check_window(window, panel.years) if window is not None
                   else (panel.years[0], panel.years[-1]))
-    frame = panel.frame
-    rows_add, rows_mul, starts, ends, units = [], [], [], [], []
-    for unit in panel.units:
-        try:
-            first = frame.loc[(unit, start), [pressure, *factors]]
-            last = frame.loc[(unit, end), [pressure, *factors]]
-        except KeyError:
-            raise DataError(f"unit '{unit}' has no row for {start} or {end}; choose a window "
-                            "with both years for every unit.") from None
-        for year, row in ((start, first), (end, last)):
-            if row.isna().any():
-                raise DataError(f"unit '{unit}' lacks a value in {year} for "
-                                f"{', '.join(row.index[row.isna()])}.")
-            product = float(np.prod(row[list(factors)].to_numpy()))
-            if not np.isclose(product, row[pressure], rtol=1e-6, atol=0.0):
-                raise DataError(f"at unit '{unit}', year {year}, the product of {list(factors)} is "
-                                f"{product:g}, not {pressure} = {row[pressure]:g}; the factors "
-                                "must multiply to the pressure.")
-        starts.append(first[list(factors)].to_numpy(dtype=float))
-        ends.append(last[list(factors)].to_numpy(dtype=float))
-        units.append(unit)
-        add, mul = lmdi_effects(starts[-1][:, None], ends[-1][:, None])
-        rows_add.append([first[pressure], last[pressure], last[pressure] - first[pressure], *add])
-        rows_mul.append([first[pressure], last[pressure], _ratio(last[pressure], first[pressure]),
-                         *mul])
-    add_total, mul_total = lmdi_effects(np.column_stack(starts), np.column_stack(ends))
+    columns = [pressure, *factors]
+    units = list(panel.units)
+    first, last = _rows_of_year(panel, start, columns, units), _rows_of_year(panel, end, columns, units)
+    for year, values in ((start, first), (end, last)):
+        _check_factors(values, units, year, pressure, factors)
+    starts, ends = first[:, 1:], last[:, 1:]
+    # the effects of each unit on its own (one sub-category): elementwise, as lmdi_effects does
+    x0 = np.where(starts == 0, ZERO_REPLACEMENT, starts).T
+    xt = np.where(ends == 0, ZERO_REPLACEMENT, ends).T
+    if (x0 < 0).any() or (xt < 0).any():
+        raise DataError("LMDI needs non-negative factor values.")
+    v0, vt = x0.prod(axis=0), xt.prod(axis=0)
+    weights = log_mean(vt, v0)
+    logs = np.log(xt / x0)
+    unit_add = (weights * logs).T
+    unit_mul = np.exp(weights / log_mean(vt, v0) * logs).T
+    ends_p, starts_p = last[:, 0], first[:, 0]
+    rows_add = [[a, b, b - a, *eff] for a, b, eff in zip(starts_p, ends_p, unit_add, strict=True)]
+    rows_mul = [[a, b, _ratio(b, a), *eff]
+                for a, b, eff in zip(starts_p, ends_p, unit_mul, strict=True)]
+    # (factors, units), laid out as the per-unit rows stacked column by column
+    add_total, mul_total = lmdi_effects(np.ascontiguousarray(starts.T), np.ascontiguousarray(ends.T))
     v0 = sum(r[0] for r in rows_add)
     vt = sum(r[1] for r in rows_add)
     rows_add.append([v0, vt, vt - v0, *add_total])

@@ -19,6 +19,8 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping, Sequence
 from dataclasses import asdict, dataclass, field
+from functools import partial
+from itertools import chain
 from typing import Any
 
 import numpy as np
@@ -40,6 +42,7 @@ from evidence._validation import (
 from evidence.errors import DataError, SpecError
 from evidence.indicators import budget_rate, tapio_class
 from evidence.panel import Panel
+from evidence.parallel import ExecutorLike, using_executor
 from evidence.results import ResultProtocol
 from evidence.trend import MIN_YEARS, TREND_TESTS, test_label, trend_batch
 
@@ -281,7 +284,8 @@ def _unit_blocks(panel: Panel, columns: list[str], window: Window, crit: Criteri
 
 def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
           window: Window | str | None = None, criteria: Criteria | None = None,
-          consumption: Mapping[str, str] | None = None, latest_break: bool = True) -> GradeResult:
+          consumption: Mapping[str, str] | None = None, latest_break: bool = True,
+          executor: ExecutorLike = "serial") -> GradeResult:
     """Grade the evidence of decoupling of each pressure from ``activity``, unit by unit.
 
     Parameters
@@ -302,6 +306,10 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
     latest_break : bool
         Search the latest trend break (Bai–Perron, :func:`evidence.breaks.find_breaks`) and
         report it with its status; the rung does not depend on it.
+    executor : str, executor or dask Client
+        Where the units are graded, in chunks of :data:`CHUNK` units: ``"serial"`` (default),
+        ``"processes"``, ``"dask"``, a scheduler address ``"tcp://host:8786"``, an executor or a
+        ``dask.distributed.Client``. The result does not depend on it.
 
     Notes
     -----
@@ -324,42 +332,19 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
     years = panel.years
     start, end = (check_window(window, years) if window is not None
                   else (int(years[0]), int(years[-1])))
-    rows, records = [], {}
+    rows: list[dict[str, Any]] = []
+    records: dict[tuple[str, str], dict[str, Any]] = {}
     excluded: list[dict[str, Any]] = []
     spans: list[int] = []
-    for pressure in pressures:
-        blocks = _unit_blocks(panel, [pressure, activity], (start, end), crit, excluded)
-        unit_recs = []
-        for unit, (logs, unit_years) in blocks.items():
-            rec = _unit_axes(logs[:, 0], logs[:, 1], unit_years, crit, latest_break)
-            rec.update(unit=unit, pressure=pressure, years=int(unit_years.size),
-                       span=f"{int(unit_years[0])}-{int(unit_years[-1])}",
-                       basis=panel.basis(pressure) or "not stated")
-            required = _required_change(unit, float(np.exp(logs[-1, 0])), crit)
-            rec["required_change"] = required
-            rec["sufficiency"] = ("no target" if required is None else
-                                  "sufficient" if rec["observed_change_upper"] <= required else
-                                  "borderline" if rec["observed_change"] <= required else
-                                  "insufficient")
-            unit_recs.append(rec)
-            spans.append(int(unit_years.size))
-        if not unit_recs:
-            continue
-        for key in ("p_absolute", "p_absolute_all_years", "p_relative"):
-            adjusted = adjust_pvalues([r[key] for r in unit_recs], crit.adjust)
-            for r, p in zip(unit_recs, adjusted, strict=True):
-                r[f"{key}_adj"] = float(p)
-        other = (consumption or {}).get(pressure)
-        gaps = (_basis_gaps(panel, pressure, other, activity, (start, end), crit)
-                if other else {})
-        for rec in unit_recs:
-            rec.update(gaps.get(rec["unit"], _no_gap(other)))
-            rung, flags = _rung(rec, crit)
-            if rec["basis_gap"]:
-                flags.insert(0, "basis-gap")
-            rec["rung"], rec["flags"] = rung, flags
-            records[(rec["unit"], pressure)] = rec
-            rows.append(_row(rec))
+    with using_executor(executor) as runner:
+        for pressure in pressures:
+            blocks = _unit_blocks(panel, [pressure, activity], (start, end), crit, excluded)
+            axes_of = _in_chunks(runner, partial(_chunk_axes, crit=crit, with_break=latest_break),
+                                 list(blocks.values()))
+            other = (consumption or {}).get(pressure)
+            gaps = (_basis_gaps(panel, pressure, other, activity, (start, end), crit, runner)
+                    if other and blocks else {})
+            _collect(pressure, blocks, axes_of, gaps, other, panel, crit, rows, records, spans)
     if not rows:
         raise DataError(f"no unit has at least {crit.min_window} complete years of the pressures "
                         f"and '{activity}' in {start}:{end}; choose a longer window or a smaller "
@@ -378,6 +363,57 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
     return GradeResult(table=table, records=records, criteria=crit, window=(start, end),
                        excluded=excluded, audit=panel.audit, details=details,
                        warnings=tuple(warnings))
+
+
+#: Units per task sent to the executor (large enough that a task outweighs its transfer).
+CHUNK = 25
+
+
+def _in_chunks(runner: Any, func: Any, items: list[Any]) -> list[Any]:
+    """``func`` (taking a list of items, returning a list) over ``items`` in chunks of
+    :data:`CHUNK` through the executor; the results in the order of ``items``."""
+    tasks = [items[k:k + CHUNK] for k in range(0, len(items), CHUNK)]
+    return list(chain.from_iterable(runner.map(func, tasks))) if tasks else []
+
+
+def _chunk_axes(blocks: list[tuple[np.ndarray, np.ndarray]], crit: Criteria,
+                with_break: bool) -> list[dict[str, Any]]:
+    """The axes of a chunk of units (one task of the executor)."""
+    return [_unit_axes(logs[:, 0], logs[:, 1], years, crit, with_break) for logs, years in blocks]
+
+
+def _collect(pressure: str, blocks: dict[str, tuple[np.ndarray, np.ndarray]],
+             axes_of: list[dict[str, Any]], gaps: dict[str, dict[str, Any]], other: str | None,
+             panel: Panel, crit: Criteria, rows: list[dict[str, Any]],
+             records: dict[tuple[str, str], dict[str, Any]], spans: list[int]) -> None:
+    """Adjust the p-values across the units of one pressure, add the basis gaps and the rung."""
+    unit_recs = []
+    for (unit, (logs, unit_years)), rec in zip(blocks.items(), axes_of, strict=True):
+        rec.update(unit=unit, pressure=pressure, years=int(unit_years.size),
+                   span=f"{int(unit_years[0])}-{int(unit_years[-1])}",
+                   basis=panel.basis(pressure) or "not stated")
+        required = _required_change(unit, float(np.exp(logs[-1, 0])), crit)
+        rec["required_change"] = required
+        rec["sufficiency"] = ("no target" if required is None else
+                              "sufficient" if rec["observed_change_upper"] <= required else
+                              "borderline" if rec["observed_change"] <= required else
+                              "insufficient")
+        unit_recs.append(rec)
+        spans.append(int(unit_years.size))
+    if not unit_recs:
+        return
+    for key in ("p_absolute", "p_absolute_all_years", "p_relative"):
+        adjusted = adjust_pvalues([r[key] for r in unit_recs], crit.adjust)
+        for r, p in zip(unit_recs, adjusted, strict=True):
+            r[f"{key}_adj"] = float(p)
+    for rec in unit_recs:
+        rec.update(gaps.get(rec["unit"], _no_gap(other)))
+        rung, flags = _rung(rec, crit)
+        if rec["basis_gap"]:
+            flags.insert(0, "basis-gap")
+        rec["rung"], rec["flags"] = rung, flags
+        records[(rec["unit"], pressure)] = rec
+        rows.append(_row(rec))
 
 
 def _test_names(crit: Criteria) -> dict[str, str]:
@@ -401,23 +437,29 @@ def _no_gap(other: str | None) -> dict[str, Any]:
 
 
 def _basis_gaps(panel: Panel, pressure: str, other: str, activity: str, window: Window,
-                crit: Criteria) -> dict[str, dict[str, Any]]:
+                crit: Criteria, runner: Any) -> dict[str, dict[str, Any]]:
     """Gap between the bases per unit over the longest span in which both (and activity) exist."""
     sink: list[dict[str, Any]] = []
     blocks = _unit_blocks(panel, [pressure, other, activity], window, crit, sink)
-    out = {}
-    for unit, (logs, years) in blocks.items():
+    found = _in_chunks(runner, partial(_chunk_gaps, crit=crit), list(blocks.values()))
+    return dict(zip(blocks, found, strict=True))
+
+
+def _chunk_gaps(blocks: list[tuple[np.ndarray, np.ndarray]], crit: Criteria) -> list[dict[str, Any]]:
+    """The basis gaps of a chunk of units (one task of the executor)."""
+    out = []
+    for logs, years in blocks:
         gap = trend_batch(logs[:, 0] - logs[:, 1], test=crit.trend_test, alternative="two-sided",
                           alpha=crit.alpha)
         terr = axes.direction_tests(logs[:, 0], logs[:, 2], crit.trend_test, crit.alpha)
         cons = axes.direction_tests(logs[:, 1], logs[:, 2], crit.trend_test, crit.alpha)
         t_claim, c_claim = axes.claim_level(terr, crit.alpha), axes.claim_level(cons, crit.alpha)
         p_gap = float(gap["pvalue"][0])
-        out[unit] = {"consumption_direction": c_claim, "territorial_direction_common": t_claim,
-                     "gap_trend": float(gap["estimate"][0]), "gap_lower": float(gap["lower"][0]),
-                     "gap_upper": float(gap["upper"][0]), "p_gap": p_gap,
-                     "gap_span": f"{int(years[0])}-{int(years[-1])}",
-                     "basis_gap": bool(p_gap < crit.alpha or t_claim != c_claim)}
+        out.append({"consumption_direction": c_claim, "territorial_direction_common": t_claim,
+                    "gap_trend": float(gap["estimate"][0]), "gap_lower": float(gap["lower"][0]),
+                    "gap_upper": float(gap["upper"][0]), "p_gap": p_gap,
+                    "gap_span": f"{int(years[0])}-{int(years[-1])}",
+                    "basis_gap": bool(p_gap < crit.alpha or t_claim != c_claim)})
     return out
 
 

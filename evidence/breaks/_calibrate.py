@@ -39,7 +39,7 @@ and cached on disk (``evidence._cache``); the result never depends on the execut
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -144,6 +144,8 @@ class _Conditional:
 
     centres: np.ndarray
     draws: tuple[np.ndarray, ...]
+    #: quantile of every bin, per probability (the draws never change once built)
+    _quantiles: dict = field(default_factory=dict, repr=False)
 
     @classmethod
     def build(cls, stat: np.ndarray, r: np.ndarray, bins: int = BINS) -> _Conditional:
@@ -159,7 +161,9 @@ class _Conditional:
         return self._interpolate(surv, r)
 
     def quantile(self, prob: float, r: np.ndarray) -> np.ndarray:
-        values = np.array([np.quantile(d, prob) for d in self.draws])
+        values = self._quantiles.get(prob)
+        if values is None:
+            values = self._quantiles[prob] = np.array([np.quantile(d, prob) for d in self.draws])
         r = np.atleast_1d(np.asarray(r, dtype=float))
         return self._interpolate(np.broadcast_to(values, (r.size, values.size)), r)
 

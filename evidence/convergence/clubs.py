@@ -292,11 +292,13 @@ def club_convergence(panel: Panel, column: str, *, trim: float = 0.3,
     names = [tuple(units[j] for j in club) for club in clubs]
     tests = tuple(_as_test(*log_t_statistic(values[:, club], trim=trim), name, trim)
                   for club, name in zip(clubs, names, strict=True))
-    transition = pd.DataFrame(index=pd.Index(years, name=panel.time_name))
+    paths = {}
     for club in clubs:
         block = values[:, club]
         for j, col in zip(club, (block / block.mean(axis=1, keepdims=True)).T, strict=True):
-            transition[units[j]] = col
+            paths[units[j]] = col
+    # one frame from all the columns (inserting them one by one copies the frame each time)
+    transition = pd.DataFrame(paths, index=pd.Index(years, name=panel.time_name))
     return ClubResult(clubs=tuple(names), divergent=tuple(units[j] for j in divergent),
                       tests=tests, overall=overall,
                       merges=pd.DataFrame(merges, columns=["clubs", "log_t", "merged"]),

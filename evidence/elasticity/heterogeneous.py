@@ -112,12 +112,16 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
         extra = cross_section_means(design)
     elif estimator == "amg":
         extra = amg_common_process(design).to_frame()
-    slopes, cross, used, left_out, resid = [], [], [], [], []
+    slopes, cross, used, left_out, resid, resid_years = [], [], [], [], [], []
     column = ", ".join((design.dependent, *names))
+    extra_values = None if extra is None else extra.to_numpy()
     for unit, years, y_i, x_i in unit_blocks(design):
         d_i = _deterministics(years.astype(float), trend)
-        if extra is not None:
-            d_i = np.column_stack([d_i, extra.loc[years].to_numpy()])
+        if extra is not None and extra_values is not None:
+            rows = extra.index.get_indexer(years)
+            if (rows < 0).any():  # a year the common terms lack: the label lookup's KeyError
+                raise KeyError(f"{years[rows < 0].tolist()} not in index")
+            d_i = np.column_stack([d_i, extra_values[rows]])
         if y_i.size <= k + d_i.shape[1]:
             left_out.append({"unit": unit, "column": column, "years": format_years(years),
                              "reason": f"unit excluded: {y_i.size} years; needs more than "
@@ -130,8 +134,8 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
                              "reason": "unit excluded: regressors collinear within the unit"})
             continue
         slopes.append(b_i)
-        resid.append(pd.Series(e_i, index=pd.MultiIndex.from_arrays(
-            [[unit] * y_i.size, years], names=design.y.index.names)))
+        resid.append(e_i)
+        resid_years.append(years)
         cross.append(xx_i / y_i.size)
         used.append(unit)
     n = len(used)
@@ -162,7 +166,9 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
                     params=pd.Series(mg, index=names), std_errors=np.sqrt(np.diag(cov)),
                     cov=cov, cov_type=cov_label, nobs=int(counts.sum()),
                     df_resid=None, details=details, reference=_REFS[estimator], warnings=tuple(warn),
-                    resid=pd.concat(resid))
+                    resid=pd.Series(np.concatenate(resid), index=pd.MultiIndex.from_arrays(
+                        [np.repeat(np.array(used, dtype=object), [y.size for y in resid_years]),
+                         np.concatenate(resid_years)], names=design.y.index.names)))
 
 
 def _cce_pooled(design: Design, extra: pd.DataFrame | None, trend: str, used: list[str],

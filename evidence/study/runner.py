@@ -30,6 +30,7 @@ from evidence.panel import Panel, load_panel
 from evidence.parallel import ExecutorLike, using_executor
 from evidence.results import ResultProtocol
 from evidence.study import figures as figs
+from evidence.study._long import shorten_rows
 from evidence.study._output import OutputFolder, file_hash
 from evidence.study.figures import RUNG_COLOURS
 from evidence.study.report import Answer, Figure, Section, Table, render_report
@@ -115,7 +116,7 @@ class _Writer:
                 self.folder.path(relative).write_text(table.render(fmt, True), encoding="utf-8")
             self.folder.record(relative, table.source)
             files.append(relative)
-        html = table.render("html", False) if table.shown != "file" else ""
+        html = shorten_rows(table.render("html", False), files) if table.shown != "file" else ""
         return Table(html, shown=table.shown, files=tuple(files), summary=table.summary)
 
     def section(self, output: StepOutput) -> Section:

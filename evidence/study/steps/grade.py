@@ -66,7 +66,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     """Grade every unit on every pressure; figures when the spec asks for them."""
     pressures = spec.pressure_columns
     res = grade(panel, list(pressures), spec.activity, window=spec.window,
-                criteria=criteria(spec), consumption=spec.consumption)
+                criteria=criteria(spec), consumption=spec.consumption,
+                executor=spec.executor)
     notes = [*data_notes(spec), BREAK_SERIES_NOTE]
     figures: tuple[FigureOut, ...] = ()
     more = ""
