@@ -273,6 +273,12 @@ def test_stochastic_convergence_verdicts():
     not_conv = (walk.table["verdict"] == "not converging").mean()
     assert conv >= 0.6 and not_conv >= 0.6
     assert stationary.table.set_index("unit").loc["(panel)", "verdict"] == "converging"
+    # the summary counts units only; the panel tests' row is reported on its own line
+    n_units = len(stationary.table) - 1
+    head, panel_line = stationary.summary().splitlines()[:2]
+    assert f"{n_units} units" in head
+    assert sum(int(part.rsplit(" ", 1)[1]) for part in head.split(": ", 1)[1].split(", ")) == n_units
+    assert panel_line.startswith("  panel tests: converging")
 
 
 # ------------------------------------------------------------------------- result protocol

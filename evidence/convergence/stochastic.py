@@ -78,9 +78,12 @@ class StochasticResult(ResultProtocol):
 
     def summary(self) -> str:
         """Counts of verdicts."""
-        counts = self.table["verdict"].value_counts()
-        lines = [f"Stochastic convergence of {self.column}: "
+        units = self.table[self.table["unit"] != "(panel)"]
+        counts = units["verdict"].value_counts()
+        lines = [f"Stochastic convergence of {self.column}, {len(units)} units: "
                  + ", ".join(f"{k} {int(v)}" for k, v in counts.items())]
+        lines += [f"  panel tests: {r.verdict} ({r.reason})"
+                  for r in self.table[self.table["unit"] == "(panel)"].itertuples()]
         lines += [f"  left out: {r.unit} {r.column} {r.years} ({r.reason})"
                   for r in self.excluded.itertuples()]
         lines += [f"  warning: {w}" for w in self.warnings]
