@@ -59,6 +59,7 @@ from evidence.elasticity import (
 )
 from evidence.errors import DataError, EstimationError, EvidenceError, SpecError
 from evidence.grading import Criteria, GradeResult, grade
+from evidence.trend import TREND_TESTS, trend_test
 from evidence.indicators import (
     BudgetResult,
     RatesResult,
@@ -167,6 +168,8 @@ __all__ = [
     "gamma_convergence",
     "grade",
     "grade_table",
+    "trend_test",
+    "TREND_TESTS",
     "kaya",
     "lmdi",
     "load_panel",

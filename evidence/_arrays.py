@@ -15,6 +15,7 @@ the break-date literature (a break at ``T1`` means observations ``1..T1`` form t
 
 from __future__ import annotations
 
+import warnings
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Any
@@ -213,7 +214,28 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
         excluded.append({"unit": unit_index[i], "column": col_label, "years": format_years(years),
                          "reason": reason})
 
+    # units with one complete span, no stray rows outside it, enough years and no constant column
+    # need none of the checks below: find them at once (thousands of units stay fast)
+    any_ok = complete.any(axis=0)
+    lo_all = np.argmax(complete, axis=0)
+    hi_all = complete.shape[0] - 1 - np.argmax(complete[::-1], axis=0)
+    rows = np.arange(complete.shape[0])[:, None]
+    inside = (rows >= lo_all[None, :]) & (rows <= hi_all[None, :])
+    present_all = ~np.isnan(block).all(axis=2)
+    span_ok = complete.sum(axis=0) == hi_all - lo_all + 1
+    stray = (present_all & ~inside).any(axis=0)
+    with np.errstate(invalid="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)
+        seg_all = np.where(inside[:, :, None], block, np.nan)
+        spread_all = np.nanmax(seg_all, axis=0) - np.nanmin(seg_all, axis=0)
+        scale_all = np.maximum(1.0, np.nanmax(np.abs(seg_all), axis=0))
+    flat_all = (spread_all <= 1e-12 * scale_all).any(axis=1)
+    fast = any_ok & span_ok & ~stray & (hi_all - lo_all + 1 >= min_years) & ~flat_all
+
     for i, unit in enumerate(unit_index):
+        if fast[i]:
+            first[i], last[i] = lo_all[i], hi_all[i]
+            continue
         ok = complete[:, i]
         present = ~np.isnan(block[:, i, :]).all(axis=1)
         if not ok.any():

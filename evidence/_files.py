@@ -29,7 +29,7 @@ def max_input_bytes() -> int:
         raise DataError(f"EVIDENCE_MAX_INPUT_MB={text!r} is not a number of megabytes.") from None
     if not megabytes > 0:
         raise DataError(f"EVIDENCE_MAX_INPUT_MB={text!r} must be positive.")
-    return int(megabytes * (1 << 20))
+    return max(1, round(megabytes * (1 << 20)))
 
 
 def check_source(path: str | Path) -> Path:
@@ -50,8 +50,8 @@ def check_source(path: str | Path) -> Path:
         raise DataError(f"'{path}' is {kind}; only regular files are read.")
     limit = max_input_bytes()
     if info.st_size > limit:
-        raise DataError(f"file '{path}' has {info.st_size / (1 << 20):.1f} MB, more than the "
-                        f"limit of {limit / (1 << 20):g} MB; raise it with EVIDENCE_MAX_INPUT_MB "
+        raise DataError(f"file '{path}' has {info.st_size / (1 << 20):.4g} MB, more than the "
+                        f"limit of {limit / (1 << 20):.4g} MB; raise it with EVIDENCE_MAX_INPUT_MB "
                         "(or evidence --max-input-mb) if the file is right.")
     return path
 

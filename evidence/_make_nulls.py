@@ -5,7 +5,9 @@ otherwise run (and cache) on first use — same function, same replications, gri
 ``evidence/breaks/_simulate.py``: ``NULL_REPS``, ``NULL_GRID``, ``NULL_SEED``) — so shipping them
 changes no result, only the first-use time. Configurations: the Bai–Perron null of the ``level``
 design with one changing regressor at trims 0.05–0.25, and of the ``trend`` design (intercept and
-slope) at trims 0.15–0.25, the ones used by default and by the grade.
+slope) at trims 0.15–0.25, the ones used by default and by the grade. The finite-sample tables
+of the default p-values (``evidence/breaks/_calibrate.py``) depend on each series' length and
+are simulated on first use and cached, not shipped.
 """
 
 from __future__ import annotations

@@ -18,6 +18,13 @@ units; ``e`` iid standard normal unless ``errors`` says otherwise):
 ``unit_root``         ``y`` random walks whose increments are ``drift`` plus a stationary AR(1) (``rho``) of
                       ``e_it + factor λ_i f_t`` (a common shock ``f``, loadings U(0.5, 1.5)); ``x`` the same,
                       independent of ``y``
+``walks``             ``y`` and ``x`` unrelated I(1): ``Δy``, ``Δx`` AR(1) with ``rho``, ``drift`` added to
+                      ``Δx`` (in shock s.d.), a common shock with loadings in [0.5, 1.5] taking the
+                      share ``factor`` of the variance of ``y``'s and (another one) of ``x``'s shocks
+``granger``           stationary ``x_t = rho x_t-1 + v``, ``y_t = a_i + rho y_t-1 + effect x_t-1 + e``
+                      (``effect=0``: no Granger causality), common shocks with share ``factor``
+``slopes``            ``x`` AR(1) (``rho_x``) around unit means, ``y = a_i + b_i x + u``, ``u`` AR(1)
+                      (``rho``), ``b_i = 1 + spread η_i`` (``spread=0``: homogeneous slopes)
 """
 
 from __future__ import annotations
@@ -90,12 +97,48 @@ def _unit_root(rng: np.random.Generator, n: int, t: int, *, rho: float = 0.0, dr
             e = e + factor * rng.standard_normal((t, 1)) * rng.uniform(0.5, 1.5, n)
         out[name] = (drift + ar1(e, rho)).cumsum(axis=0)
     return out
+def _shocks(rng: np.random.Generator, t: int, n: int, factor: float) -> np.ndarray:
+    """Standard normal shocks ``(t, n)`` with a common component taking the share ``factor``."""
+    own = rng.standard_normal((t, n))
+    if factor <= 0:
+        return own
+    loadings = rng.uniform(0.5, 1.5, n)
+    common = rng.standard_normal(t)[:, None] * loadings / np.sqrt(np.mean(loadings ** 2))
+    return np.sqrt(1.0 - factor) * own + np.sqrt(factor) * common
+
+
+def _walks(rng: np.random.Generator, n: int, t: int, *, drift: float = 0.0, rho: float = 0.0,
+           factor: float = 0.0, burn: int = 20) -> dict[str, np.ndarray]:
+    dy = ar1(_shocks(rng, t + burn, n, factor), rho)[burn:]
+    dx = drift + ar1(_shocks(rng, t + burn, n, factor), rho)[burn:]
+    return {"y": dy.cumsum(axis=0), "x": dx.cumsum(axis=0)}
+
+
+def _granger(rng: np.random.Generator, n: int, t: int, *, rho: float = 0.5, effect: float = 0.0,
+             factor: float = 0.0, burn: int = 50) -> dict[str, np.ndarray]:
+    level = rng.standard_normal(n)
+    v = _shocks(rng, t + burn, n, factor)
+    e = _shocks(rng, t + burn, n, factor)
+    x = ar1(v, rho)
+    y = np.empty_like(x)
+    y[0] = e[0]
+    for s in range(1, t + burn):
+        y[s] = (1 - rho) * level + rho * y[s - 1] + effect * x[s - 1] + e[s]
+    return {"y": y[burn:], "x": x[burn:]}
+
+
+def _slopes(rng: np.random.Generator, n: int, t: int, *, rho: float = 0.5, rho_x: float = 0.5,
+            spread: float = 0.0) -> dict[str, np.ndarray]:
+    x = rng.standard_normal(n) + ar1(rng.standard_normal((t, n)), rho_x)
+    slope = 1.0 + spread * rng.standard_normal(n)
+    return {"y": rng.standard_normal(n) + slope * x + ar1(rng.standard_normal((t, n)), rho), "x": x}
 
 
 #: The named processes (see the module docstring).
 DGPS: dict[str, Callable[..., dict[str, np.ndarray]]] = {
     "random_walks": _random_walks, "ar": _ar, "common_factor": _common_factor,
     "cointegrated": _cointegrated, "trend_ar": _trend_ar, "unit_root": _unit_root,
+    "walks": _walks, "granger": _granger, "slopes": _slopes,
 }
 
 

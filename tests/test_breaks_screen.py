@@ -156,6 +156,7 @@ def test_cli_prints_the_per_unit_table(tmp_path, capsys):
     assert code == 0
     assert "Structural breaks in log(ghg_territorial/gdp)" in out
     assert "last year of the old regime" in out and "Aldwyr" in out
+    assert "residual AR(1)" in out and "calibrated" in out
     code = main(["breaks", str(csv), "--column", "ghg_territorial", "--per", "gdp", "--log",
                  "--max-breaks", "3", "--format", "json"])
     payload = json.loads(capsys.readouterr().out)
@@ -184,3 +185,31 @@ def test_common_break_result_follows_the_protocol(demo):
     json.dumps(res.to_dict(), allow_nan=False)
     assert list(res.to_frame().columns) == ["break_year", "lower", "upper"]
     assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]
+
+
+def test_partitions_unit_results_and_residual_autocorrelation(demo, demo_screen):
+    # The screen keeps every unit's optimal partition for each m (as find_breaks does) and builds
+    # a unit's full result only on request, equal to its row.
+    single = find_breaks(demo.series("Kestmoor", "log_intensity"), max_breaks=3)
+    for m in range(4):
+        assert demo_screen.partitions(m).loc["Kestmoor"] == single.partitions[m]
+    unit = demo_screen.unit("Kestmoor")
+    row = demo_screen.table.loc["Kestmoor"]
+    assert unit.break_years == row.break_years and tuple(unit.intervals["upper"]) == row.upper
+    assert_allclose(unit.details["resid_ar1"], row.ar1)
+    assert bool(unit.details["ar1_covered"]) == bool(row.ar1_covered)
+    assert demo_screen.table["ar1_covered"].dtype == bool
+    with pytest.raises(KeyError):
+        demo_screen.unit("Nowhere")
+
+
+def test_screen_of_many_units_is_one_table():
+    # arrays in, one tidy frame out: 2000 simulated units in one call, one row each
+    rng = np.random.default_rng(8)
+    y = rng.normal(size=(30, 2000)).cumsum(axis=0) * 0.1 + np.arange(30)[:, None] * 0.05
+    res = screen_breaks(ev.Panel.from_arrays({"y": y}, years=range(1994, 2024)), "y", reps=99)
+    assert len(res.table) == 2000 and res.table.index.is_unique
+    assert set(res.table.columns) >= {"n_breaks", "break_years", "lower", "upper", "pvalue",
+                                      "pvalue_adjusted", "ar1", "ar1_covered"}
+    flagged = res.table[res.table["n_breaks"] > 0]
+    assert all(len(b) == n for b, n in zip(flagged["break_years"], flagged["n_breaks"]))

@@ -23,7 +23,7 @@ def demo_csv(tmp_path_factory):
 
 def test_coint_report(demo_csv, capsys):
     code = main(["coint", str(demo_csv), "--dependent", "ghg_territorial", "--regressors", "gdp",
-                 "--log", "--estimator", "dols,fmols,pmg", "--causality"])
+                 "--log", "--estimator", "dols,fmols,pmg", "--causality", "--reps", "49"])
     assert code == 0
     text = capsys.readouterr().out
     for name in ("Pedroni (1999) group ADF", "Kao (1999) ADF", "Westerlund (2007) Pa",
@@ -34,7 +34,7 @@ def test_coint_report(demo_csv, capsys):
 
 def test_coint_json_and_bootstrap(demo_csv, capsys):
     code = main(["coint", str(demo_csv), "--dependent", "ghg_territorial", "--regressors", "gdp",
-                 "--log", "--tests", "westerlund", "--inference", "bootstrap", "--reps", "9",
+                 "--log", "--tests", "westerlund", "--inference", "bootstrap", "--reps", "19",
                  "--seed", "2", "--format", "json"])
     assert code == 0
     payload = json.loads(capsys.readouterr().out)

@@ -99,7 +99,8 @@ def _pedroni_loop(y, x, lags, band):
 
 def test_pedroni_equals_loop():
     y, x = simulate(np.random.default_rng(11), 6, 40, coint=False)
-    res = pedroni_test(to_panel(y, x), "y", "x1", trend="constant", lags=2, hac_lags=3)
+    res = pedroni_test(to_panel(y, x), "y", "x1", trend="constant", lags=2, hac_lags=3,
+                       inference="asymptotic")
     ref = _pedroni_loop(y, x, 2, 3)
     for name in PEDRONI_STATISTICS:
         assert_allclose(res[name].details["unstandardised"], ref[name], rtol=1e-8, err_msg=name)
@@ -110,7 +111,7 @@ def test_pedroni_equals_loop():
 
 def test_kao_equals_loop():
     y, x = simulate(np.random.default_rng(12), 5, 30, coint=False)
-    res = kao_test(to_panel(y, x), "y", "x1", lags=1, hac_lags=2)
+    res = kao_test(to_panel(y, x), "y", "x1", lags=1, hac_lags=2, inference="asymptotic")
     # within slope: statsmodels OLS with unit dummies
     dummies = np.kron(np.eye(5), np.ones((30, 1)))
     fe = sm.OLS(y.ravel(), np.column_stack([x.reshape(-1, 1), dummies])).fit()
@@ -133,7 +134,8 @@ def test_kao_equals_loop():
 
 def test_westerlund_equals_statsmodels_loop():
     y, x = simulate(np.random.default_rng(13), 5, 40, coint=True)
-    res = westerlund_test(to_panel(y, x), "y", "x1", trend="constant", lags=1, leads=1)
+    res = westerlund_test(to_panel(y, x), "y", "x1", trend="constant", lags=1, leads=1,
+                          inference="asymptotic")
     gt, ga, yy, ydy, ratio = [], [], 0.0, 0.0, []
     for i in range(5):
         dy, dx = np.diff(y[i]), np.diff(x[i, :, 0])
@@ -168,12 +170,15 @@ def test_westerlund_equals_statsmodels_loop():
 def test_results_shape_and_json():
     y, x = simulate(np.random.default_rng(14), 8, 40, coint=True)
     panel = to_panel(y, x)
-    ped = pedroni_test(panel, "y", ["x1"])
+    ped = pedroni_test(panel, "y", ["x1"], reps=19)
     assert len(ped) == 7 and ped.to_frame()["test"].iloc[0] == "Pedroni panel v"
     json.dumps(ped.to_dict())
     assert "group ADF" in ped.summary()
-    kao = kao_test(panel, "y", "x1")
+    assert ped["group ADF"].details["inference"] == "bootstrap"
+    kao = kao_test(panel, "y", "x1", reps=19)
     assert len(kao) == 5
+    # Kao's starred statistics (which allow endogenous regressors) come first
+    assert [r.details["statistic"] for r in kao] == ["DF* rho", "DF* t", "ADF", "DF rho", "DF t"]
     with pytest.raises(KeyError, match="not one of"):
         kao["nope"]
 
@@ -187,6 +192,10 @@ def test_westerlund_bootstrap_reproducible_and_backends_agree():
     assert a["Gt"].details["reps"] == 19 and a["Gt"].details["seed"] == 5
     assert all(0 < r.pvalue <= 1 for r in a)
     assert a["Pt"].pvalue == a["Pt"].details["bootstrap_pvalue"]
+    # p-value (1 + #{G* <= G})/(B + 1): a multiple of 1/20 with 19 replications
+    assert all(abs(r.pvalue * 20 - round(r.pvalue * 20)) < 1e-9 for r in a)
+    # the bootstrap critical values lie in the rejecting (left) tail, ordered
+    assert a["Gt"].critical_values[0.01] < a["Gt"].critical_values[0.05] < a["Gt"].critical_values[0.10]
 
 
 @pytest.mark.slow
@@ -203,8 +212,9 @@ def test_demo_panel_runs():
     import evidence as ev
     panel = ev.demo_panel().with_log("ghg_territorial").with_log("gdp")
     for func in (pedroni_test, kao_test, westerlund_test):
-        res = func(panel, "log_ghg_territorial", "log_gdp")
-        assert all(np.isfinite(r.statistic) for r in res)
+        res = func(panel, "log_ghg_territorial", "log_gdp", reps=19)
+        assert all(np.isfinite(r.statistic) and 0 < r.pvalue <= 1 for r in res)
+        assert "log_gdp" in res.details["drift"]
 
 
 # ------------------------------------------------------------------------- bad input
@@ -243,6 +253,6 @@ def test_leading_missing_years_are_listed():
     frame.loc[(frame["unit"] == "u00") & (frame["year"] < 1963), "x1"] = np.nan
     from evidence.panel import load_panel
     late = load_panel(frame, unit="unit", time="year")
-    res = pedroni_test(late, "y", "x1")
+    res = pedroni_test(late, "y", "x1", inference="asymptotic")
     assert res.details["years"] == "1963:1989"
     assert set(res.excluded["unit"]) == {"u00", "u01", "u02", "u03"}

@@ -39,9 +39,6 @@ def test_grunfeld_within_matches_published(grunfeld):
 
 @pytest.mark.parametrize(("cov", "config"), [
     ("heteroskedastic", {"cov_type": "robust"}),
-    ("unit-cluster", {"cov_type": "clustered", "cluster_entity": True, "group_debias": True}),
-    ("two-way-cluster", {"cov_type": "clustered", "cluster_entity": True, "cluster_time": True,
-                         "group_debias": True}),
     ("driscoll-kraay", {"cov_type": "kernel", "kernel": "bartlett", "bandwidth": 3}),
 ])
 @pytest.mark.parametrize("estimator", ["fe", "twfe"])
@@ -55,6 +52,65 @@ def test_covariances_equal_linearmodels(grunfeld, cov, config, estimator):
     assert_allclose(est.params.to_numpy(), ref.params.to_numpy(), rtol=1e-10)
     assert_allclose(est.std_errors.to_numpy(), ref.std_errors.to_numpy(), rtol=1e-10)
     assert_allclose(est.pvalues.to_numpy(), ref.pvalues.to_numpy(), rtol=1e-8, atol=1e-300)
+
+
+@pytest.mark.parametrize("cov", ["unit-cluster", "two-way-cluster"])
+@pytest.mark.parametrize("estimator", ["fe", "twfe"])
+def test_clustered_covariances_count_only_effects_not_nested(grunfeld, cov, estimator):
+    # Our rule (docs/methods/elasticity.md): factor G/(G-1) (n-1)/(n-k) per cluster dimension,
+    # k = slopes + effects not nested in the clusters (T - 1 = 19 year effects for two-way fixed
+    # effects clustered by unit; none otherwise), t with G - 1 df. linearmodels counts all
+    # N + T - 1 effects in two-way models and none in one-way ones (auto_df), so the reference is
+    # linearmodels without counting effects (its factor G/(G-1) (n-1)/(n-k)) rescaled by hand.
+    est = elasticity(grunfeld, "invest", "value", controls=["capital"], log=False,
+                     estimator=estimator, cov=cov)
+    frame = grunfeld.frame
+    config = {"cluster_entity": True, "cluster_time": cov == "two-way-cluster", "group_debias": True}
+    ref = PanelOLS(frame["invest"], frame[["value", "capital"]], entity_effects=True,
+                   time_effects=(estimator == "twfe")).fit(cov_type="clustered", debiased=True,
+                                                           auto_df=False, count_effects=False,
+                                                           **config)
+    n, k = 200, 2
+    counted = 19 if (estimator == "twfe" and cov == "unit-cluster") else 0
+    assert_allclose(est.std_errors.to_numpy(),
+                    ref.std_errors.to_numpy() * np.sqrt((n - k) / (n - k - counted)), rtol=1e-10)
+    assert est.df_resid == 9 and est.details["effects_counted"] == counted   # G = 10 firms
+    assert f"k = 2 slopes" in est.cov_type and "t with 9 df" in est.cov_type
+    if estimator == "fe" and cov == "unit-cluster":   # nested effects: linearmodels agrees
+        auto = PanelOLS(frame["invest"], frame[["value", "capital"]],
+                        entity_effects=True).fit(cov_type="clustered", debiased=True, **config)
+        assert_allclose(est.std_errors.to_numpy(), auto.std_errors.to_numpy(), rtol=1e-10)
+
+
+def test_two_way_clusters_by_hand():
+    # Two-way fixed effects on a balanced panel by double demeaning, then the Cameron, Gelbach &
+    # Miller (2011) two-way clustered covariance V_unit G1/(G1-1) + V_year G2/(G2-1) - V_obs
+    # n/(n-1), all times (n-1)/(n-k) with k = 1 slope (both sets of effects are nested in one of
+    # the cluster dimensions); and clustered by unit only, k = 1 + (T - 1) year effects.
+    frame = _tiny_panel()
+    panel = ev.load_panel(frame)
+    def dd(col):
+        v = frame[col]
+        return (v - frame.groupby("unit")[col].transform("mean")
+                - frame.groupby("year")[col].transform("mean") + v.mean()).to_numpy()
+    x, y = dd("x"), dd("y")
+    beta = (x @ y) / (x @ x)
+    e = y - x * beta
+    n, k = len(y), 1
+    score = pd.Series(x * e)
+    g_unit = score.groupby(frame.unit.to_numpy()).sum().to_numpy()
+    g_year = score.groupby(frame.year.to_numpy()).sum().to_numpy()
+    meat = (g_unit @ g_unit * 4 / 3 + g_year @ g_year * 8 / 7 - (x * e) @ (x * e) * n / (n - 1))
+    two_way = elasticity(panel, "y", "x", log=False, estimator="twfe", cov="two-way-cluster")
+    assert_allclose(two_way.params["x"], beta, rtol=1e-10)
+    assert_allclose(two_way.std_errors["x"] ** 2, meat / (x @ x) ** 2 * (n - 1) / (n - k),
+                    rtol=1e-8)
+    one_way = elasticity(panel, "y", "x", log=False, estimator="twfe", cov="unit-cluster")
+    expected = (g_unit @ g_unit) / (x @ x) ** 2 * 4 / 3 * (n - 1) / (n - k - 7)
+    assert_allclose(one_way.std_errors["x"] ** 2, expected, rtol=1e-8)
+    from scipy import stats
+    t = beta / one_way.std_errors["x"]
+    assert_allclose(one_way.pvalues["x"], 2 * stats.t.sf(abs(t), 3), rtol=1e-10)  # G - 1 = 3
 
 
 def _tiny_panel() -> pd.DataFrame:
@@ -90,6 +146,7 @@ def test_driscoll_kraay_and_cluster_by_hand():
     cl = elasticity(panel, "y", "x", log=False, cov="unit-cluster")
     expected = (g @ g) / (x @ x) ** 2 * 4 / 3 * (n - 1) / (n - k)
     assert_allclose(cl.std_errors["x"] ** 2, expected, rtol=1e-10)
+    assert cl.df_resid == 3  # t with G - 1 degrees of freedom (common practice)
 
 
 def test_mean_group_equals_average_of_unit_ols(grunfeld):

@@ -63,9 +63,9 @@ def test_each_axis_on_constructed_series():
     assert table.loc["sustained", "sufficiency"] == "sufficient"
     assert table.loc["relative", "rung"] == "relative"
     assert table.loc["coupled", "rung"] == "coupled"
-    rec = table.loc["recession_only"]
-    assert rec["pressure_trend"] < 0 and not rec["survives_recession"]
-    assert "recession" in rec["flags"]
+    rec = table.loc["recession_only"]  # its whole decline is made in recession years
+    assert rec["rung"] == "recession-driven" and rec["p_absolute_all_years_adj"] < 0.05
+    assert rec["p_absolute_adj"] > 0.05
     assert table.loc["sustained", "longest_run"] >= 10 and table.loc["sustained", "subwindow_share"] == 1.0
     assert all("short-window" not in f for f in table["flags"])
     json.dumps(res.to_dict(), allow_nan=False)
@@ -97,21 +97,27 @@ def test_short_window_flag_and_adjustment():
 def test_demo_truth_recovered_for_every_planted_class():
     panel, truth = ev.demo_panel(), ev.demo_truth()["regions"]  # planted by the generator
     full = grade(panel, ["ghg_territorial"], "gdp", latest_break=False).table.set_index("unit")
+    absolute = significant = offshoring = 0
     for unit, info in truth.items():
         if info["type"] == "relative":
             assert full.loc[unit, "rung"] == "relative", unit
         elif info["type"] == "coupled":
             assert full.loc[unit, "rung"] == "coupled", unit
         elif info["type"] == "absolute":
-            res = grade(panel.select([unit]), ["ghg_territorial"], "gdp",
-                        window=(info["break_year"] + 1, 2023))
-            assert res.table.iloc[0]["rung"] in ("absolute-significant", "absolute-sustained"), unit
+            # the decline after the planted break: 11-20 years of noisy data per region
+            row = grade(panel.select([unit]), ["ghg_territorial"], "gdp", latest_break=False,
+                        window=(info["break_year"] + 1, 2023)).table.iloc[0]
+            assert row["rung"].startswith("absolute"), unit
+            absolute += 1
+            significant += row["rung"] in ("absolute-significant", "absolute-sustained")
         else:  # offshoring: territorial falls, consumption keeps rising
-            res = grade(panel.select([unit]), ["ghg_territorial"], "gdp",
+            row = grade(panel.select([unit]), ["ghg_territorial"], "gdp", latest_break=False,
                         window=(info["offshoring_onset"] + 1, 2023),
-                        consumption={"ghg_territorial": "ghg_consumption"})
-            row = res.table.iloc[0]
+                        consumption={"ghg_territorial": "ghg_consumption"}).table.iloc[0]
             assert row["rung"].startswith("absolute") and "basis-gap" in row["flags"], unit
+            assert row["gap_lower"] < row["gap_trend"] < row["gap_upper"] < 0, unit
+            offshoring += row["rung"] != "absolute-tentative"
+    assert absolute == 9 and significant >= 7 and offshoring >= 3
 
 
 def test_latest_break_found_on_demo_decoupler():
@@ -119,6 +125,7 @@ def test_latest_break_found_on_demo_decoupler():
     res = grade(panel.select(["Aldwyr"]), ["ghg_territorial"], "gdp", window=(2000, 2023))
     planted = ev.demo_truth()["regions"]["Aldwyr"]["break_year"]
     assert abs(res.table.iloc[0]["latest_break"] - planted) <= 1
+    assert "reported only" in res.records[("Aldwyr", "ghg_territorial")]["break_status"]
 
 
 def test_bad_input():
@@ -137,7 +144,7 @@ def test_bootstrap_interval_equals_arch():
     units = {"sustained": _known_units()["sustained"]}
     panel = ev.load_panel(_frame(units))
     res = grade(panel, ["ghg"], "gdp", latest_break=False,
-                criteria=Criteria(interval="bootstrap", bootstrap_reps=199, seed=7))
+                criteria=Criteria(interval="bootstrap", reps=199, seed=7))
     row = res.table.iloc[0]
     log_p = np.log(panel.series("sustained", "ghg").to_numpy())
 
@@ -153,13 +160,46 @@ def test_bootstrap_interval_equals_arch():
     assert row["observed_change_lower"] < row["observed_change"] < row["observed_change_upper"]
 
 
-def test_string_pressure_and_exclusions_listed_in_table():
+def test_unit_graded_on_its_own_longest_span_and_the_rest_listed():
     frame = _frame(_known_units())
     frame.loc[(frame.unit == "coupled") & (frame.year == 2000), "ghg"] = np.nan
+    frame = frame[~((frame.unit == "relative") & (frame.year < 1996))]  # a later start
     res = grade(ev.load_panel(frame), "ghg", "gdp", latest_break=False)
-    assert set(res.table["unit"]) == {"sustained", "relative", "recession_only"}
-    assert "duration" in res.table and res.table.set_index("unit").loc["sustained", "duration"] == "sustained"
-    assert "Excluded: coupled / ghg, gdp 1991-2020 (unit excluded: no complete data in 2000" in grade_table(res)
+    table = res.table.set_index("unit")
+    assert set(table.index) == {"sustained", "relative", "recession_only", "coupled"}
+    assert table.loc["coupled", "span"] == "2001-2020" and table.loc["coupled", "years"] == 20
+    assert table.loc["relative", "span"] == "1996-2020"
+    assert table.loc["sustained", "span"] == "1991-2020"  # the window is not cut to a common span
+    assert "outside the longest complete span" in " ".join(res.excluded["reason"])
+    assert table.loc["sustained", "duration"] == "sustained"
+    assert "Excluded: coupled / ghg, gdp 1991-2000 (outside the longest complete span" in grade_table(res)
+
+
+def test_short_spans_are_excluded_not_filled():
+    frame = _frame(_known_units())
+    frame = frame[~((frame.unit == "coupled") & (frame.year < 2013))]  # 8 years left
+    res = grade(ev.load_panel(frame), "ghg", "gdp", latest_break=False)
+    assert "coupled" not in set(res.table["unit"])
+    assert "coupled" in set(res.excluded["unit"])
+
+
+def test_weak_growth_is_flagged_and_never_absolute():
+    rng = np.random.default_rng(5)
+    gdp = 100 * np.exp(np.cumsum(0.002 + 0.01 * rng.standard_normal(YEARS.size)))
+    ghg = 100 * np.exp(np.cumsum(np.full(YEARS.size, -0.01)) + rng.normal(0, 0.004, YEARS.size))
+    panel = ev.load_panel(_frame({"flat": (gdp, ghg), **_known_units()}))
+    row = grade(panel, "ghg", "gdp", latest_break=False).table.set_index("unit").loc["flat"]
+    assert row["p_growth"] > 0.05
+    assert "growth" in row["flags"] and row["rung"] not in ("absolute-significant",
+                                                          "absolute-sustained", "target-consistent")
+
+
+def test_every_column_names_its_test_and_size():
+    res = grade(ev.load_panel(_frame(_known_units())), "ghg", "gdp", latest_break=False)
+    assert "Perron & Yabu (2009)" in res.details["tests"]["direction"]
+    assert res.details["size"]["n_years"] == 30 and res.details["size"]["controlled"]
+    text = grade_table(res)
+    assert "Perron & Yabu (2009)" in text and "Monte Carlo size at T=30" in text
 
 
 def test_grade_result_protocol_and_tuple_records():

@@ -2,8 +2,10 @@
 
 from __future__ import annotations
 
+import os
 import re
 import sys
+import tempfile
 from collections.abc import Callable
 from pathlib import Path
 
@@ -52,11 +54,26 @@ def emit(text: str, output: Path | None) -> None:
     if output is None:
         click.echo(terminal_safe(text), nl=False)
         return
-    try:
-        output.write_text(text, encoding="utf-8")
+    try:  # written whole or not at all: a temporary file beside it, then renamed over it
+        handle, temporary = tempfile.mkstemp(dir=output.parent or Path("."),
+                                             prefix=f".{output.name[:40]}.", suffix=".tmp")
+        try:
+            with os.fdopen(handle, "w", encoding="utf-8") as stream:
+                stream.write(text)
+            os.chmod(temporary, 0o666 & ~_umask())  # the mode a plain write would give
+            os.replace(temporary, output)
+        except BaseException:
+            Path(temporary).unlink(missing_ok=True)
+            raise
     except OSError as exc:
-        raise DataError(f"cannot write '{output}': {exc.strerror}.") from None
+        raise DataError(f"cannot write '{output}': {exc.strerror or exc}.") from None
     click.echo(f"wrote {output}", err=True)
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) -> Panel:

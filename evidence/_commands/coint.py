@@ -8,9 +8,15 @@ from pathlib import Path
 
 import click
 
-import evidence as ev
 from evidence._commands._common import data_options, emit, format_options, load
 from evidence._typing import DEFAULT_SEED, TRENDS
+from evidence.cointegration import (
+    dumitrescu_hurlin_test,
+    kao_test,
+    long_run,
+    pedroni_test,
+    westerlund_test,
+)
 from evidence.errors import SpecError
 from evidence.panel import derived_name
 from evidence.results import Estimate, TestGroupResult, TestResult
@@ -59,9 +65,11 @@ def _lags(text: str) -> int | str:
               help="Lag order (integer) of every test and estimator, or 'aic' (tests choose by "
                    "AIC; DOLS and ARDL then use 1).")
 @click.option("--leads", type=int, default=1, show_default=True, help="Leads of the DOLS.")
-@click.option("--inference", type=click.Choice(["asymptotic", "bootstrap"], case_sensitive=False),
-              default=None, help="p-values of Westerlund and Dumitrescu-Hurlin: asymptotic or "
-                                 "bootstrap (default: each test's own).")
+@click.option("--inference", type=click.Choice(["bootstrap", "asymptotic"], case_sensitive=False),
+              default="bootstrap", show_default=True,
+              help="p-values of the panel tests: a bootstrap under H0 (calibrated at the panel "
+                   "sizes of the field) or the asymptotic approximations (fast, not calibrated; "
+                   "each result states its measured size).")
 @click.option("--reps", type=int, default=499, show_default=True,
               help="Bootstrap replications.")
 @click.option("--seed", type=int, default=DEFAULT_SEED, show_default=True,
@@ -86,20 +94,22 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     for name in _split(tests, _TESTS, "--tests"):
         group: TestGroupResult
         if name == "westerlund":
-            group = ev.westerlund_test(panel, dependent, xs, trend=trend, lags=lag,
-                                       inference=inference, reps=reps, seed=seed)
+            group = westerlund_test(panel, dependent, xs, trend=trend, lags=lag,
+                                    inference=inference, reps=reps, seed=seed)
         elif name == "kao":
-            group = ev.kao_test(panel, dependent, xs, lags=lag)
+            group = kao_test(panel, dependent, xs, lags=lag, inference=inference, reps=reps,
+                             seed=seed)
         else:
-            group = ev.pedroni_test(panel, dependent, xs,
-                                    trend="trend" if trend == "trend" else "constant", lags=lag)
+            group = pedroni_test(panel, dependent, xs,
+                                 trend="trend" if trend == "trend" else "constant", lags=lag,
+                                 inference=inference, reps=reps, seed=seed)
         results.extend(group.results)
     estimates: list[Estimate] = []
     order = lag if isinstance(lag, int) else 1
     for name in _split(estimator, _ESTIMATORS, "--estimator"):
-        est = ev.long_run(panel, dependent, xs, estimator=name, pooled=not group_mean,
-                          trend="constant" if name in ("mg", "pmg") else trend,
-                          lags=max(order, 1) if name in ("mg", "pmg") else order, leads=leads)
+        est = long_run(panel, dependent, xs, estimator=name, pooled=not group_mean,
+                       trend="constant" if name in ("mg", "pmg") else trend,
+                       lags=max(order, 1) if name in ("mg", "pmg") else order, leads=leads)
         estimates.append(est)
         if name == "pmg":
             results.append(TestResult(test="Hausman MG vs PMG", statistic=est.details["hausman_statistic"],
@@ -109,15 +119,15 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     if causality:
         gy, gx = derived_name("diff", dependent), derived_name("diff", xs[0])
         diffed = panel.with_difference(dependent, name=gy).with_difference(xs[0], name=gx)
-        dh = ev.dumitrescu_hurlin_test(diffed, gy, gx, lags=max(order, 1), inference=inference,
-                                       reps=reps, seed=seed)
+        dh = dumitrescu_hurlin_test(diffed, gy, gx, lags=max(order, 1), inference=inference,
+                                    reps=reps, seed=seed)
         results.append(replace(dh, test=f"Dumitrescu-Hurlin {xs[0]} -> {dependent}"))
     fmt = fmt.lower()
     parts = []
     if results:
         parts.append(test_table(results, fmt, title=f"Cointegration and causality: {dependent} on "
                                 f"{', '.join(xs)} (trend '{trend}')",
-                                notes=[_NOTE]))
+                                notes=[_NOTE], caution=not estimates))
     if estimates:
         parts.append(regression_table(estimates, fmt, title=f"Long-run coefficients of {dependent}"))
     if not parts:

@@ -8,10 +8,11 @@ from pathlib import Path
 
 import click
 
-import evidence as ev
 from evidence._commands._common import data_options, emit, format_options, load
+from evidence.elasticity import decoupling_tests, elasticity
+from evidence.elasticity import ekc as fit_ekc
 from evidence.elasticity.fixed_effects import COVARIANCES
-from evidence.tables import regression_table, render_frame, test_table
+from evidence.tables import ekc_table, regression_table, test_table
 
 __all__ = ["command"]
 
@@ -46,24 +47,21 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     estimates, tests = [], []
     for name in _split(estimator) or ["fe"]:
         pooled = name.strip().lower() in ("fe", "twfe")
-        est = ev.elasticity(panel, pressure, activity, controls=_split(controls), estimator=name,
-                            cov=cov if pooled else None, hac_lags=hac_lags if pooled else None,
-                            window=window)
+        est = elasticity(panel, pressure, activity, controls=_split(controls), estimator=name,
+                         cov=cov if pooled else None, hac_lags=hac_lags if pooled else None,
+                         window=window)
         estimates.append(est)
-        tests += [replace(test, test=f"({len(estimates)}) {test.test}")
-                  for test in ev.decoupling_tests(est)]
+        tests += [replace(test, test=f"{est.estimator}: {test.test}")
+                  for test in decoupling_tests(est)]
     fmt = fmt.lower()
     parts = [regression_table(estimates, fmt, title=f"Elasticity of {pressure} with respect to "
-                              f"{activity}"),
-             test_table(tests, fmt, title="One-sided decoupling tests on the elasticity")]
+                              f"{activity}", caution=False),
+             test_table(tests, fmt, title="One-sided decoupling tests on the elasticity",
+                        caution=not ekc)]
     if ekc:
-        curve = ev.ekc(panel, pressure, activity, population=population, cov=cov,
-                       hac_lags=hac_lags, window=window)
-        parts.append(regression_table([curve.estimate], fmt, title="Environmental Kuznets curve",
-                                      notes=[curve.warnings[0]]))
-        parts.append(render_frame(curve.turning_points, fmt, title="Turning point (log activity)",
-                                  index=False, digits=4))
-        parts.append(test_table([curve.u_test], fmt, title="U-shape test"))
+        curve = fit_ekc(panel, pressure, activity, population=population, cov=cov,
+                        hac_lags=hac_lags, window=window)
+        parts.append(ekc_table(curve, fmt, title="Environmental Kuznets curve"))
     if fmt == "json":
         emit(json.dumps({"tables": [json.loads(part) for part in parts]}, indent=2) + "\n", output)
     else:

@@ -35,16 +35,20 @@ def _pairs(text: str | None) -> dict[str, str]:
               help="Required annual decline, e.g. 0.05 (a normative choice).")
 @click.option("--adjust", type=click.Choice(["bh", "holm", "none"], case_sensitive=False),
               default="bh", show_default=True, help="Multiple-testing adjustment across units.")
+@click.option("--trend-test", type=click.Choice(list(ev.TREND_TESTS), case_sensitive=False),
+              default="perron-yabu", show_default=True,
+              help="Direction test (docs/methods/grading.md lists their measured sizes).")
 @click.option("--no-breaks", is_flag=True, help="Skip the break search (faster on large panels).")
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, pressure: str,
             activity: str, consumption: str | None, window: str | None,
-            required_rate: float | None, adjust: str, no_breaks: bool, fmt: str,
+            required_rate: float | None, adjust: str, trend_test: str, no_breaks: bool, fmt: str,
             output: Path | None) -> None:
     """Grade the evidence of decoupling: direction, duration, robustness, sufficiency."""
     panel = load(data, unit_col, time_col, layout)
     pressures = [p.strip() for p in pressure.split(",") if p.strip()]
-    criteria = ev.Criteria(required_rate=required_rate, adjust=adjust.lower())
+    criteria = ev.Criteria(required_rate=required_rate, adjust=adjust.lower(),
+                           trend_test=trend_test.lower())
     result = ev.grade(panel, pressures, activity, window=window, criteria=criteria,
                       consumption=_pairs(consumption), latest_break=not no_breaks)
     emit(grade_table(result, fmt.lower()), output)

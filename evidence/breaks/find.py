@@ -17,37 +17,60 @@ bai1997 : Bai, J. (1997). Estimation of a change point in multiple regression mo
     Economics and Statistics 79(4), 551–563.
 liuwuzidek1997 : Liu, J., Wu, S. & Zidek, J. V. (1997). On segmented multivariate regression.
     Statistica Sinica 7(2), 497–525.
+lehmannromano2005 : Lehmann, E. L. & Romano, J. P. (2005). Testing Statistical Hypotheses, 3rd ed.
+    Springer, chapter 4 (similar tests, Neyman structure).
 """
 
 from __future__ import annotations
 
-import math
 from typing import Any
 
 import numpy as np
 import pandas as pd
 
-from evidence._hac import long_run_cov, newey_west_lags
+from evidence._hac import newey_west_lags
+from evidence._size_card import size_note
 from evidence._validation import check_alpha, check_choice, check_int
+from evidence.breaks import _general
 from evidence.breaks import tests as bt
-from evidence.breaks._input import (SELECTIONS, check_breaks, check_model, check_trim,
-                                     regressor_matrix, series_input)
+from evidence.breaks._calibrate import COVERED, TABLE_REPS, TABLE_SEED, null_table
+from evidence.breaks._core import INFERENCES, SELECTIONS, Spec, describe
+from evidence.breaks._input import (check_breaks, check_model, check_trim, regressor_matrix,
+                                     series_input)
 from evidence.breaks._simulate import NULL_GRID, NULL_REPS, NULL_SEED, null_draws
-from evidence.breaks.dates import break_interval
 from evidence.breaks.result import CONVENTION, BreakResult
-from evidence.breaks.segment import (optimal_partitions, regime_design, segment_bounds,
-                                     ssr_table_general, ssr_tables)
+from evidence.breaks.segment import regime_design
 from evidence.errors import SpecError
 from evidence.parallel import ExecutorLike
 from evidence.results import TestResult
 
-__all__ = ["find_breaks", "information_criteria", "regime_fit", "SHORT_TREND_WARNING"]
+__all__ = ["find_breaks", "information_criteria", "regime_fit", "SHORT_TREND_WARNING",
+           "ASYMPTOTIC_WARNING",
+           "ROBUST_SIZE", "make_spec", "size_test_name"]
 
-#: Finite-sample caution for the trend model (our Monte Carlo, i.i.d. normal errors, trim 0.15).
+regime_fit = _general.regime_fit
+
+#: Finite-sample caution for the asymptotic p-values of the trend model (our Monte Carlo).
 SHORT_TREND_WARNING = (
-    "T={nobs} is short for the trend model: with i.i.d. normal errors and trim 0.15 the asymptotic "
-    "supF p-values reject a true no-break null about 6 % of the time for k=1 and up to about 11 % "
-    "for k=3-5 at T=34 (nominal 5 %); treat p-values near 0.05 with care.")
+    "T={nobs} is short for the asymptotic p-values of the trend model: with i.i.d. normal errors "
+    "and trim 0.15 they reject a true no-break null about 6 % of the time for k=1 and up to about "
+    "11 % for k=3-5 at T=34, and with AR(1) errors rho=0.5 UDmax rejects in about 67 % (nominal "
+    "5 %); inference='simulated' holds its size.")
+
+#: Caution for the limiting-distribution p-values under serial correlation (our Monte Carlo).
+ASYMPTOTIC_WARNING = (
+    "asymptotic p-values assume serially uncorrelated errors: with AR(1) noise rho=0.5 the "
+    "trend model's UDmax rejected a true no-break null in 67-74 % of series at T=34-60 (5 % "
+    "nominal, docs/methods/size.md); inference='simulated' holds its size.")
+
+#: Rejection rates of a true no-break null at 5 % nominal by the HAC (``robust``) and
+#: regime-variance tests, UDmax with max_breaks=3: (smallest, largest) over i.i.d. and AR(1)
+#: rho=0.5 errors, pooled and regime variances; 200 replications each (our Monte Carlo, seed 11).
+ROBUST_SIZE = {"level": {34: (0.56, 0.87), 60: (0.38, 0.56), 100: (0.28, 0.37),
+                         200: (0.11, 0.19), 400: (0.07, 0.11)},
+               "trend": {34: (0.98, 1.0), 60: (0.87, 0.98), 100: (0.81, 0.94), 200: (0.52, 0.57)}}
+#: Smallest T at which the robust variants are allowed (below, they are refused).
+ROBUST_MIN_T = {"level": 200, "trend": 10**9}
 
 
 def information_criteria(ssr: np.ndarray, nobs: int, q: int, p: int) -> tuple[np.ndarray, np.ndarray]:
@@ -64,68 +87,59 @@ def information_criteria(ssr: np.ndarray, nobs: int, q: int, p: int) -> tuple[np
     return bic, lwz
 
 
-def regime_fit(y: np.ndarray, z: np.ndarray, x: np.ndarray | None, breaks: list[int], *,
-               robust: bool, regime_variances: bool, hac_lags: int) -> dict[str, Any]:
-    """OLS at a partition: coefficients, covariance (T / (T - K) corrected), residuals, fitted."""
-    _, coef, cov = bt.wald_equal_regimes(y, z, x, breaks, robust=robust,
-                                         regime_variances=regime_variances, hac_lags=hac_lags, pairs=[])
-    nobs, q = z.shape
-    p = 0 if x is None else x.shape[1]
-    bounds = segment_bounds(np.asarray(breaks), nobs)
-    fitted = np.zeros(nobs) if x is None else x @ coef[:p]
-    for r, (start, end) in enumerate(bounds):
-        fitted[start:end + 1] += z[start:end + 1] @ coef[p + r * q:p + (r + 1) * q]
-    dof = nobs - coef.size
-    return {"coef": coef, "cov": cov * nobs / dof, "fitted": fitted, "resid": y - fitted,
-            "bounds": bounds, "p": p}
+def size_test_name(inference: str) -> str:
+    """The size card's name of the UDmax test with this inference."""
+    return f"Bai-Perron UDmax ({inference})"
 
 
-def _partitions(y: np.ndarray, z: np.ndarray, x: np.ndarray | None, model: str, builtin: bool,
-                h: int, max_breaks: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Best SSR and breaks for m = 0..M, and the SSR table (of ``y - x beta`` with fixed regressors)."""
-    if x is None:
-        table = ssr_tables(y[None], model, h)[0] if builtin else ssr_table_general(y, z, h)
-        ssr, breaks = optimal_partitions(table[None], max_breaks, h)
-        return ssr[0], breaks[0], table
-    full = np.column_stack([x, z])
-    coef0, *_ = np.linalg.lstsq(full, y, rcond=None)
-    ssr = np.full(max_breaks + 1, np.inf)
-    ssr[0] = float(np.sum((y - full @ coef0) ** 2))
-    breaks = np.full((max_breaks + 1, max_breaks), -1, dtype=np.int64)
-    beta0 = coef0[:x.shape[1]]
-    table = ssr_table_general(y - x @ beta0, z, h)
-    for m in range(1, max_breaks + 1):
-        beta, best, cut = beta0, np.inf, None
-        for _ in range(100):
-            tab = ssr_table_general(y - x @ beta, z, h)
-            _, br = optimal_partitions(tab[None], m, h)
-            trial = [int(b) for b in br[0, m, :m]]
-            fit = regime_fit(y, z, x, trial, robust=False, regime_variances=False, hac_lags=0)
-            value = float(fit["resid"] @ fit["resid"])
-            if np.isfinite(best) and value >= best - 1e-12 * max(best, 1.0):
-                break  # the SSR stopped falling
-            best, cut, beta = value, trial, fit["coef"][:x.shape[1]]
-        ssr[m] = best
-        breaks[m, :m] = cut
-    return ssr, breaks, table
+def _size_options(model: str, trim: float, max_breaks: int) -> str:
+    return f"model={model}, trim={trim:g}, max_breaks={max_breaks}"
 
 
-def _test(name: str, statistic: float, draws: np.ndarray | None, cv: dict[float, float] | None,
-          nobs: int, details: dict[str, Any], *, null: str, alternative: str, pvalue: float | None = None) -> TestResult:
-    if cv is None and draws is not None:
-        cv = bt.simulated_critical_values(draws)
-        details = {**details, "critical_values_source": "simulated limiting distribution"}
-    if pvalue is None:
-        pvalue = bt.tail_pvalue(statistic, draws) if draws is not None else math.nan
-    return TestResult(test=name, statistic=statistic, pvalue=pvalue, critical_values=cv or {},
-                      null=null, alternative=alternative, nobs=nobs, details=details,
-                      reference="baiperron1998; baiperron2003")
+def size_details(inference: str, model: str, trim: float, max_breaks: int, nobs: int) -> dict[str, Any]:
+    """The size card's note for this configuration (or why there is none)."""
+    note = size_note(size_test_name(inference), None, nobs,
+                     options=_size_options(model, trim, max_breaks))
+    return note or {"note": f"no size-card entry for {_size_options(model, trim, max_breaks)} "
+                            f"with inference={inference}; see docs/methods/size.md"}
 
 
-def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: float = 0.15,
-                select: str = "bic", alpha: float = 0.05, regressors: Any = None, fixed: Any = None,
-                robust: bool = False, regime_variances: bool = False, hac_lags: int | None = None,
-                years: Any = None, executor: ExecutorLike = "serial") -> BreakResult:
+def make_spec(model: str, nobs: int, h: int, max_breaks: int, trim: float, select: str,
+              alpha: float, inference: str, executor: ExecutorLike) -> Spec:
+    """The shared settings of :func:`evidence.breaks._core.describe` for series of length ``nobs``."""
+    q = 1 if model == "level" else 2
+    design = "trend" if model == "trend" else "level"
+    draws = null_draws(q, trim, design=design, executor=executor)
+    kk = min(max_breaks, draws.shape[1])
+    weights = bt.wdmax_weights(q, trim, draws, kk, use_table=design == "level")
+    weights = np.concatenate([weights, np.full(max_breaks - kk, weights[-1])])
+    table = (null_table(model, nobs, h, max_breaks, weights, executor=executor)
+             if inference == "simulated" else None)
+    return Spec(model=model, nobs=nobs, h=h, max_breaks=max_breaks, select=select, alpha=alpha,
+                inference=inference, weights=weights, draws=draws, table=table)
+
+
+def _check_robust(model: str, nobs: int) -> list[str]:
+    """Refuse the robust variants where they do not hold their size; otherwise warn with the figure."""
+    measured = ROBUST_SIZE[model]
+    figures = "; ".join(f"T={t}: {lo:.0%}-{hi:.0%}" for t, (lo, hi) in measured.items())
+    if nobs < ROBUST_MIN_T[model]:
+        raise SpecError(f"robust=True / regime_variances=True are refused for model='{model}' at "
+                        f"T={nobs}: their HAC and regime variances collapse in short regimes and "
+                        f"they reject a true no-break null far too often (our Monte Carlo at 5 % "
+                        f"nominal, i.i.d. and AR(1) errors: {figures}). Use the default "
+                        "inference='simulated', which holds its size under AR(1) errors.")
+    near = min(measured, key=lambda t: abs(np.log(t / nobs)))
+    lo, hi = measured[near]
+    return [f"the HAC / regime-variance tests are liberal: at T={near} they rejected a true "
+            f"no-break null in {lo:.0%}-{hi:.0%} of series at 5 % nominal (our Monte Carlo)."]
+
+
+def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 3, trim: float = 0.20,
+                select: str = "udmax-lwz", alpha: float = 0.05, inference: str = "simulated",
+                regressors: Any = None, fixed: Any = None, robust: bool = False,
+                regime_variances: bool = False, hac_lags: int | None = None, years: Any = None,
+                executor: ExecutorLike = "serial") -> BreakResult:
     """Find multiple structural breaks in one series (Bai–Perron global least squares).
 
     Parameters
@@ -139,19 +153,27 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
         Largest number of breaks searched (at most ``T // floor(trim T) - 1``).
     trim : float
         Minimum regime length as a fraction of T.
-    select : {"bic", "lwz", "sequential"}
-        How the number of breaks is chosen (sequential: supF(l+1|l) at level ``alpha``).
+    select : {"udmax-lwz", "sequential", "bic", "lwz"}
+        How the number of breaks is chosen. ``"udmax-lwz"``: no break unless UDmax rejects at
+        ``alpha``, then LWZ on the AR(1) innovation variance; ``"sequential"``: UDmax, then
+        supF(l+1|l) at ``alpha``; ``"bic"``, ``"lwz"``: the criteria on the SSR.
     alpha : float
-        Level of the sequential procedure and of the break-date intervals (``1 - alpha``).
+        Level of the tests used by the selection and of the break-date intervals (``1 - alpha``).
+    inference : {"simulated", "asymptotic"}
+        ``"simulated"``: p-values from the finite-sample null at this T with AR(1) noise,
+        conditional on the residual autocorrelation (holds its size for AR(1) coefficients up
+        to 0.8); intervals and standard errors use the long-run variance of that
+        autocorrelation. ``"asymptotic"``: the limiting distributions and i.i.d. errors (the
+        classical procedure; the result states its measured size). User ``regressors``,
+        ``fixed`` regressors and the robust variants always use ``"asymptotic"``.
     regressors, fixed : DataFrame or 2-D array, optional
         Extra regressors whose coefficients change across regimes (``model="level"`` only; they
         should be stationary for the published critical values to apply), and regressors whose
         coefficients stay fixed (partial structural change), aligned with ``y``.
-    robust : bool
-        Tests and intervals with a Newey–West (Bartlett) long-run variance (``hac_lags`` lags,
-        default ``floor(4 (T/100)^(2/9))``).
-    regime_variances : bool
-        Tests allow a different error variance (or long-run variance) in each regime.
+    robust, regime_variances : bool
+        HAC (Newey–West, ``hac_lags`` lags, default ``floor(4 (T/100)^(2/9))``) and regime-wise
+        variances in the tests. Refused where our Monte Carlo shows they do not hold their size
+        (``ROBUST_SIZE``: the level model below T = 200, the trend model at every T measured).
     years : sequence of int, optional
         Years of an array ``y`` (default 1..T).
     executor : str, executor or dask Client
@@ -166,10 +188,9 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
     Notes
     -----
     H0: no break; H1: k breaks (supF(k)), 1..max_breaks breaks (UDmax, WDmax), l+1 vs l breaks
-    (sequential). See ``evidence.breaks.tests`` for the statistics, ``evidence.breaks.dates`` for
-    the intervals. Critical values come from the Bai & Perron tables where published (q <= 3,
-    trim 0.05/0.10/0.15), otherwise from the simulated limiting distribution; p-values always
-    from the simulated limiting distribution. A break year is the last year of the old regime.
+    (sequential). See ``evidence.breaks.tests`` for the statistics, ``evidence.breaks._calibrate``
+    for the simulated p-values, ``evidence.breaks.dates`` for the intervals. A break year is the
+    last year of the old regime.
 
     Examples
     --------
@@ -180,6 +201,7 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
     """
     model = check_model(model)
     select = check_choice("select", select, SELECTIONS)
+    inference = check_choice("inference", inference, INFERENCES)
     trim = check_trim(trim)
     alpha = check_alpha(alpha)
     if alpha >= 0.5:
@@ -201,131 +223,192 @@ def find_breaks(y: Any, *, model: str = "trend", max_breaks: int = 5, trim: floa
         z_names += extra_names
     q, p = z.shape[1], 0 if x is None else x.shape[1]
     h = check_breaks(label, nobs, q, p, trim, max_breaks, int(index[0]), int(index[-1]))
-    lags = newey_west_lags(nobs) if hac_lags is None else hac_lags
-    ssr, breaks, table = _partitions(values, z, x, model, extra is None, h, max_breaks)
-    opts = {"robust": robust, "regime_variances": regime_variances, "hac_lags": lags}
-
-    homoskedastic = bt.supf_homoskedastic(ssr, nobs, q, p)
-
-    def stat(cut: list[int], pairs: list[int] | None, k: int) -> float:
-        if not robust and not regime_variances and pairs is None:
-            return float(homoskedastic[k - 1])
-        wald, _, _ = bt.wald_equal_regimes(values, z, x, cut, pairs=pairs, **opts)
-        regimes = len(cut) + 1
-        return wald * (nobs - regimes * q - p) / (nobs * (1 if pairs is not None else k))
-
-    design = "trend" if model == "trend" else "level"
-    tabled = design == "level"  # the published tables assume regressors with stable moments
-    draws = null_draws(q, trim, design=design, executor=executor)
-    k_avail = draws.shape[1]
-    base = {"model": model, "trim": trim, "q": q, "p": p, "robust": robust,
-            "regime_variances": regime_variances, "hac_lags": lags if robust else None}
-    tests: dict[str, TestResult] = {}
-    supf = np.full(max_breaks, np.nan)
     warnings: list[str] = []
-    if design == "trend" and nobs < 60:
+    if robust or regime_variances:
+        warnings += _check_robust(model, nobs)
+    lags = newey_west_lags(nobs) if hac_lags is None else hac_lags
+    builtin = extra is None and x is None and not robust and not regime_variances
+    if not builtin and inference == "simulated":
+        inference = "asymptotic"
+        warnings.append("p-values are from the limiting distributions (i.i.d. errors): the "
+                        "finite-sample tables cover the built-in models without extra, fixed or "
+                        "robust terms; they are not calibrated for serial correlation.")
+    base = {"model": model, "trim": trim, "q": q, "p": p, "robust": robust,
+            "regime_variances": regime_variances, "hac_lags": lags if robust else None,
+            "inference": inference}
+    spec = make_spec(model, nobs, h, max_breaks, trim, select, alpha, inference, executor)
+    if builtin:
+        parts = _builtin(values, index, z, z_names, spec, base)
+    else:
+        parts = _classical(values, index, z, z_names, x, x_names, spec, base, trim, robust,
+                           regime_variances, lags)
+    if inference == "asymptotic" and model == "trend" and nobs < 60:
         warnings.append(SHORT_TREND_WARNING.format(nobs=nobs))
-    if robust and nobs < 200:
-        warnings.append(f"T={nobs}: the HAC-robust tests are liberal in samples of this size (our Monte "
-                        "Carlo, level model, AR(1) errors rho=0.3: about 15 % rejections at 5 % "
-                        "nominal for T=100, 8-9 % for T=200-400).")
-    for k in range(1, max_breaks + 1):
-        supf[k - 1] = stat([int(b) for b in breaks[k, :k]], None, k)
-        cv = bt.table_critical_values("supf", q, trim, k) if tabled else None
-        kd = draws[:, k - 1] if k <= k_avail else None
-        if kd is None:
-            warnings.append(f"supF({k}): no simulated distribution for {k} breaks at trim={trim}.")
-        tests[f"supF({k})"] = _test(f"supF({k})", supf[k - 1], kd, cv, nobs,
-                                    {**base, "breaks": k}, null="no break",
-                                    alternative=f"{k} breaks")
-    kk = min(max_breaks, k_avail)
-    weights = bt.wdmax_weights(q, trim, draws, kk, use_table=tabled)
-    ud_draws, wd_draws = draws[:, :kk].max(axis=1), (draws[:, :kk] * weights).max(axis=1)
-    tests["UDmax"] = _test("UDmax", float(np.nanmax(supf[:kk])), ud_draws,
-                           bt.table_critical_values("udmax", q, trim, kk) if kk == 5 and tabled else None,
-                           nobs, {**base, "max_breaks": kk}, null="no break",
-                           alternative=f"1 to {kk} breaks")
-    tests["WDmax"] = _test("WDmax", float(np.nanmax(supf[:kk] * weights)), wd_draws,
-                           bt.table_critical_values("wdmax", q, trim, kk) if kk == 5 and tabled else None,
-                           nobs, {**base, "max_breaks": kk, "weights": "5% critical values"},
-                           null="no break", alternative=f"1 to {kk} breaks")
-    one = draws[:, 0]
-    seq_p = []
-    for ell in range(max_breaks):
-        cut = [int(b) for b in breaks[ell, :ell]]
-        splits = bt.split_segments(table, cut, nobs, h)
-        best = 0.0
-        for r, (tau, _, _) in enumerate(splits):
-            if tau < 0:
-                continue
-            best = max(best, stat(sorted(cut + [tau]), [r], ell + 1))
-        cv = bt.table_critical_values("sequential", q, trim, ell + 1) if tabled else None
-        pval = 1.0 - float(np.mean(one < best)) ** (ell + 1)
-        if cv is None:
-            cv = {lv: float(np.quantile(one, (1 - lv) ** (1 / (ell + 1)))) for lv in bt.LEVELS}
-        seq_p.append(pval)
-        tests[f"supF({ell + 1}|{ell})"] = _test(f"supF({ell + 1}|{ell})", best, None, cv, nobs,
-                                               {**base, "breaks_under_null": ell},
-                                               null=f"{ell} breaks", alternative=f"{ell + 1} breaks",
-                                               pvalue=pval)
+    elif inference == "asymptotic" and builtin:
+        warnings.append(ASYMPTOTIC_WARNING)
+    warnings += parts.pop("warnings")
+    details = {**base, "h": h, "select": select, "alpha": alpha, "convention": CONVENTION,
+               "years": f"{index[0]}-{index[-1]}", **parts.pop("sources"),
+               "size": size_details(inference, model, trim, max_breaks, nobs)}
+    details.update(parts.pop("details"))
+    return BreakResult(
+        series=label, model=model + (" + regressors" if extra is not None else ""),
+        data=pd.Series(values, index=pd.Index(index, name="year"), name=label),
+        nobs=nobs, trim=trim, max_breaks=max_breaks, select=select, alpha=alpha, details=details,
+        warnings=tuple(warnings), **parts)
+
+
+def _sources(spec: Spec) -> dict[str, str]:
+    if spec.inference == "simulated":
+        return {"critical_values_source": "simulated finite-sample null at this T, conditional "
+                                          "on the residual autocorrelation",
+                "pvalue_source": f"simulated finite-sample null at T={spec.nobs} with AR(1) noise, "
+                                 f"rho in [0, {COVERED}], conditional on the no-break residual "
+                                 f"autocorrelation ({TABLE_REPS} replications per rho, seed "
+                                 f"{TABLE_SEED})"}
+    tabled = spec.model == "level"
+    return {"critical_values_source": ("Bai & Perron (1998, 2003) tables where published "
+                                       "(q<=3, trim 0.05/0.10/0.15), else simulated") if tabled
+            else "simulated limiting distribution of the trend model (the published tables "
+                 "assume regressors with stable moments and do not apply to a trend)",
+            "pvalue_source": f"simulated limiting distribution, {spec.model} design ({NULL_REPS} "
+                             f"replications, grid {NULL_GRID} with two-grid extrapolation, "
+                             f"seed {NULL_SEED})"}
+
+
+def _builtin(values: np.ndarray, index: np.ndarray, z: np.ndarray, z_names: list[str], spec: Spec,
+             base: dict[str, Any]) -> dict[str, Any]:
+    """The built-in models through the shared vectorised procedure."""
+    core = describe(values[None], spec, sequential=True)
+    K = spec.max_breaks
+    r = core["r"][0]
+    tests = _tests(core, spec, base)
+    chosen = int(core["n_breaks"][0])
+    cut = [int(b) for b in core["breaks"][0, chosen, :chosen]]
+    long_run = float(core["long_run"][0])
+    fit = regime_fit(values, z, None, cut, robust=False, regime_variances=False, hac_lags=0)
+    fit["cov"] = fit["cov"] * long_run
+    _, regimes = _general.describe_partition(values, z, None, cut, fit, index, z_names, False, 0,
+                                             spec.alpha)
+    intervals = pd.DataFrame({"break_year": index[core["index"]].astype(int),
+                              "lower": index[core["lower"]].astype(int),
+                              "upper": index[core["upper"]].astype(int)},
+                             columns=["break_year", "lower", "upper"])
+    warnings = []
+    ar1 = float(core["ar1"][0])
+    covered = bool(core["covered"][0])
+    if spec.inference == "simulated" and not covered:
+        warnings.append(f"the residual AR(1) coefficient of the selected fit is about {ar1:.2f} "
+                        f"(bias-adjusted), above {COVERED}, the largest value for which the "
+                        "p-values are calibrated: the tests may over-reject (about 12 % at 5 % "
+                        "nominal for rho = 0.9, T = 34, our Monte Carlo).")
+    ssr = core["ssr"][0]
+    bic, lwz = core["bic"][0], core["lwz"][0]
+    m_index = pd.RangeIndex(K + 1, name="m")
+    return {"n_breaks": chosen, "break_years": tuple(int(index[b]) for b in cut),
+            "intervals": intervals, "regimes": regimes,
+            "fixed_params": pd.DataFrame({"estimate": [], "std_error": []},
+                                         index=pd.Index([], name="term")),
+            "ssr": pd.Series(ssr, index=m_index, name="ssr"),
+            "partitions": {m: tuple(int(index[b]) for b in core["breaks"][0, m, :m])
+                           for m in range(K + 1)},
+            "criteria": pd.DataFrame({"bic": bic, "lwz": lwz, "lwz_ar": core["lwz_ar"][0],
+                                      "resid_ar1": r}, index=m_index),
+            "tests": tests,
+            "fitted": pd.Series(fit["fitted"], index=pd.Index(index, name="year"), name="fitted"),
+            "warnings": warnings, "sources": _sources(spec),
+            "details": {"resid_ar1": ar1, "ar1_covered": covered, "long_run_factor": long_run,
+                        "table_seed": TABLE_SEED if spec.inference == "simulated" else None}}
+
+
+def _tests(core: dict[str, Any], spec: Spec, base: dict[str, Any]) -> dict[str, TestResult]:
+    K, nobs = spec.max_breaks, spec.nobs
+    r = core["r"][0]
+    tabled = spec.model == "level"
+    trim = base["trim"]
+
+    def cvs(name: str, r_cond: float, fallback: dict[float, float] | None) -> dict[float, float]:
+        if spec.inference == "simulated" and name in spec.table.stats:
+            return spec.table.critical_values(name, r_cond)
+        return fallback or {}
+
+    extra = ({"conditioning_ar1": float(r[0])} if spec.inference == "simulated" else {})
+    tests: dict[str, TestResult] = {}
+    for k in range(1, K + 1):
+        fallback = (bt.table_critical_values("supf", spec.q, trim, k) if tabled else None) or (
+            bt.simulated_critical_values(spec.draws[:, k - 1]) if k <= spec.draws.shape[1] else None)
+        tests[f"supF({k})"] = _general.make_test(
+            f"supF({k})", float(core["supf"][0, k - 1]), float(core["p_supf"][0, k - 1]),
+            cvs(f"supF({k})", r[0], fallback), nobs, {**base, "breaks": k, **extra},
+            null="no break", alternative=f"{k} breaks")
+    kk = min(K, spec.draws.shape[1])
+    for name, key in (("UDmax", "udmax"), ("WDmax", "wdmax")):
+        dist = spec.draws[:, :kk].max(axis=1) if key == "udmax" else (
+            spec.draws[:, :kk] * spec.weights[:kk]).max(axis=1)
+        fallback = (bt.table_critical_values(key, spec.q, trim, kk) if kk == 5 and tabled else None
+                    ) or bt.simulated_critical_values(dist)
+        tests[name] = _general.make_test(
+            name, float(core[key][0]), float(core[f"p_{key}"][0]), cvs(name, r[0], fallback), nobs,
+            {**base, "max_breaks": K, **extra}, null="no break", alternative=f"1 to {K} breaks")
+    one = spec.draws[:, 0]
+    for ell in range(K):
+        name = f"supF({ell + 1}|{ell})"
+        stat = float(core["sequential"][0, ell])
+        fallback = (bt.table_critical_values("sequential", spec.q, trim, ell + 1) if tabled else None
+                    ) or {lv: float(np.quantile(one, (1 - lv) ** (1 / (ell + 1)))) for lv in bt.LEVELS}
+        detail = {**base, "breaks_under_null": ell}
+        if spec.inference == "simulated":
+            detail["conditioning_ar1"] = float(r[ell])
+        tests[name] = _general.make_test(
+            name, stat, float(core["p_sequential"][0, ell]) if np.isfinite(stat) else float("nan"),
+            cvs(name, r[ell], fallback), nobs, detail, null=f"{ell} breaks",
+            alternative=f"{ell + 1} breaks")
+    return tests
+
+
+def _classical(values: np.ndarray, index: np.ndarray, z: np.ndarray, z_names: list[str],
+               x: np.ndarray | None, x_names: list[str], spec: Spec, base: dict[str, Any],
+               trim: float, robust: bool, regime_variances: bool, lags: int) -> dict[str, Any]:
+    """User regressors, fixed regressors and the robust variants (limiting distributions)."""
+    nobs, K, h = spec.nobs, spec.max_breaks, spec.h
+    q = z.shape[1]
+    p = 0 if x is None else x.shape[1]
+    builtin_design = z.shape[1] == (1 if spec.model == "level" else 2)
+    ssr, breaks, table = _general.partitions(values, z, x, spec.model, builtin_design, h, K)
+    opts = {"robust": robust, "regime_variances": regime_variances, "hac_lags": lags}
+    design = "trend" if spec.model == "trend" else "level"
+    draws = null_draws(q, trim, design=design)
+    tests, seq_p, warnings = _general.classical_tests(
+        values, z, x, ssr, breaks, table, h=h, trim=trim, tabled=design == "level", draws=draws,
+        opts=opts, base=base)
     bic, lwz = information_criteria(ssr, nobs, q, p)
-    if select == "bic":
+    innovation = _general.innovation_by_m(values, z, x, breaks)
+    from evidence.breaks._batch import lwz_ar
+
+    lwz_innov = lwz_ar(innovation, nobs, q, p)
+    if spec.select == "bic":
         chosen = int(np.nanargmin(bic))
-    elif select == "lwz":
+    elif spec.select == "lwz":
         chosen = int(np.nanargmin(lwz))
+    elif spec.select == "udmax-lwz":
+        chosen = 1 + int(np.nanargmin(lwz_innov[1:])) if tests["UDmax"].pvalue < spec.alpha else 0
     else:
         chosen = 0
-        while chosen < max_breaks and seq_p[chosen] < alpha:
+        while chosen < K and seq_p[chosen] < spec.alpha:
             chosen += 1
     cut = [int(b) for b in breaks[chosen, :chosen]]
     fit = regime_fit(values, z, x, cut, **opts)
-    intervals, regimes = _describe(values, z, x, cut, fit, index, z_names, robust, lags, alpha)
-    fixed_frame = pd.DataFrame({"estimate": fit["coef"][:p], "std_error": np.sqrt(np.diag(fit["cov"]))[:p]},
+    intervals, regimes = _general.describe_partition(values, z, x, cut, fit, index, z_names,
+                                                     robust, lags, spec.alpha)
+    fixed_frame = pd.DataFrame({"estimate": fit["coef"][:p],
+                                "std_error": np.sqrt(np.diag(fit["cov"]))[:p]},
                                index=pd.Index(x_names, name="term"))
-    details = {**base, "h": h, "select": select, "alpha": alpha, "convention": CONVENTION,
-               "years": f"{index[0]}-{index[-1]}",
-               "critical_values_source": ("Bai & Perron (1998, 2003) tables where published "
-                                          "(q<=3, trim 0.05/0.10/0.15), else simulated") if tabled
-               else "simulated limiting distribution of the trend model (the published tables "
-                    "assume regressors with stable moments and do not apply to a trend)",
-               "pvalue_source": f"simulated limiting distribution, {design} design ({NULL_REPS} "
-                                f"replications, grid {NULL_GRID} with two-grid extrapolation, "
-                                f"seed {NULL_SEED})"}
-    return BreakResult(
-        series=label, model=model + (" + regressors" if extra is not None else ""), n_breaks=chosen,
-        break_years=tuple(int(index[b]) for b in cut), intervals=intervals, regimes=regimes,
-        fixed_params=fixed_frame, ssr=pd.Series(ssr, index=pd.RangeIndex(max_breaks + 1, name="m"), name="ssr"),
-        partitions={m: tuple(int(index[b]) for b in breaks[m, :m]) for m in range(max_breaks + 1)},
-        criteria=pd.DataFrame({"bic": bic, "lwz": lwz}, index=pd.RangeIndex(max_breaks + 1, name="m")),
-        tests=tests, data=pd.Series(values, index=pd.Index(index, name="year"), name=label),
-        fitted=pd.Series(fit["fitted"], index=pd.Index(index, name="year"), name="fitted"),
-        nobs=nobs, trim=trim, max_breaks=max_breaks, select=select, alpha=alpha, details=details,
-        warnings=tuple(warnings))
-
-
-def _describe(values, z, x, cut, fit, index, z_names, robust, lags, alpha):  # noqa: ANN001, ANN202
-    """Intervals of the break years and the table of regime coefficients."""
-    nobs, q = z.shape
-    p = fit["p"]
-    coef, se = fit["coef"], np.sqrt(np.diag(fit["cov"]))
-    rows, moments = [], []
-    for r, (start, end) in enumerate(fit["bounds"]):
-        zb, ub = z[start:end + 1], fit["resid"][start:end + 1]
-        n = end - start + 1
-        scores = zb * ub[:, None]
-        omega = (long_run_cov(scores, min(lags, n - 1), prewhiten=True).long_run if robust
-                 else (ub @ ub / n) * (zb.T @ zb) / n)
-        moments.append((zb.T @ zb / n, omega))
-        for c, name in enumerate(z_names):
-            rows.append({"regime": r + 1, "term": name, "first_year": int(index[start]),
-                         "last_year": int(index[end]), "nobs": n,
-                         "estimate": coef[p + r * q + c], "std_error": se[p + r * q + c]})
-    regimes = pd.DataFrame(rows).set_index(["regime", "term"])
-    out = []
-    for i, b in enumerate(cut):
-        delta = coef[p + (i + 1) * q:p + (i + 2) * q] - coef[p + i * q:p + (i + 1) * q]
-        lo, hi = break_interval(b, delta, moments[i][0], moments[i + 1][0], moments[i][1],
-                                moments[i + 1][1], alpha=alpha, nobs=nobs)
-        out.append({"break_year": int(index[b]), "lower": int(index[lo]), "upper": int(index[hi])})
-    intervals = pd.DataFrame(out, columns=["break_year", "lower", "upper"])
-    return intervals, regimes
+    m_index = pd.RangeIndex(K + 1, name="m")
+    return {"n_breaks": chosen, "break_years": tuple(int(index[b]) for b in cut),
+            "intervals": intervals, "regimes": regimes, "fixed_params": fixed_frame,
+            "ssr": pd.Series(ssr, index=m_index, name="ssr"),
+            "partitions": {m: tuple(int(index[b]) for b in breaks[m, :m]) for m in range(K + 1)},
+            "criteria": pd.DataFrame({"bic": bic, "lwz": lwz, "lwz_ar": lwz_innov}, index=m_index),
+            "tests": tests,
+            "fitted": pd.Series(fit["fitted"], index=pd.Index(index, name="year"), name="fitted"),
+            "warnings": warnings, "sources": _sources(spec), "details": {}}

@@ -129,8 +129,8 @@ def batch_ols(y: np.ndarray, z: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.
     scale = np.maximum(np.abs(z).max(axis=-2), 1.0)
     if np.any(diag < 1e-10 * scale):
         raise np.linalg.LinAlgError("singular design")
-    qty = np.einsum("ntk,nt->nk", q, y)
+    qty = (np.swapaxes(q, -1, -2) @ y[..., None])[..., 0]
     coef = np.linalg.solve(r, qty[..., None])[..., 0]
-    resid = y - np.einsum("ntk,nk->nt", z, coef)
+    resid = y - (z @ coef[..., None])[..., 0]
     rinv = np.linalg.inv(r)
     return coef, resid, rinv @ np.swapaxes(rinv, -1, -2)

@@ -5,7 +5,8 @@ For each unit the conditional error-correction regression
     Δy_t = d_t'δ + α y_{t-1} + λ'x_{t-1} + Σ_{j=1..p} α_j Δy_{t-j} + Σ_{j=-q..p} γ_j'Δx_{t-j} + e_t
 
 is fitted by OLS with the unit's lag order ``p`` and lead order ``q``. Units with the same ``(p, q)``
-are fitted together.
+are fitted together; :func:`westerlund_statistics` does the same for a batch of panels (the
+bootstrap), the unit regressions of all panels at once.
 """
 
 from __future__ import annotations
@@ -17,7 +18,10 @@ import numpy as np
 from evidence._hac import long_run_cov, newey_west_lags
 from evidence.cointegration._data import batch_ols, deterministics, lag_matrix
 
-__all__ = ["bootstrap_task", "ec_design", "select_orders", "westerlund_raw"]
+__all__ = ["ec_design", "select_orders", "westerlund_raw", "westerlund_statistics", "NAMES"]
+
+#: The four statistics in the published order.
+NAMES = ("Gt", "Ga", "Pt", "Pa")
 
 
 def ec_design(y: np.ndarray, x: np.ndarray, p: int, q: int, trend: str, *,
@@ -71,17 +75,12 @@ def select_orders(y: np.ndarray, x: np.ndarray, lags: int | str, leads: int | st
     return p_out, q_out
 
 
-def westerlund_raw(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
-                   trend: str) -> dict[str, Any]:
-    """Gt, Ga, Pt, Pa before standardisation, and the unit pieces (see ``westerlund_test``)."""
+def _units(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
+           trend: str) -> dict[str, np.ndarray]:
+    """Each unit's pieces of the four statistics (every array (M,) for M units)."""
     n_units = y.shape[0]
-    alpha = np.empty(n_units)
-    se = np.empty(n_units)
-    alpha1 = np.empty(n_units)
-    sigma = np.empty(n_units)
-    nobs = np.empty(n_units)
-    yy = np.empty(n_units)
-    ydy = np.empty(n_units)
+    keys = ("alpha", "se", "alpha1", "sigma", "nobs", "yy", "ydy")
+    out = {key: np.empty(n_units) for key in keys}
     for p, q in sorted(set(zip(p_i.tolist(), q_i.tolist()))):
         idx = np.flatnonzero((p_i == p) & (q_i == q))
         des = ec_design(y[idx], x[idx], p, q, trend)
@@ -89,98 +88,60 @@ def westerlund_raw(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarra
         coef, resid, xtx_inv = batch_ols(dy, z)
         t_len, n_par = z.shape[1], z.shape[2]
         s2 = np.sum(resid ** 2, axis=1) / (t_len - n_par)
-        alpha[idx] = coef[:, iy]
-        se[idx] = np.sqrt(s2 * xtx_inv[:, iy, iy])
-        sigma[idx] = np.sqrt(s2)
-        nobs[idx] = t_len
+        out["alpha"][idx] = coef[:, iy]
+        out["se"][idx] = np.sqrt(s2 * xtx_inv[:, iy, iy])
+        out["sigma"][idx] = np.sqrt(s2)
+        out["nobs"][idx] = t_len
         # alpha_i(1) = omega_u / omega_y: long-run standard deviations of u = e + γ(L)'Δx and of Δy.
         u = resid + np.einsum("ntk,nk->nt", z[:, :, des["dx_cols"]], coef[:, des["dx_cols"]])
         pair = np.stack([u, dy], axis=2)
         if trend != "none":
             pair = pair - pair.mean(axis=1, keepdims=True)
         omega = long_run_cov(pair, newey_west_lags(t_len))[1]
-        alpha1[idx] = np.sqrt(omega[:, 0, 0] / omega[:, 1, 1])
+        alpha1 = np.sqrt(omega[:, 0, 0] / omega[:, 1, 1])
+        out["alpha1"][idx] = alpha1
         # Pooled pieces: y_{t-1} and Δy net of the other regressors.
         others = np.delete(z, iy, axis=2)
         _, y_tilde, _ = batch_ols(z[:, :, iy], others)
         _, dy_tilde, _ = batch_ols(dy, others)
-        yy[idx] = np.sum(y_tilde ** 2, axis=1)
-        ydy[idx] = np.sum(y_tilde * dy_tilde, axis=1) / alpha1[idx]
-    alpha_pool = np.sum(ydy) / np.sum(yy)
-    s_n = np.mean(sigma / alpha1)
-    se_pool = s_n / np.sqrt(np.sum(yy))
-    t_mean = float(np.mean(nobs))
-    return {"Gt": float(np.mean(alpha / se)), "Ga": float(np.mean(nobs * alpha / alpha1)),
-            "Pt": float(alpha_pool / se_pool), "Pa": float(t_mean * alpha_pool),
-            "alpha": alpha, "se": se, "alpha1": alpha1, "nobs": nobs}
+        out["yy"][idx] = np.sum(y_tilde ** 2, axis=1)
+        out["ydy"][idx] = np.sum(y_tilde * dy_tilde, axis=1) / alpha1
+    return out
 
 
-def _null_model(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
-                trend: str) -> dict[str, Any]:
-    """The regression without the error-correction terms (H0), unit by unit: coefficients, residuals."""
-    n_units, n_years, k = x.shape
-    resid = np.full((n_units, n_years), np.nan)
-    ar = np.zeros((n_units, max(int(p_i.max()), 1)))
-    gam = np.zeros((n_units, k, int(q_i.max()) + int(p_i.max()) + 1))
-    for p, q in sorted(set(zip(p_i.tolist(), q_i.tolist()))):
-        idx = np.flatnonzero((p_i == p) & (q_i == q))
-        des = ec_design(y[idx], x[idx], p, q, trend)
-        n_det = int(des["iy"])
-        keep = [c for c in range(des["z"].shape[2]) if not n_det <= c < n_det + 1 + k]
-        coef, res, _ = batch_ols(des["dy"], des["z"][:, :, keep])
-        resid[idx, p + 1:n_years - q] = res
-        ar[idx, :p] = coef[:, n_det:n_det + p]
-        g = coef[:, n_det + p:].reshape(len(idx), k, p + q + 1)
-        qmax = int(q_i.max())
-        gam[idx, :, qmax - q:qmax + p + 1] = g
-    return {"resid": resid, "ar": ar, "gamma": gam, "qmax": int(q_i.max())}
+def _combine(units: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
+    """Gt, Ga, Pt, Pa from unit pieces shaped (..., N)."""
+    alpha_pool = np.sum(units["ydy"], axis=-1) / np.sum(units["yy"], axis=-1)
+    s_n = np.mean(units["sigma"] / units["alpha1"], axis=-1)
+    se_pool = s_n / np.sqrt(np.sum(units["yy"], axis=-1))
+    t_mean = np.mean(units["nobs"], axis=-1)
+    return {"Gt": np.mean(units["alpha"] / units["se"], axis=-1),
+            "Ga": np.mean(units["nobs"] * units["alpha"] / units["alpha1"], axis=-1),
+            "Pt": alpha_pool / se_pool, "Pa": t_mean * alpha_pool}
 
 
-def _rebuild(dx_star: np.ndarray, e_star: np.ndarray, null: dict[str, Any]) -> np.ndarray:
-    """Δy* from the null model's dynamics, the resampled Δx* (n, T, k) and residuals e* (n, T)."""
-    n_units, n_years = e_star.shape
-    ar, gam, qmax = null["ar"], null["gamma"], null["qmax"]
-    width = gam.shape[2]
-    dy = np.zeros((n_units, n_years))
-    for t in range(n_years):
-        value = e_star[:, t].copy()
-        for j in range(1, ar.shape[1] + 1):
-            if t - j >= 0:
-                value += ar[:, j - 1] * dy[:, t - j]
-        for c in range(width):
-            lag = c - qmax                       # column c holds Δx_{t-lag}
-            s = t - lag
-            if 0 <= s < n_years:
-                value += np.einsum("nk,nk->n", gam[:, :, c], dx_star[:, s])
-        dy[:, t] = value
-    return dy
+def westerlund_raw(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
+                   trend: str) -> dict[str, Any]:
+    """Gt, Ga, Pt, Pa before standardisation, and the unit pieces (see ``westerlund_test``)."""
+    units = _units(y, x, p_i, q_i, trend)
+    out: dict[str, Any] = {k: float(v) for k, v in _combine(units).items()}
+    out.update({"alpha": units["alpha"], "se": units["se"], "alpha1": units["alpha1"],
+                "nobs": units["nobs"]})
+    return out
 
 
-def bootstrap_task(task: dict[str, Any]) -> tuple[float, float, float, float]:
-    """One bootstrap replication: resample whole periods of residuals, rebuild y under H0, recompute.
+def westerlund_statistics(y: np.ndarray, x: np.ndarray, lags: int | str, leads: int | str, *,
+                          max_lags: int, max_leads: int,
+                          trend: str) -> tuple[dict[str, np.ndarray], np.ndarray, np.ndarray]:
+    """The four raw statistics of panels ``y`` (..., N, T), ``x`` (..., N, T, k).
 
-    The regressors stay as observed; the residual vectors of all units are drawn together (blocks
-    of ``task["block"]`` consecutive periods, circular), so the dependence between units is kept,
-    and ``Δy*`` follows the fitted short-run dynamics of the model without error correction.
+    Orders are fixed or chosen by AIC for each unit of each panel (as for the data). Returns the
+    statistics shaped like the leading axes and the orders (..., N).
     """
-    rng = np.random.default_rng(task["seed"])
-    y, x, p_i, q_i, trend = task["y"], task["x"], task["p"], task["q"], task["trend"]
-    null = task["null"]
-    periods = np.flatnonzero(~np.isnan(null["resid"]).any(axis=0))
-    n_years = y.shape[1]
-    block = task["block"]
-    # circular blocks: every period equally likely, so the draws keep the pool's zero mean
-    starts = rng.integers(0, len(periods), size=n_years // block + 1)
-    draw = periods[((starts[:, None] + np.arange(block)[None, :]) % len(periods)).ravel()[:n_years]]
-    dx = np.diff(x, axis=1)
-    dx = np.concatenate([dx[:, :1] * 0.0, dx], axis=1)
-    e_star = null["resid"][:, draw]  # the pool has mean zero (constant in the null model)
-    y_star = np.cumsum(_rebuild(dx, e_star, null), axis=1)
-    raw = westerlund_raw(y_star, x, p_i, q_i, trend)
-    return raw["Gt"], raw["Ga"], raw["Pt"], raw["Pa"]
-
-
-def null_model(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
-               trend: str) -> dict[str, Any]:
-    """Public alias of the H0 fit used to set up the bootstrap."""
-    return _null_model(y, x, p_i, q_i, trend)
+    lead, (n_units, n_years, k) = y.shape[:-2], x.shape[-3:]
+    yf, xf = y.reshape(-1, n_years), x.reshape(-1, n_years, k)
+    p_i, q_i = select_orders(yf, xf, lags, leads, max_lags=max_lags, max_leads=max_leads,
+                             trend=trend)
+    units = _units(yf, xf, p_i, q_i, trend)
+    shaped = {key: value.reshape(*lead, n_units) for key, value in units.items()}
+    return _combine(shaped), p_i.reshape(*lead, n_units), q_i.reshape(*lead, n_units)

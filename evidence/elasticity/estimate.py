@@ -33,7 +33,7 @@ ESTIMATORS = ("fe", "twfe", "mg", "ccemg", "ccep", "amg")
 
 def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence[str] = (),
                estimator: str = "fe", cov: str | None = None, hac_lags: int | None = None,
-               trend: str | None = None, robust_mean: bool = False, log: bool = True,
+               trend: str = "constant", robust_mean: bool = False, log: bool = True,
                window: Window | str | None = None, drop_short: bool = False) -> Estimate:
     """Elasticity of pressure with respect to activity, ``ln P_it = a_i + b ln A_it + c' z_it + e_it``.
 
@@ -56,9 +56,10 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
         The mean-group estimators use the mean-group variance and take no ``cov``.
     hac_lags : int, optional
         Driscoll–Kraay lags (default ``floor(4 (T/100)^(2/9))``).
-    trend : {"constant", "trend"}, optional
-        Unit-level deterministic terms of the mean-group estimators (default ``"constant"``;
-        ``"trend"`` for AMG).
+    trend : {"constant", "trend"}
+        Unit-level deterministic terms: unit intercepts (the fixed-effects estimators have only
+        these), or intercepts and unit trends (mean-group estimators). The augmented mean group's
+        unit regressions always carry a trend (Eberhardt & Teal 2010).
     robust_mean : bool
         Mean-group estimators: an outlier-robust (Huber) mean of the unit slopes.
     window : (int, int), optional
@@ -82,14 +83,13 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
     estimator = check_choice("estimator", estimator, ESTIMATORS)
     if estimator in ("fe", "twfe"):
         cov = check_choice("cov", cov or "driscoll-kraay", COVARIANCES)
-        if trend is not None or robust_mean:
-            raise SpecError("trend= and robust_mean= apply to the mean-group estimators "
+        if trend != "constant" or robust_mean:
+            raise SpecError("trend='trend' and robust_mean= apply to the mean-group estimators "
                             "(mg, ccemg, ccep, amg), not to fixed effects.")
     elif cov is not None:
         raise SpecError(f"cov={cov!r} applies to estimator='fe' or 'twfe'; the mean-group "
                         "estimators use the mean-group variance of the unit slopes.")
-    if trend is not None:
-        trend = check_choice("trend", trend, ("constant", "trend"))
+    trend = check_choice("trend", trend, ("constant", "trend"))
     design = build_design(panel, pressure, activity, controls=controls, log=log, window=window,
                           drop_short=drop_short)
     if estimator in ("fe", "twfe"):

@@ -99,12 +99,12 @@ def fit_mean_group(design: Design, *, estimator: str = "mg", trend: str | None =
                    robust_mean: bool = False) -> Estimate:
     """Fit a mean-group-type estimator; see the module docstring.
 
-    ``trend`` is ``"constant"`` (unit intercepts) or ``"trend"`` (and unit trends); default
-    ``"constant"``, except ``"trend"`` for the augmented mean group, whose unit regressions carry a
-    trend. Units without enough years or with collinear regressors are left out and listed in
-    ``details["excluded"]`` (with the rows the design left out).
+    ``trend`` is ``"constant"`` (unit intercepts) or ``"trend"`` (and unit trends); the augmented
+    mean group's unit regressions always carry a trend (Eberhardt & Teal 2010). Units without
+    enough years or with collinear regressors are left out and listed in ``details["excluded"]``
+    (with the rows the design left out).
     """
-    trend = trend or ("trend" if estimator == "amg" else "constant")
+    trend = "trend" if estimator == "amg" else (trend or "constant")
     names = list(design.regressors)
     k = len(names)
     extra: pd.DataFrame | None = None

@@ -16,7 +16,13 @@ import pandas as pd
 from evidence._figures import finish_figure, pyplot
 from evidence.panel import Panel
 
-__all__ = ["save", "indexed_figure", "heatmap_figure", "decomposition_figure"]
+__all__ = ["save", "shorten", "indexed_figure", "heatmap_figure", "decomposition_figure"]
+
+
+def shorten(text: str, width: int = 60) -> str:
+    """Data-derived text cut to ``width`` characters for a title or legend (``…`` marks a cut)."""
+    text = " ".join(str(text).split())
+    return text if len(text) <= width else text[:width - 1] + "…"
 
 
 def save(fig: Any, stem: Path) -> list[Path]:
@@ -34,12 +40,12 @@ def indexed_figure(panel: Panel, unit: str, activity: str, pressures: Sequence[s
         series = panel.series(unit, column).loc[start:end].dropna()
         if series.empty:
             continue
-        ax.plot(series.index, 100.0 * series / series.iloc[0], style, label=column)
+        ax.plot(series.index, 100.0 * series / series.iloc[0], style, label=shorten(column))
     for column, years in breaks.items():
         for year in years:
             ax.axvline(year + 0.5, color="0.55", linewidth=0.8, linestyle=":")
     ax.axhline(100.0, color="0.8", linewidth=0.8)
-    ax.set_title(f"{unit}: indexed to the first year of each series = 100")
+    ax.set_title(f"{shorten(unit)}: indexed to the first year of each series = 100")
     ax.set_xlabel(panel.time_name)
     ax.legend(frameon=False, fontsize=8)
     fig.text(0.01, 0.01, "dotted lines: after each break year (last year of the old regime)",
@@ -57,7 +63,7 @@ def heatmap_figure(matrix: np.ndarray, years: Sequence[int], title: str):  # noq
               extent=(years[0] - 0.5, years[-1] + 0.5, years[0] - 0.5, years[-1] + 0.5))
     ax.set_xlabel("first year of sub-window")
     ax.set_ylabel("last year of sub-window")
-    ax.set_title(title, fontsize=9)
+    ax.set_title(shorten(title, 90), fontsize=9)
     fig.tight_layout()
     return fig
 

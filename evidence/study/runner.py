@@ -12,6 +12,7 @@ import json
 import platform
 import time
 from collections.abc import Callable
+from contextlib import ExitStack
 from dataclasses import dataclass, replace
 from datetime import datetime, timezone
 from importlib import metadata
@@ -145,8 +146,9 @@ def _load(spec: StudySpec) -> Panel:
     """The study's panel, with the columns, units and years the spec names checked."""
     basis = {p.column: p.basis for p in spec.pressures}
     basis.update({p.consumption: "consumption" for p in spec.pressures if p.consumption})
-    panel = load_panel(spec.data_file, unit=spec.unit, time=spec.time, basis=basis)
+    panel = load_panel(spec.data_file, unit=spec.unit, time=spec.time)
     check_against_data(spec, panel.columns, panel.units, panel.years)
+    panel = Panel(panel.frame, audit=panel.audit, meta={**panel.meta, "basis": basis})
     return _without_nonpositive(panel, spec)
 
 
@@ -232,8 +234,13 @@ def run_into(spec: StudySpec, folder: OutputFolder, executor: ExecutorLike,
     and ``run_demo``)."""
     started, clock = datetime.now(timezone.utc), time.perf_counter()
     panel = _load(spec)
+    stack = ExitStack()
     try:
-        with using_executor(executor) as opened:
+        opened = stack.enter_context(using_executor(executor))
+    except OSError as exc:  # e.g. no scheduler at the address given
+        raise DataError(f"cannot start the executor {executor!r}: {exc}") from None
+    try:
+        with stack:
             spec = replace(spec, executor=opened)
             writer = _Writer(folder, spec.formats)
             results, sections, grade, steps = _steps(panel, spec, writer, progress)

@@ -18,7 +18,8 @@ from pathlib import Path
 from typing import Any
 
 from evidence._typing import ADJUSTMENTS, DEFAULT_SEED
-from evidence._validation import check_choice, check_columns, check_window, suggest
+from evidence._validation import (check_choice, check_columns, check_int, check_number,
+                                  check_window, suggest)
 from evidence.elasticity import ESTIMATORS
 from evidence.errors import DataError, EvidenceError, SpecError
 from evidence.parallel import BACKENDS
@@ -66,23 +67,19 @@ def _name(value: Any, where: str) -> str:
 
 def _int(low: int | None, high: int | None) -> Check:
     def check(value: Any, where: str) -> int:
-        if (low is not None and value < low) or (high is not None and value > high):
-            span = (f"between {low} and {high}" if low is not None and high is not None
-                    else f"at least {low}" if low is not None else f"at most {high}")
-            raise _fail(where, f"{value!r} must be an integer {span}.")
-        return int(value)
+        try:
+            return int(check_int("value", value, minimum=low, maximum=high))  # type: ignore[arg-type]
+        except SpecError as exc:
+            raise _fail(where, str(exc).replace("value=", "", 1)) from None
     return check
 
 
 def _number(low: float, high: float, *, inclusive: bool = False, hint: str = "") -> Check:
     def check(value: Any, where: str) -> float:
-        number = float(value)
-        inside = (low <= number <= high) if inclusive else (low < number < high)
-        if not (math.isfinite(number) and inside):
-            sides = "" if inclusive else " (exclusive)"
-            raise _fail(where, f"{value!r} must be a number between {low:g} and {high:g}"
-                               f"{sides}{hint}.")
-        return number
+        try:
+            return check_number("value", value, low=low, high=high, inclusive=inclusive, hint=hint)
+        except SpecError as exc:
+            raise _fail(where, str(exc).replace("value=", "", 1)) from None
     return check
 
 
@@ -111,6 +108,12 @@ def _choices(options: tuple[str, ...]) -> Check:
             out.append(name)
         return out
     return check
+
+
+def _labels(value: Any, where: str) -> dict[str, str]:
+    if not all(isinstance(k, str) and k and isinstance(v, str) and v for k, v in value.items()):
+        raise _fail(where, 'must map names to the text tables show, e.g. {log_gdp = "ln GDP"}.')
+    return dict(value)
 
 
 def _budgets(value: Any, where: str) -> dict[str, float]:
@@ -153,8 +156,11 @@ SCHEMA: dict[str, dict[str, Key]] = {
                  "short_window": Key(int, check=_int(2, 1000)),
                  "required_rate": Key(float, check=_number(0.0, 1.0, hint=" (0.05 = 5 % a year)")),
                  "budgets": Key(dict, check=_budgets),
-                 "interval": Key(str, check=_choice(("hac", "bootstrap"))),
-                 "reps": Key(int, check=_int(99, 1_000_000))},  # bootstrap replications
+                 "interval": Key(str, check=_choice(("test", "bootstrap"))),
+                 "reps": Key(int, check=_int(99, 1_000_000)),  # bootstrap replications
+                 "trend_test": Key(str, check=_choice(("perron-yabu", "dan-j", "ps-j",
+                                                       "perron-yabu-normal", "hac-fixed-b",
+                                                       "hac")))},
     "breaks": {"max_breaks": Key(int, check=_int(1, 10)),
                "trim": Key(float, check=_number(0.0, 0.5, hint=", e.g. 0.15"))},
     "analyses": {"rates": Key(bool), "grade": Key(bool),
@@ -164,6 +170,7 @@ SCHEMA: dict[str, dict[str, Key]] = {
                  "convergence": Key(list, check=_choices(CONVERGENCE_METHODS)),
                  "decomposition": Key(bool)},
     "output": {"formats": Key(list, check=_choices(TABLE_FORMATS)), "figures": Key(bool),
+               "labels": Key(dict, check=_labels),
                "seed": Key(int, check=_int(0, 2**63 - 1))},
     "run": {"executor": Key(str, check=lambda v, w: check_executor(v, w))},
 }
@@ -199,6 +206,7 @@ class StudySpec:
     analyses: dict[str, Any] = field(default_factory=dict)
     formats: tuple[str, ...] = ("markdown", "latex", "html", "csv")
     figures: bool = True
+    labels: dict[str, str] = field(default_factory=dict)
     seed: int = DEFAULT_SEED
     executor: Any = "serial"
     raw: dict[str, Any] = field(default_factory=dict)
@@ -328,7 +336,8 @@ def _build(text: str, raw: dict[str, Any], checked: dict[str, Any], base: Path |
         window=None if window is None else (window["start"], window["end"]),
         criteria=criteria, breaks=dict(checked.get("breaks", {})),
         analyses=dict(checked.get("analyses", {})), formats=formats,
-        figures=bool(output.get("figures", True)), seed=int(output.get("seed", DEFAULT_SEED)),
+        figures=bool(output.get("figures", True)), labels=dict(output.get("labels", {})),
+        seed=int(output.get("seed", DEFAULT_SEED)),
         executor=checked.get("run", {}).get("executor", "serial"), raw=raw, text=text)
 
 

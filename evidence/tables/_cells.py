@@ -18,7 +18,7 @@ from typing import Any
 import pandas as pd
 
 __all__ = ["Number", "MINUS", "latex_escape", "markdown_escape", "html_escape", "minus",
-           "table_pvalue", "NUMERIC_TEXT"]
+           "table_pvalue", "NUMERIC_TEXT", "CONTROL_CHARS", "is_missing"]
 
 MINUS = "\u2212"
 
@@ -131,15 +131,15 @@ _LATEX_SPECIAL.update({k: f"$\\{v}$" for k, v in _GREEK.items()})
 _COMBINING = {"\u0304": "bar", "\u0303": "tilde", "\u0302": "hat"}
 
 
-#: Control characters (terminal escape sequences, line breaks, tabs): shown as one space.
-_CONTROL = re.compile(r"[\x00-\x1f\x7f-\x9f]+")
+CONTROL_CHARS = re.compile(r"[\x00-\x1f\x7f-\x9f]+")
 
 
 def latex_escape(text: Any) -> str:
-    """``text`` safe in LaTeX: special characters escaped, line breaks and blank lines made
-    spaces (a paragraph break would end a table cell with an error), and common Unicode symbols
-    (minus, dashes, Greek letters, super- and subscripts, W̄) written as LaTeX."""
-    chars = _CONTROL.sub(" ", str(text))
+    """``text`` safe in LaTeX: special characters escaped, line breaks, blank lines and other
+    control characters made one space (a paragraph break would end a table cell with an error),
+    and common Unicode symbols (minus, dashes, Greek letters, super- and subscripts, W̄) written
+    as LaTeX."""
+    chars = CONTROL_CHARS.sub(" ", str(text))
     out: list[str] = []
     i = 0
     while i < len(chars):
@@ -159,15 +159,15 @@ def latex_escape(text: Any) -> str:
 
 
 _MD_SPECIAL = {"\\": "\\\\", "|": "\\|", "*": "\\*", "_": "\\_", "`": "\\`", "[": "\\[",
-               "]": "\\]", "#": "\\#", "~": "\\~", "$": "\\$", "^": "\\^", "<": "&lt;", ">": "&gt;", "&": "&amp;",
-               "\n": " ", "\r": " ", "\t": " "}
+               "]": "\\]", "#": "\\#", "~": "\\~", "$": "\\$", "^": "\\^", "<": "&lt;",
+               ">": "&gt;", "&": "&amp;"}
 
 
 def markdown_escape(text: Any) -> str:
     """``text`` safe in Markdown (and in the HTML Markdown may carry): markup characters
     backslash-escaped, ``<``, ``>`` and ``&`` as entities, line breaks as spaces."""
-    clean = _CONTROL.sub(" ", str(text))
-    return re.sub(r" {2,}", " ", "".join(_MD_SPECIAL.get(ch, ch) for ch in clean)).strip()
+    text = CONTROL_CHARS.sub(" ", str(text))
+    return re.sub(r" {2,}", " ", "".join(_MD_SPECIAL.get(ch, ch) for ch in text)).strip()
 
 
 def html_escape(text: Any) -> str:

@@ -32,11 +32,12 @@ LANDSCAPE_COLUMNS = 12
 #: Ways to fit a table to the page (``fit=``).
 FITS = ("auto", "shrink", "landscape", "none")
 _NUMERIC = r"D{.}{.}{-1}"
-_WRAP_TEXT = 40   # a text column whose longest cell is longer wraps in a paragraph column
+_WRAP_TEXT = 50   # a text column whose longest cell is longer wraps in a paragraph column
 _HEAD_WIDTH = 16  # heads longer than this (and than the column's cells) break into lines
 _BOX = r"\evidencetablebox"
-_LONG_ROWS = 36           # rows per float; a longer table continues in further floats
-_LONG_ROWS_LANDSCAPE = 16
+_LINES = 40               # lines of rows per float; a longer table continues in further floats
+_LINES_LANDSCAPE = 22     # (a landscape page is as high as the portrait text is wide)
+_WRAP_EM = 22             # width of a wrapped text column, in em (about two characters each)
 
 
 def default_label(title: str) -> str:
@@ -71,6 +72,36 @@ def _plain_width(value: object) -> int:
     return len(value.plain()) if isinstance(value, Number) else len("" if value is None else str(value))
 
 
+def _chunks(table: Table, widths: list[int], *, wrapped: list[bool],
+            landscape: bool) -> list[list[int]]:
+    """Rows split into floats that fit a page: each row costs as many lines as its longest
+    wrapped cell takes; the last float also holds the notes (footnote size)."""
+    budget = _LINES_LANDSCAPE if landscape else _LINES
+    per_line = 2 * _WRAP_EM
+
+    def cost(row: list[object]) -> int:
+        return max([1] + [-(-_plain_width(v) // per_line) for v, w in zip(row, wrapped) if w])
+
+    note_chars = 170 if landscape else 110
+    notes = sum(0.8 * (-(-len(n) // note_chars)) for n in table.notes)
+    chunks: list[list[int]] = [[]]
+    used = 0
+    for i, row in enumerate(table.rows):
+        c = cost(row)
+        if chunks[-1] and used + c > budget:
+            chunks.append([])
+            used = 0
+        chunks[-1].append(i)
+        used += c
+    last = chunks[-1]
+    spill: list[int] = []
+    while len(last) > 1 and sum(cost(table.rows[i]) for i in last) + notes > budget:
+        spill.insert(0, last.pop())
+    if spill:
+        chunks.append(spill)
+    return chunks
+
+
 def render_latex(table: Table) -> str:
     """The table as a LaTeX ``table`` float (see the module docstring for its parts)."""
     widths = [max([0] + [_plain_width(row[j]) for row in table.rows]) for j in range(len(table.header))]
@@ -79,7 +110,7 @@ def render_latex(table: Table) -> str:
         if numeric:
             spec.append(_NUMERIC)
         elif widths[j] > _WRAP_TEXT:
-            spec.append(r">{\raggedright\arraybackslash}p{16em}")
+            spec.append(rf">{{\raggedright\arraybackslash}}p{{{_WRAP_EM}em}}")
             wraps = True
         else:
             spec.append("l")
@@ -100,10 +131,9 @@ def render_latex(table: Table) -> str:
     label = table.label or default_label(table.title)
     head = " & ".join(_head(h, n, w) for h, n, w in zip(table.header, table.numeric, widths)) + r" \\"
     columns = f"@{{}}{' '.join(spec)}@{{}}"
-    size = _LONG_ROWS_LANDSCAPE if landscape else _LONG_ROWS
-    chunks = [list(range(i, min(i + size, len(table.rows))))
-              for i in range(0, max(len(table.rows), 1), size)] if fit != "none" else \
-        [list(range(len(table.rows)))]
+    chunks = _chunks(table, widths, wrapped=[w > _WRAP_TEXT and not n for w, n in
+                                             zip(widths, table.numeric)],
+                     landscape=landscape) if fit != "none" else [list(range(len(table.rows)))]
     out = [f"% Preamble: \\usepackage{{{','.join(packages)}}}"]
     if landscape:
         out.append("\\begin{landscape}")

@@ -143,6 +143,7 @@ def test_name(name: str, labels: Mapping[str, str] | None = None) -> str:
     """
     match = _OWNER.fullmatch(str(name))
     owner, rest = (match.group(1) or "", match.group(2)) if match else ("", str(name))
+    owner = owner[:1].upper() + owner[1:]
     for keyword, shown in _AUTHOR_YEAR:
         if rest == keyword or rest.startswith(keyword + " ") or (
                 rest.startswith(keyword) and not rest[len(keyword):len(keyword) + 1].isalnum()):

@@ -23,8 +23,8 @@ from evidence._cautions import CAUTION
 from evidence._json import json_safe
 from evidence._validation import check_choice, check_int
 from evidence.errors import SpecError
-from evidence.tables._cells import (NUMERIC_TEXT, Number, html_escape, is_missing, latex_escape,
-                                    markdown_escape, minus, table_pvalue)
+from evidence.tables._cells import (CONTROL_CHARS, NUMERIC_TEXT, Number, html_escape, is_missing,
+                                    latex_escape, markdown_escape, minus, table_pvalue)
 from evidence.tables._latex import FITS, render_latex
 from evidence.tables._names import check_labels, header_name, relabel
 
@@ -62,7 +62,8 @@ def format_cell(value: Any, digits: int = 3) -> str:
         return ""
     if isinstance(value, float):
         return f"{value:.{digits}f}"
-    return " ".join(str(value).split()) if any(c in str(value) for c in "\n\r\t\f\v") else str(value)
+    text = str(value)
+    return " ".join(CONTROL_CHARS.sub(" ", text).split()) if CONTROL_CHARS.search(text) else text
 
 
 def check_label(label: Any) -> str | None:
@@ -77,7 +78,9 @@ def check_label(label: Any) -> str | None:
 
 
 def finish_notes(notes: Sequence[str], caution: bool, labels: Mapping[str, str]) -> list[str]:
-    """Notes relabelled, each once, in order; the caution last when asked for."""
+    """Notes relabelled, each once, in order; the caution last when asked for (or when a caller
+    passed it among the notes)."""
+    caution = caution or any(note == CAUTION for note in notes)
     out: list[str] = []
     for note in notes:
         text = relabel(str(note), labels)

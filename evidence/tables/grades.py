@@ -23,16 +23,19 @@ __all__ = ["grade_table", "RUNG_MEANINGS"]
 
 #: The rungs from the weakest, each with its meaning (docs/methods/grading.md).
 RUNG_MEANINGS = (
-    ("coupled", "no significant relative decoupling after adjustment"),
-    ("relative", "intensity falls significantly, pressure does not fall significantly"),
-    ("absolute-tentative", "pressure trend negative while activity grows, but not significant "
-                           "after adjustment (its adjusted p can be large)"),
-    ("absolute-significant", "pressure trend significantly negative (adjusted) while activity grows"),
-    ("absolute-sustained", "absolute-significant, a decline run of the sustained length, and the "
-                           "latest regime still declining"),
+    ("coupled", "none of the below"),
+    ("relative", "intensity falls significantly (adjusted)"),
+    ("recession-driven", "pressure falls significantly only with recession years counted"),
+    ("absolute-tentative", "activity grows significantly and the pressure trend (recessions set "
+                           "apart) is negative, but not significant after adjustment"),
+    ("absolute-significant", "pressure falls significantly (adjusted, recessions set apart) "
+                             "while activity grows significantly"),
+    ("absolute-sustained", "absolute-significant, a decline run of the sustained length, and a "
+                           "significant decline over the latest sustained-length years"),
     ("target-consistent", "absolute-sustained and sufficient against the stated target"),
 )
-_MOVABLE = ("pressure", "basis", "window", "required %/yr", "sufficiency", "consumption basis")
+_MOVABLE = ("pressure", "basis", "span", "required %/yr", "sufficiency", "consumption basis",
+            "gap %/yr")
 
 
 def _pct(value: Any, digits: int = 2) -> Any:
@@ -48,8 +51,10 @@ def _interval(low: Any, high: Any) -> str:
     return f"[{a.plain()}, {b.plain()}]"
 
 
-def _yes(value: object) -> str:
-    return {True: "yes", False: "no"}.get(value, "n/a")  # type: ignore[arg-type]
+def _gap(g: Any, low: Any, high: Any) -> str:
+    if g is None or (isinstance(g, float) and math.isnan(g)):
+        return ""
+    return f"{100 * g:.2f} [{100 * low:.2f}, {100 * high:.2f}]"
 
 
 def _break_label(rec: Mapping[str, Any]) -> str:
@@ -57,25 +62,40 @@ def _break_label(rec: Mapping[str, Any]) -> str:
         return "n/a"
     if not rec["break_years"]:
         return "none"
-    trend = "falls" if rec["latest_regime_slope"] < 0 else "rises"
+    trend = "falls" if rec["break_slope"] < 0 else "rises"
     return f"{rec['latest_break']} ({trend})"
+
+
+def _size_text(result: GradeResult) -> str:
+    size = result.details.get("size") or {}
+    if not size:
+        return "Its size is not on the size card."
+    state = "within" if size.get("controlled") else "OUTSIDE"
+    return (f"Monte Carlo size at T={size['n_years']} (the card's length nearest the median span): "
+            f"{100 * size['measured']:.1f} % at 5 % nominal, worst of {size['processes']} noise "
+            f"processes ({size['process']}), {state} [3 %, 7.5 %]; see docs/methods/size.md.")
 
 
 def _notes(result: GradeResult) -> list[str]:
     crit = result.criteria
-    adjust = {"bh": "Benjamini–Hochberg", "holm": "Holm"}.get(crit.adjust, "no method")
+    tests = result.details["tests"]
     return [
-        f"Direction: one-sided tests of a falling pressure trend (absolute) and a falling "
-        f"intensity trend (relative, i.e. elasticity below 1), Newey–West errors; p-values "
-        f"adjusted across units by {adjust}; level {crit.alpha}.",
+        f"Direction: {tests['direction']}; level {crit.alpha}. {_size_text(result)}",
+        "Recession years (activity below its earlier peak, and the rebound year) are set apart "
+        "by impulse and step dummies; 'recession-driven' marks a decline significant only with "
+        "them counted.",
         f"Duration: longest run of years with falling pressure and growing activity, in the data "
-        f"and on Hodrick–Prescott trends (smoothing {crit.smoothing}); episode from "
-        f"{crit.episode_years}, sustained from {crit.sustained_years} years. Break years are the "
-        "last year of the old regime.",
-        f"Robustness: share of sub-windows of at least {crit.min_window} years in which the claim "
-        "holds; the claim without recession years; the consumption basis.",
-        "Sufficiency: observed annual change of the pressure with its interval against the "
-        "required change (a normative choice, stated in the criteria).",
+        f"and on {tests['smoothing']} trends (a run broken in any year activity fell); episode "
+        f"from {crit.episode_years}, sustained from {crit.sustained_years} years; 'p latest': "
+        f"{tests['latest_regime']}, one-sided. Break years (Bai–Perron, last year of the old "
+        "regime) are reported only and do not enter the grade.",
+        f"Robustness: share of sub-windows in which the claim holds ({tests['subwindows']}); "
+        f"basis gap: {tests['basis_gap']}, in % a year with its interval.",
+        f"Sufficiency: observed annual change of the pressure with its interval "
+        f"({tests['interval']}) against the required change (a normative choice, stated in the "
+        "criteria).",
+        "Span: each unit is graded on its own longest complete span inside the window.",
+        *[f"Warning: {w}" for w in result.warnings],
         "Grades, weakest first: " + "; ".join(f"{rung}: {text}" for rung, text in RUNG_MEANINGS)
         + ".",
     ]
@@ -102,17 +122,20 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "unit": [labels.get(u, u) for u in t["unit"]],
         "pressure": [display_name(p, labels) for p in t["pressure"]],
         "basis": list(t["basis"]),
-        "window": [w.replace("-", "–") for w in t["window"]],
+        "span": [w.replace("-", "–") for w in t["span"]],
         "grade": list(t["rung"]), "flags": list(t["flags"]),
         "p abs. (adj.)": [table_pvalue(p) for p in t["p_absolute_adj"]],
+        "p growth": [table_pvalue(p) for p in t["p_growth"]],
         "p rel. (adj.)": [table_pvalue(p) for p in t["p_relative_adj"]],
         "run (years)": [Number(float(v), 0) for v in t["longest_run"]],
         "run on trends": [Number(float(v), 0) for v in t["smoothed_run"]],
         "duration": list(t["duration"]),
+        "p latest": [table_pvalue(p) for p in t["p_latest_regime"]],
         "latest break": [_break_label(records[(u, pr)]) for u, pr in zip(t["unit"], t["pressure"])],
-        "sub-windows": [f"{100 * s:.0f}%" for s in t["subwindow_share"]],
-        "w/o recessions": [_yes(v) for v in t["survives_recession"]],
+        "sub-windows": ["" if s != s else f"{100 * s:.0f}%" for s in t["subwindow_share"]],
         "consumption basis": list(t["consumption_direction"].fillna("n/a")),
+        "gap %/yr": [_gap(g, lo, hi) for g, lo, hi in zip(t["gap_trend"], t["gap_lower"],
+                                                           t["gap_upper"])],
         "change %/yr": [_pct(v) for v in t["observed_change"]],
         "interval": [_interval(a, b) for a, b in zip(t["observed_change_lower"],
                                                      t["observed_change_upper"])],
@@ -121,10 +144,12 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
     }
     fixed = []
     for name in _MOVABLE:
+        if name not in shown:
+            continue
         values = [v.plain() if isinstance(v, Number) else str(v) for v in shown[name]]
         if len(values) > 1 and len(set(values)) == 1 or (values and all(v == "" for v in values)):
             del shown[name]
-            if values[0] and name not in ("pressure", "window"):
+            if values[0] and name not in ("pressure", "span"):
                 fixed.append(f"{name} {values[0]}")
     caption = title or _caption(shown, t, labels)
     moved = [f"Same on every row: {'; '.join(fixed)}."] if fixed else []
@@ -139,7 +164,7 @@ def _caption(shown: Mapping[str, Any], t: pd.DataFrame, labels: Mapping[str, str
     parts = []
     if "pressure" not in shown and len(t):
         parts.append(display_name(str(t["pressure"].iloc[0]), labels))
-    if "window" not in shown and len(t):
-        parts.append(str(t["window"].iloc[0]).replace("-", "–"))
+    if "span" not in shown and len(t):
+        parts.append(str(t["span"].iloc[0]).replace("-", "–"))
     return "Decoupling grade" + (": " + ", ".join(parts) if parts else "")
 

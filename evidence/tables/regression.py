@@ -104,7 +104,9 @@ def _years(details: Mapping[str, Any]) -> Any:
     low, high, mean = details.get("years_min"), details.get("years_max"), details.get("years_mean")
     if low is not None and low == high:
         return Number(float(low), 0)
-    return "" if mean is None else Number(float(mean), 1)
+    if mean is None:
+        return ""
+    return Number(float(mean), 0 if float(mean).is_integer() else 1)
 
 
 def estimate_columns(estimates: Sequence[Estimate], *, stat: str = "se", digits: int = 3,
@@ -168,7 +170,10 @@ def _errors_notes(estimates: Sequence[Estimate], heads: list[str], stat: str,
     covs = [relabel(est.cov_type, labels) for est in estimates]
     if len(set(covs)) == 1:
         return [f"{word}: {covs[0]}."]
-    return [f"{word}, {head}: {cov}." for head, cov in zip(heads, covs)]
+    groups: dict[str, list[str]] = {}
+    for head, cov in zip(heads, covs):
+        groups.setdefault(cov, []).append(head)
+    return [f"{word}, {' and '.join(who)}: {cov}." for cov, who in groups.items()]
 
 
 def _exclusions(estimates: Sequence[Estimate], heads: list[str]) -> list[str]:

@@ -14,4 +14,5 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     """The panel's audit as a table."""
     notes = data_notes(spec)
     return StepOutput("Audit: data not used",
-                      (TableOut("audit", lambda f: audit_table(panel.audit, f, notes=notes)),))
+                      (TableOut("audit", lambda f: audit_table(panel.audit, f, notes=notes,
+                                                                  labels=spec.labels)),))

@@ -24,7 +24,7 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     title = (f"LMDI-I decomposition of the change in {pressure}, "
              f"{res.window[0]}-{res.window[1]}")
     table = TableOut("decomposition", lambda f: render_frame(
-        res.to_frame("additive"), f, title=title, notes=notes))
+        res.to_frame("additive"), f, title=title, notes=notes, labels=spec.labels))
     figures = ()
     if spec.figures:
         effects = res.to_frame("additive").loc[[res.total_row], list(res.factors)]

@@ -19,5 +19,6 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         logged = derived_name("log", column)
         tests.append(pesaran_cd_test(base.with_log(column, name=logged), logged))
     return StepOutput("Cross-sectional dependence", (TableOut(
-        "dependence", lambda f: test_table(tests, f, title="Pesaran CD test")),),
+        "dependence", lambda f: test_table(tests, f, title="Pesaran CD test",
+                                             labels=spec.labels)),),
         results={"dependence": [t.to_dict() for t in tests]})

@@ -20,12 +20,13 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     for pressure in spec.pressure_columns:
         fits = [elasticity(panel, pressure, spec.activity, estimator=e, window=spec.window)
                 for e in spec.analyses["elasticity"]]
-        tests = [replace(t, test=f"({i}) {t.test}") for i, fit in enumerate(fits, start=1)
+        tests = [replace(t, test=f"{fit.estimator}: {t.test}") for fit in fits
                  for t in decoupling_tests(fit)]
         results[pressure] = [f.to_dict() for f in fits]
         title = f"Elasticity of {pressure} with respect to {spec.activity}"
         tables.append(TableOut(f"elasticity_{safe_name(pressure)}", lambda f, fs=fits, t=title:
-                               regression_table(fs, f, title=t, notes=notes), pressure))
+                               regression_table(fs, f, title=t, notes=notes,
+                                                labels=spec.labels), pressure))
         tables.append(TableOut(f"elasticity_tests_{safe_name(pressure)}", lambda f, ts=tests: test_table(
-            ts, f, title="One-sided decoupling tests"), pressure))
+            ts, f, title="One-sided decoupling tests", labels=spec.labels), pressure))
     return StepOutput("Elasticities", tuple(tables), results={"elasticity": results})

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from dataclasses import fields
 from typing import Any
 
 from evidence.breaks import find_breaks
@@ -19,8 +20,15 @@ SHOWN = 6
 
 
 def criteria(spec: StudySpec) -> Criteria:
-    """The grade's criteria from ``[criteria]``, the study seed and ``[breaks]``."""
-    return Criteria(**{**spec.criteria, "seed": spec.seed,
+    """The grade's criteria from ``[criteria]``, the study seed and ``[breaks]``.
+
+    The study file says ``reps`` (the one vocabulary); it is passed under the name the grade's
+    ``Criteria`` has for its bootstrap replications.
+    """
+    options = dict(spec.criteria)
+    if "reps" in options and "reps" not in {f.name for f in fields(Criteria)}:
+        options["bootstrap_reps"] = options.pop("reps")
+    return Criteria(**{**options, "seed": spec.seed,
                        **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
 
 
@@ -32,7 +40,8 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
     notes = data_notes(spec)
     figures = _unit_figures(panel, spec, res) if spec.figures else ()
     return StepOutput(
-        "Grade", (TableOut("grade", lambda f: grade_table(res, f, notes=notes)),), figures,
+        "Grade", (TableOut("grade", lambda f: grade_table(res, f, notes=notes,
+                                                                  labels=spec.labels)),), figures,
         note="Each axis is reported separately; the grade summarises them and never replaces "
              "them. Figures for every unit are in figures/.",
         results={"grade": res.to_dict()}, value=res)
@@ -56,9 +65,14 @@ def _unit_figures(panel: Panel, spec: StudySpec, res: GradeResult) -> tuple[Figu
         rec = records.get((unit, pressures[0]))
         if rec is not None:
             out.append(FigureOut(f"subwindows_{safe_name(unit)}", lambda u=unit, r=rec: figs.heatmap_figure(
-                r["subwindow_matrix"], list(range(window[0], window[1] + 1)),
+                r["subwindow_matrix"], _span_years(r["span"]),
                 f"{u}: sub-windows where the {r['claim_tested']} claim holds"), source=unit))
     return tuple(out)
+
+
+def _span_years(span: str) -> list[int]:
+    start, end = (int(v) for v in span.split("-"))
+    return list(range(start, end + 1))
 
 
 def _intensity_figure(panel: Panel, unit: str, pressure: str, spec: StudySpec,

@@ -19,5 +19,5 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         res = rates(panel, pressure, spec.activity, window=spec.window)
         results[pressure] = res.to_dict()
         tables.append(TableOut(f"rates_{safe_name(pressure)}",
-                               lambda f, r=res: rates_table(r, f, notes=notes), pressure))
+                               lambda f, r=res: rates_table(r, f, notes=notes, labels=spec.labels), pressure))
     return StepOutput("Decoupling indicators", tuple(tables), results={"rates": results})

@@ -24,5 +24,5 @@ def run(panel: Panel, spec: StudySpec) -> StepOutput:
         title = f"Unit-root battery, log {column} (p-values; decision at 5 %)"
         tables.append(TableOut(f"roots_{safe_name(column)}", lambda f, r=res, t=title: render_frame(
             r.to_frame() if f in ("csv", "json") else r.decision_table(), f, title=t,
-            index=False, notes=notes), column))
+            index=False, notes=notes, labels=spec.labels), column))
     return StepOutput("Unit roots", tuple(tables), results={"roots": results})

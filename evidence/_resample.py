@@ -1,0 +1,160 @@
+"""Resampling the residuals of a panel for a bootstrap that keeps cross-sectional dependence.
+
+A bootstrap that draws whole periods for all units together keeps the dependence between units,
+but it also hands every pair of units the *sample* correlation of their residuals — about
+``±1/sqrt(S)`` with ``S`` periods even when the units are independent. Panel statistics average
+unit statistics that are even functions of the paths, so any correlation, of either sign, makes
+them more alike, and the bootstrap distribution of the average too wide: a Pedroni bootstrap that
+drew whole periods rejected 1–3 % at 5 % nominal on independent units (N = 20, T = 30).
+
+:func:`resample_residuals` splits the residuals instead into common and own parts, as a
+common-correlated-effects regression does (Pesaran 2006): the cross-section means of the residuals
+of every variable are the common shocks ``f_s``; each unit's residual vector is regressed on them,
+``e_is = Λ_i f_s + η_is``. A bootstrap residual is ``Λ_i f_s* + η_i,s_i*``: the periods ``s*`` of
+the common shocks are drawn once for all units (so common shocks stay common), the periods
+``s_i*`` of the own parts independently for each unit (so no spurious correlation is added). The
+variables of one unit always share a period (their correlation, e.g. endogeneity, is kept). Both
+draws use circular blocks of ``block_length`` periods.
+
+References
+----------
+pope1990 : Pope, A. L. (1990). Biases of estimators in multivariate non-Gaussian autoregressions.
+    Journal of Time Series Analysis 11(3), 249–258.
+kilian1998 : Kilian, L. (1998). Small-sample confidence intervals for impulse response functions.
+    Review of Economics and Statistics 80(2), 218–230.
+pesaran2006 : Pesaran, M. H. (2006). Estimation and inference in large heterogeneous panels with a
+    multifactor error structure. Econometrica 74(4), 967–1012.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["draw_periods", "split_common", "resample_residuals", "var_design", "pooled_var",
+           "companion", "largest_root", "bias_corrected", "MAX_ROOT"]
+
+#: A VAR whose companion matrix has a root above this modulus counts as not stationary.
+MAX_ROOT = 0.97
+
+
+def draw_periods(rng: np.random.Generator, shape: tuple[int, ...], length: int, pool: int,
+                 block_length: int = 1) -> np.ndarray:
+    """Period indices ``shape + (length,)`` into a pool of ``pool`` periods, in circular blocks."""
+    n_blocks = -(-length // block_length)
+    starts = rng.integers(0, pool, size=shape + (n_blocks,))
+    idx = (starts[..., None] + np.arange(block_length)) % pool
+    return idx.reshape(shape + (-1,))[..., :length]
+
+
+def split_common(resid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Common shocks ``f`` (S, m), loadings ``Λ`` (N, m, m) and own parts ``η`` (N, S, m).
+
+    ``resid`` (N, S, m) are centred residuals; ``f_s`` is their cross-section mean and every
+    unit's residuals are regressed on ``f`` (no constant). With one unit the split is all own.
+    """
+    n_units, size, m = resid.shape
+    if n_units < 2:
+        return np.zeros((size, m)), np.zeros((n_units, m, m)), resid.copy()
+    common = resid.mean(axis=0)
+    gram = common.T @ common
+    if np.linalg.matrix_rank(gram) < m:
+        return common, np.zeros((n_units, m, m)), resid.copy()
+    loadings = np.swapaxes(np.linalg.solve(gram, common.T @ resid), 1, 2)  # (N, m_eq, m_f)
+    own = resid - np.einsum("nab,sb->nsa", loadings, common)
+    return common, loadings, own
+
+
+def resample_residuals(resid: np.ndarray, rng: np.random.Generator, reps: int, length: int, *,
+                       block_length: int = 1) -> np.ndarray:
+    """``reps`` bootstrap residual paths ``(reps, N, length, m)`` from ``resid`` (N, S, m)."""
+    n_units, size, m = resid.shape
+    common, loadings, own = split_common(resid)
+    shared = draw_periods(rng, (reps,), length, size, block_length)           # (reps, length)
+    solo = draw_periods(rng, (reps, n_units), length, size, block_length)     # (reps, N, length)
+    part_common = np.einsum("nab,rtb->rnta", loadings, common[shared])
+    part_own = own[np.arange(n_units)[None, :, None], solo]                   # (reps, N, length, m)
+    return part_common + part_own
+
+
+def var_design(w: np.ndarray, p: int, first: int) -> tuple[np.ndarray, np.ndarray]:
+    """Targets ``w_t`` and regressors ``(1, w_{t-1}, ..., w_{t-p})`` for ``t = first..``."""
+    n_units, n_obs, m = w.shape
+    target = w[:, first:]
+    parts = [np.ones((n_units, n_obs - first, 1))]
+    for j in range(1, p + 1):
+        parts.append(w[:, first - j:n_obs - j])
+    return target, np.concatenate(parts, axis=2)
+
+def largest_root(lag_blocks: np.ndarray) -> np.ndarray:
+    """Largest modulus of the companion matrix of each unit's VAR (``lag_blocks`` (N, p, m, m))."""
+    n_units, p, m, _ = lag_blocks.shape
+    if p == 0:
+        return np.zeros(n_units)
+    companion = np.zeros((n_units, p * m, p * m))
+    companion[:, :m, :] = np.concatenate([lag_blocks[:, j] for j in range(p)], axis=2)
+    if p > 1:
+        companion[:, m:, :-m] = np.eye((p - 1) * m)
+    return np.abs(np.linalg.eigvals(companion)).max(axis=1)
+
+def companion(lag_blocks: np.ndarray) -> np.ndarray:
+    """Companion matrices (N, p m, p m) of VARs with lag blocks (N, p, m, m)."""
+    n_units, p, m, _ = lag_blocks.shape
+    comp = np.zeros((n_units, p * m, p * m))
+    comp[:, :m, :] = np.concatenate([lag_blocks[:, j] for j in range(p)], axis=2)
+    if p > 1:
+        comp[:, m:, :-m] = np.eye((p - 1) * m)
+    return comp
+
+def bias_corrected(lag_blocks: np.ndarray, sigma: np.ndarray, nobs: int, *,
+                   pooled: bool = False) -> np.ndarray:
+    """Least-squares VAR coefficients less their first-order bias (Pope 1990), kept stationary.
+
+    ``E[Â] − A ≈ −B/T`` with ``B = Σ [(I − A')⁻¹ + A'(I − A'²)⁻¹ + Σ_k λ_k (I − λ_k A')⁻¹] Γ₀⁻¹``
+    in companion form (``λ_k`` the eigenvalues of ``A``, ``Γ₀`` the variance of the state, ``Σ``
+    the innovation covariance padded with zeros). As in Kilian (1998), the correction is scaled
+    down (by steps of 0.01) until the corrected VAR is stationary.
+    """
+    n_units, p, m, _ = lag_blocks.shape
+    a = companion(lag_blocks)
+    dim = p * m
+    eye = np.eye(dim)
+    sig = np.zeros((n_units, dim, dim))
+    sig[:, :m, :m] = sigma
+    kron = np.einsum("nij,nkl->nikjl", a, a).reshape(n_units, dim * dim, dim * dim)
+    gamma0 = np.linalg.solve(np.eye(dim * dim) - kron, sig.reshape(n_units, -1, 1)).reshape(
+        n_units, dim, dim)
+    at = np.swapaxes(a, 1, 2)
+    inner = np.linalg.inv(eye - at)
+    if not pooled:
+        inner = inner + at @ np.linalg.inv(eye - at @ at)
+        roots = np.linalg.eigvals(a)
+        for k in range(dim):
+            lam = roots[:, k][:, None, None]
+            inner = inner + np.real(lam * np.linalg.inv(eye - lam * at))
+    bias = sig @ inner @ np.linalg.pinv(gamma0) / nobs     # E[Â] − A ≈ −bias
+    out = a.copy()
+    for i in range(n_units):
+        for share in np.arange(1.0, -0.001, -0.01):
+            trial = a[i] + share * bias[i]
+            if np.abs(np.linalg.eigvals(trial)).max() < MAX_ROOT:
+                out[i] = trial
+                break
+    return np.stack([out[:, :m, j * m:(j + 1) * m] for j in range(p)], axis=1)
+
+def pooled_var(w: np.ndarray, p: int, first: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """VAR(p) with common lag coefficients and unit intercepts (within estimator).
+
+    Returns the intercepts (N, m), the lag blocks (p, m, m) and the residuals (N, S, m).
+    """
+    target, z = var_design(w, p, first)
+    z = z[:, :, 1:]
+    if p == 0:
+        intercept = target.mean(axis=1)
+        return intercept, np.zeros((0,) + (w.shape[2],) * 2), target - intercept[:, None, :]
+    zm, tm = z.mean(axis=1, keepdims=True), target.mean(axis=1, keepdims=True)
+    zd, td = z - zm, target - tm
+    coef = np.linalg.solve(np.einsum("nsi,nsj->ij", zd, zd), np.einsum("nsi,nsj->ij", zd, td))
+    m = w.shape[2]
+    blocks = np.moveaxis(coef.reshape(p, m, m), 2, 1)
+    intercept = (tm - zm @ coef)[:, 0, :]
+    return intercept, blocks, td - zd @ coef

@@ -1,0 +1,191 @@
+"""Sieve bootstrap of a panel relation under "no cointegration", with periods resampled together.
+
+Under H0 of the residual-based and error-correction tests, ``w_it = (Δy_it, Δx_it')`` is
+stationary. Each unit's ``w`` is approximated by a VAR(p_i) with an intercept (the sieve; Bühlmann
+1997, Chang, Park & Song 2006 for cointegrating regressions), whose order is chosen by an
+information criterion up to ``max_lags``. Bootstrap samples are built from the fitted VARs driven by
+residual vectors resampled by :func:`evidence._resample.resample_residuals` (common shocks drawn by
+whole periods for all units, own shocks unit by unit, circular blocks of ``block_length``), so that
+the bootstrap keeps
+
+* the drift of every series that drifts: regressors that drift change the limit of the
+  residual-based statistics (Hansen 1992), and the bootstrap reproduces the drift the data have.
+  A variable's drifts are kept only when the panel shows drift (:func:`drifts`): the statistics
+  depend on the drift through ``μ √T / σ``, which the sample mean estimates with an error of order
+  one, so a drift estimated where there is none would put a spurious trend into the bootstrap
+  panels (measured: Pedroni's bootstrap rejected 0–2 % at 5 % nominal when every estimated drift
+  was kept);
+* serial correlation of the differences (the VAR lags) and the correlation between the innovations
+  of ``y`` and ``x`` (endogeneity);
+* contemporaneous dependence between units (common shocks; a common stochastic trend enters
+  through the common innovations).
+
+Levels are rebuilt by cumulating ``w*`` from each unit's observed first values. The test's whole
+procedure (lag selection, bandwidth, standardisation) is then applied to each bootstrap panel.
+
+References
+----------
+buhlmann1997 : Bühlmann, P. (1997). Sieve bootstrap for time series. Bernoulli 3(2), 123–148.
+changparksong2006 : Chang, Y., Park, J. Y. & Song, K. (2006). Bootstrapping cointegrating
+    regressions. Journal of Econometrics 133(2), 703–739.
+hansen1992 : Hansen, B. E. (1992). Efficient estimation and testing of cointegrating vectors in the
+    presence of deterministic trends. Journal of Econometrics 53(1–3), 87–121.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+from scipy import stats
+
+from evidence._hac import long_run_variance, newey_west_lags
+from evidence._resample import (
+    MAX_ROOT,
+    bias_corrected,
+    largest_root,
+    pooled_var,
+    resample_residuals,
+    var_design,
+)
+
+__all__ = ["SieveModel", "fit_sieve", "sieve_draws", "drifts", "drift_tstats", "DRIFT_T",
+           "bias_corrected"]
+
+#: Periods simulated and discarded before each bootstrap sample (the VAR starts at its mean).
+BURN = 30
+#: A drift is reproduced when its t-ratio exceeds this in absolute value (5 %, two-sided).
+DRIFT_T = 1.96
+
+
+def drifts(tstats: np.ndarray) -> np.ndarray:
+    """Which variables drift, panel-wide: ``(m,)`` booleans from the unit t-ratios ``(N, m)``.
+
+    A variable drifts when more units have ``|t| > DRIFT_T`` than ``Binomial(N, 0.05)`` gives with
+    probability 1 % (so about 4 of 20 units, 6 of 40); then every unit keeps its own estimated
+    drift, otherwise none does. Deciding unit by unit puts spurious drifts into 5 % of the units,
+    which pooled statistics (Kao, Westerlund's Pt and Pa) magnify: Kao's bootstrap rejected 8–13 %
+    at 5 % nominal with unit-by-unit decisions on panels without drift.
+    """
+    n_units = tstats.shape[0]
+    count = np.sum(np.abs(tstats) > DRIFT_T, axis=0)
+    cutoff = int(stats.binom.isf(0.01, n_units, 0.05)) + 1    # smallest c with P(X >= c) <= 1 %
+    return count >= cutoff
+
+
+def drift_tstats(w: np.ndarray) -> np.ndarray:
+    """t-ratios of the means of ``w`` (N, T, m) with Newey–West long-run variances: (N, m).
+
+    Used to describe the data (``details["drift"]``); the bootstrap's own decision uses the
+    long-run variance implied by its fitted VAR, which a Newey–West bandwidth of 3 underestimates
+    with autocorrelated differences at T = 30 (then drift is "found" in 20 % of driftless units).
+    """
+    n_units, n_obs, m = w.shape
+    flat = np.moveaxis(w, 1, 0).reshape(n_obs, n_units * m)
+    lrv = long_run_variance(flat, newey_west_lags(n_obs), demean=True).reshape(n_units, m)
+    return w.mean(axis=1) / np.sqrt(np.maximum(lrv, 1e-300) / n_obs)
+
+
+@dataclass(frozen=True, eq=False)
+class SieveModel:
+    """Each unit's VAR for ``w = (Δy, Δx')``: ``w_t = c + Σ_j A_j w_{t-j} + ε_t``.
+
+    ``intercept`` (N, m); ``lags`` (N, P, m, m) with ``lags[i, j-1]`` = ``A_j`` of unit i (zero
+    beyond its order); ``order`` (N,); ``resid`` (N, S, m) the centred residuals of the common
+    sample of ``S`` periods; ``start`` (N, m) the observed first levels; ``mean`` (N, m) the
+    stationary mean of ``w``; ``n_years`` the length of the level series.
+    """
+
+    intercept: np.ndarray
+    lags: np.ndarray
+    order: np.ndarray
+    resid: np.ndarray
+    start: np.ndarray
+    mean: np.ndarray
+    n_years: int
+
+    @property
+    def n_units(self) -> int:
+        return int(self.intercept.shape[0])
+
+
+def _fit(w: np.ndarray, p: int, first: int) -> tuple[np.ndarray, np.ndarray]:
+    """Least squares of every equation of every unit: coefficients (N, 1 + p m, m), residuals."""
+    target, z = var_design(w, p, first)
+    gram = np.swapaxes(z, 1, 2) @ z
+    coef = np.linalg.solve(gram, np.swapaxes(z, 1, 2) @ target)
+    return coef, target - z @ coef
+
+
+def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
+    """The null model of ``w = (Δy, Δx')``: one VAR for all units, unit intercepts, bias-corrected.
+
+    ``y`` (N, T), ``x`` (N, T, k). The order ``p`` in ``0..max_lags`` minimises the sum over
+    units of each unit's AIC on the common sample (the periods after the first ``max_lags``). The
+    lag coefficients are pooled over units (within estimator) and their first-order bias removed
+    (:func:`bias_corrected` with ``pooled=True``); each unit keeps its own residuals, centred, and
+    its drift where the drift is significant (``|t| > DRIFT_T``).
+
+    Why one order for all units, pooled and bias-corrected: the non-parametric statistics (Pedroni's v, rho and PP)
+    move a lot with the autoregressive coefficient of the differences at T = 30. Measured at
+    N = 20, T = 30, AR(0.5) differences, drifting ``x`` (300 draws each): unit-by-unit VARs chosen
+    by AIC rejected 0–1 % at 5 % nominal (their small-sample bias and noise), pooled VARs without
+    the bias correction 1–3 %, pooled with the per-series (Pope) correction up to 15 %, pooled
+    with the within-estimator correction 2–7 %. The summed BIC chose no lags for 15 % of such
+    panels (then Kao's bootstrap rejected 10–18 %); the summed AIC does not miss them and still
+    chooses no lags on independent random walks.
+    """
+    w = np.concatenate([np.diff(y, axis=1)[:, :, None], np.diff(x, axis=1)], axis=2)
+    n_units, n_obs, m = w.shape
+    max_lags = int(max(0, min(max_lags, (n_obs - 1 - m) // (m + 1) - 1)))
+    first = max_lags
+    size = n_obs - first
+    scores = []
+    for p in range(max_lags + 1):
+        coef, resid = _fit(w, p, first)
+        sigma = np.swapaxes(resid, 1, 2) @ resid / size
+        sign, logdet = np.linalg.slogdet(sigma)
+        lag_blocks = np.moveaxis(coef[:, 1:, :].reshape(n_units, p, m, m), 3, 2)
+        ok = (sign > 0) & (largest_root(lag_blocks) < MAX_ROOT)
+        scores.append(np.sum(np.where(ok, logdet + 2.0 * (m * m * p + m) / size, np.inf)))
+    order = int(np.argmin(scores))
+    lags = np.zeros((n_units, max(order, 1), m, m))
+    _, blocks, resid = pooled_var(w, order, first)
+    resid = resid - resid.mean(axis=1, keepdims=True)
+    if order:
+        sigma = np.einsum("nsi,nsj->ij", resid, resid)[None] / (n_units * size)
+        lags[:, :order] = bias_corrected(blocks[None], sigma, size, pooled=True)
+    total = np.eye(m) - lags.sum(axis=1)
+    mean = w[:, first:].mean(axis=1)
+    # t-ratios of the drifts with the VAR's long-run variance (I - ΣA)^-1 Σ_i (I - ΣA)^-T
+    inv = np.linalg.inv(total)
+    sigma_i = np.swapaxes(resid, 1, 2) @ resid / size
+    lrv = np.diagonal(inv @ sigma_i @ np.swapaxes(inv, 1, 2), axis1=1, axis2=2)
+    mean = np.where(drifts(mean / np.sqrt(np.maximum(lrv, 1e-300) / size)), mean, 0.0)
+    intercept = (total @ mean[..., None])[..., 0]
+    order_all = np.full(n_units, order)
+    start = np.concatenate([y[:, :1], x[:, 0, :]], axis=1)
+    return SieveModel(intercept=intercept, lags=lags, order=order_all, resid=resid, start=start,
+                      mean=mean, n_years=int(y.shape[1]))
+
+
+def sieve_draws(model: SieveModel, rng: np.random.Generator, reps: int, *,
+                block_length: int = 1) -> tuple[np.ndarray, np.ndarray]:
+    """``reps`` bootstrap panels: ``y*`` (reps, N, T) and ``x*`` (reps, N, T, k)."""
+    n_units, m = model.intercept.shape
+    n_diff = model.n_years - 1
+    steps = BURN + n_diff
+    shocks = resample_residuals(model.resid, rng, reps, steps, block_length=block_length)
+    n_lags = model.lags.shape[1]
+    stacked = np.concatenate([model.lags[:, j] for j in range(n_lags)], axis=2)  # (N, m, P m)
+    w = np.empty((reps, n_units, steps, m))
+    history = np.broadcast_to(np.tile(model.mean, n_lags), (reps, n_units, n_lags * m)).copy()
+    for t in range(steps):  # history holds w_{t-1}, ..., w_{t-P}, most recent first
+        value = model.intercept + shocks[:, :, t, :] + (stacked @ history[..., None])[..., 0]
+        w[:, :, t, :] = value
+        history[..., m:] = history[..., :-m]
+        history[..., :m] = value
+    w = w[:, :, BURN:, :]
+    levels = np.concatenate([np.broadcast_to(model.start[None, :, None, :], (reps, n_units, 1, m)),
+                             w], axis=2).cumsum(axis=2)
+    return levels[..., 0], levels[..., 1:]
