@@ -123,3 +123,40 @@ def test_ar1_coefficient_by_hand():
     x = np.array([1.0, 3.0, 2.0, 5.0, 4.0])
     d = x - x.mean()
     assert_allclose(ar1_coefficient(x[:, None])[0], (d[1:] @ d[:-1]) / (d[:-1] @ d[:-1]))
+
+
+def test_llc_and_breitung_nulls_are_standard_normal_for_large_t():
+    """LLC (2002), Theorem / Table 2: the adjusted t*_δ → N(0, 1) under independent random walks;
+    Breitung (2000): λ → N(0, 1). Our simulated nulls at N = 25, T = 100 (400 panels, no lags)
+    have mean within 0.2 and s.d. within 0.2 of the standard normal (Monte Carlo s.e. 0.05)."""
+    bandwidth = round(3.21 * 100 ** (1 / 3))
+    for name, options in (("llc", {"lags": 0, "max_lags": 0, "hac_lags": bandwidth}),
+                          ("breitung", {"lags": 0, "max_lags": 0})):
+        draws = panel_null(name, 25, 100, "constant", options, reps=400, seed=3,
+                           grid=(0.0,)).draws[0]
+        assert abs(draws.mean()) < 0.2 and abs(draws.std() - 1) < 0.2, (name, draws.mean(),
+                                                                       draws.std())
+
+
+def test_kpss_moments_approach_hadris_asymptotic_moments():
+    # Hadri (2000), eqs. (14) and (22): ξ = 1/6, ζ² = 1/45 (constant); ξ = 1/15, ζ² = 11/6300
+    # (trend). Our simulated KPSS moments with white noise, T = 200, no bandwidth: the mean within
+    # 0.01 (Monte Carlo s.e. about 0.002), the variance within 15 % (finite T and 4000 draws).
+    for trend, xi, zeta2 in (("constant", 1 / 6, 1 / 45), ("trend", 1 / 15, 11 / 6300)):
+        m, v = unit_null("kpss", 200, trend, hac_lags=0).moments(np.array([0.0]))
+        assert m[0] == pytest.approx(xi, abs=0.01) and v[0] == pytest.approx(zeta2, rel=0.15)
+
+
+def test_fisher_pp_path_caps_units_too():
+    """Issue 13: the same clip on the Phillips–Perron path. An explosive unit's Z-tau lies above
+    MacKinnon's table (arch's tau_max for a constant, 2.74): capped, its p-value is arch's upper
+    bound instead of 1, and Choi's Z stays finite."""
+    from arch.unitroot.critical_values.dickey_fuller import tau_max
+
+    rng = np.random.default_rng(8)
+    y = np.cumsum(rng.standard_normal((30, 6)), axis=0)
+    y[:, 0] = 1.15 ** np.arange(30) + rng.standard_normal(30) * 0.01     # explosive unit
+    res = ev.fisher_test(Panel.from_arrays({"y": y}), "y", unit_test="pp", inference="asymptotic")
+    assert res.details["unit_statistics"]["u001"] > tau_max["c"][0]
+    assert res.details["capped_units"] >= 1
+    assert 0.99 < res.details["unit_pvalues"]["u001"] < 1 and math.isfinite(res.statistic)

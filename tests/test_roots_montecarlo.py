@@ -10,10 +10,12 @@ from __future__ import annotations
 import json
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from evidence._montecarlo import rejection_rates
 from evidence._size_card import size_card, size_note
+from evidence.panel import Panel
 from evidence.roots import dependence, panel as panel_tests, series
 
 CARD = Path(__file__).resolve().parents[1] / "evidence" / "_sizes" / "roots.json"
@@ -54,33 +56,97 @@ def _cips(data):
 
 
 # ------------------------------------------------------------------------------ the card
+#: The card's names of the tests at their defaults (``inference="simulated"``; Fisher: ADF unit
+#: tests combined by Choi's Z; CIPS*: truncated, one lag; dependence tests prewhitened).
+DEFAULTS = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "IPS W-tbar", "Fisher-ADF (Choi Z)",
+            "LLC", "Breitung", "Hadri (robust)", "CIPS*", "Pesaran CD", "Breusch-Pagan LM",
+            "Pesaran scaled LM", "Baltagi-Feng-Kao bias-corrected LM")
+
+
+def _card():
+    return json.loads(CARD.read_text(encoding="utf-8"))
+
+
 def test_card_defaults_hold_their_size():
-    """Every default (simulated) p-value of the card lies in the band under every null process,
-    at N = 20 and T = 30 and 40; each test has power figures beside its sizes."""
-    card = json.loads(CARD.read_text(encoding="utf-8"))
+    """Every default of the card lies in the band under every null process, at N = 20 and
+    T = 30 and 40, and has power figures beside its sizes (issue 13)."""
+    card = _card()
     assert card["family"] == "roots" and card["generated_by"].startswith("python -m")
-    defaults = [e for e in card["entries"] if e["options"].startswith("inference=simulated")]
+    defaults = [e for e in card["entries"] if e["test"] in DEFAULTS
+                and e["options"].startswith("inference=simulated")]
     nulls = [e for e in defaults if e["hypothesis"] == "null"]
     assert {e["n_years"] for e in nulls} == {30, 40} and {e["n_units"] for e in nulls} >= {20}
     outside = [(e["test"], e["options"], e["dgp"], e["n_years"], e["rejection"]) for e in nulls
                if not BAND[0] <= e["rejection"] <= BAND[1]]
-    # Fisher-PP is a non-default unit test: it may be conservative, and says so (see below)
-    assert [o for o in outside if not o[0].startswith("Fisher-PP")] == []
-    tests = {e["test"] for e in nulls}
+    assert outside == []
+    assert {e["test"] for e in nulls} == set(DEFAULTS)
     powered = {e["test"] for e in defaults if e["hypothesis"] == "alternative"}
-    assert tests <= powered
-    for name in ("ADF", "KPSS", "IPS W-tbar", "Fisher-ADF (Maddala-Wu P)", "LLC", "Breitung",
-                 "Hadri (robust)", "CIPS*", "Pesaran CD", "Breusch-Pagan LM",
-                 "Baltagi-Feng-Kao bias-corrected LM"):
-        assert name in tests, name
+    assert powered == set(DEFAULTS)
+    # the processes of issue 13: with and without drift, iid and AR errors, a common factor for
+    # CIPS, persistent independent series for the dependence tests
+    processes = {(e["test"], e["dgp"]) for e in nulls}
+    for name in ("IPS W-tbar", "LLC", "CIPS*"):
+        for dgp in ("random walks, white-noise increments", "random walks, AR(0.5) increments",
+                    "drifting random walks, white-noise increments",
+                    "drifting random walks, AR(0.5) increments"):
+            assert (name, dgp) in processes
+    assert ("CIPS*", "random walks, common factor and AR(0.5) increments") in processes
+    for dgp in ("independent AR(0.8)", "independent random walks"):
+        assert ("Pesaran CD", dgp) in processes
+    for dgp in ("AR(0.5)", "AR(0.5) around a trend"):
+        assert ("Hadri (robust)", dgp) in processes
+
+
+def test_every_option_on_the_card_has_power_or_says_its_size():
+    """Non-default options (Fisher's other combinations and the PP path, asymptotic inference,
+    the break tests) either hold the band or their results say they do not, with the figure."""
+    card = _card()
+    for e in card["entries"]:
+        if e["hypothesis"] != "null":
+            continue
+        note = size_note(e["test"], e["n_units"], e["n_years"], options=e["options"])
+        assert note["controlled"] == all(
+            BAND[0] <= r["rejection"] <= BAND[1] for r in card["entries"]
+            if r["test"] == e["test"] and r["options"] == e["options"]
+            and r["n_years"] == e["n_years"] and r["hypothesis"] == "null")
+
+
+def test_uncontrolled_options_say_so_with_the_measured_figure():
+    rng = np.random.default_rng(5)
+    panel = Panel.from_arrays({"y": np.cumsum(rng.standard_normal((30, 20)), axis=0)})
+    for unit_test in ("adf", "pp"):
+        for combine in ("z", "p", "pm", "l"):
+            for inference in ("simulated", "asymptotic"):
+                res = panel_tests.fisher_test(panel, "y", unit_test=unit_test, combine=combine,
+                                              inference=inference)
+                note = res.details["size"]
+                assert note and note["n_years"] == 30
+                said = [w for w in res.warnings if "not controlled" in w]
+                if note["controlled"]:
+                    assert said == []
+                else:
+                    assert f"{100 * note['measured']:.1f} %" in said[0]
+                    assert f"{100 * note['measured']:.1f} %" in res.summary()
+    asym = size_note("Fisher-ADF (Choi Pm)", 20, 30, options="inference=asymptotic; trend=constant")
+    assert not asym["controlled"] and asym["measured"] > 0.075
+    za = series.za_test(panel.series(panel.units[0], "y"))
+    assert za.details["size"]["n_years"] == 30
 
 
 def test_results_carry_the_size_they_were_measured_with():
     note = size_note("IPS W-tbar", 20, 30, options="inference=simulated; trend=constant")
     assert note["controlled"] and note["n_years"] == 30
-    asym = size_note("Fisher-ADF (Choi Z)", 20, 30, options="inference=asymptotic; trend=constant")
-    assert not asym["controlled"] and asym["measured"] > 0.075
     assert not size_card("LLC").empty
+    rng = np.random.default_rng(6)
+    panel = Panel.from_arrays({"y": np.cumsum(rng.standard_normal((40, 20)), axis=0)})
+    for res in (panel_tests.ips_test(panel, "y"), panel_tests.llc_test(panel, "y"),
+                panel_tests.breitung_test(panel, "y"), panel_tests.hadri_test(panel, "y"),
+                panel_tests.cips_test(panel, "y"), panel_tests.fisher_test(panel, "y"),
+                dependence.pesaran_cd_test(panel, "y"), dependence.lm_test(panel, "y"),
+                dependence.scaled_lm_test(panel, "y"),
+                dependence.bias_corrected_lm_test(panel, "y"),
+                series.adf_test(panel.series(panel.units[0], "y"))):
+        assert res.details["size"]["n_years"] == 40 and res.details["size"]["controlled"], res.test
 
 
 # ------------------------------------------------------------------------- fast subset
@@ -94,6 +160,16 @@ def test_default_sizes_fast_subset():
                             params={"rho": 0.5})
     for name in ("IPS", "Fisher P", "LLC", "Breitung"):
         assert power[name]["rejection"] >= 0.8, (name, power[name])
+
+
+def test_stationarity_and_dependence_sizes_fast_subset():
+    # issue 13 measured Hadri (no bandwidth) at 100 % under AR(0.5) and CD on random walks at
+    # 44 %: a gross failure of either shows in 40 panels (a 5 % test rejects more than 8 of 40
+    # with probability below 0.1 %)
+    stat = rejection_rates(_stationary, "ar", 20, 30, reps=40, seed=103, params={"rho": 0.5})
+    assert stat["Hadri"]["rejection"] <= 0.2 and stat["KPSS"]["rejection"] <= 0.2, stat
+    dep = rejection_rates(_dependence, "unit_root", 20, 30, reps=40, seed=104)
+    assert all(rate["rejection"] <= 0.2 for rate in dep.values()), dep
 
 
 # ------------------------------------------------------------------------- slow checks

@@ -18,14 +18,10 @@ from evidence.roots import (
     root_battery,
     scaled_lm_test,
 )
-from evidence.roots.battery import DECISION_RULE, PANEL_TESTS, SERIES_TESTS
+from evidence.roots.battery import CELLS, DECISION_RULE, PANEL_TESTS, SERIES_TESTS
 from evidence.tables import render_frame
 
 __all__ = ["command"]
-
-_CELLS = ("Cells are p-values ('reject'/'no reject' for tests without one; 'n/a' when a test "
-          "could not run, with the reason in the notes column). P-values are simulated for each "
-          "series' own length (docs/methods/roots.md); measured sizes in docs/methods/size.md.")
 
 
 def _parse_tests(text: str | None) -> tuple[str, ...] | None:
@@ -100,7 +96,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     result = root_battery(panel, column, tests=_parse_tests(tests), trend=trend.lower(),
                           lags=_parse_lags(lags), max_lags=max_lags, alpha=alpha,
                           differences=differences)
-    notes = [DECISION_RULE, _CELLS] + [f"not run: {r.unit} {r.column} {r.years}: {r.reason}"
+    notes = [DECISION_RULE, CELLS] + [f"not run: {r.unit} {r.column} {r.years}: {r.reason}"
                                        for r in result.excluded.itertuples()] + [CAUTION]
     frame = result.to_frame() if fmt in ("csv", "json") else result.decision_table()
     emit(render_frame(frame, fmt, title=f"Unit-root battery: {column} (levels with "

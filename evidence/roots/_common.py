@@ -132,17 +132,28 @@ def card_options(inference: str, trend: str) -> str:
     return f"inference={inference}; trend={trend}"
 
 
+def _where(note: dict[str, Any]) -> str:
+    n_units = note.get("n_units")
+    return (f"N={n_units}, " if n_units and n_units > 1 else "") + f"T={note['n_years']}"
+
+
 def size_details(test: str, n_units: int | None, n_years: int, inference: str,
-                 trend: str = "constant") -> tuple[dict[str, Any], list[str]]:
+                 trend: str = "constant", *, options: str | None = None
+                 ) -> tuple[dict[str, Any], list[str]]:
     """The size card's note for a result (``details["size"]``) and, when the card measured this
-    option outside the controlled band, a warning with the figure."""
+    option outside the controlled band, a warning with the figure.
+
+    ``options`` replaces the card's label built from ``inference`` and ``trend`` (for tests
+    without an ``inference`` option, e.g. ``"model=level"``)."""
     from evidence._size_card import size_note
 
-    note = size_note(test, n_units, n_years, options=card_options(inference, trend))
+    label = card_options(inference, trend) if options is None else options
+    note = size_note(test, n_units, n_years, options=label)
     warn = []
     if note and not note.get("controlled", True):
-        warn.append(f"the size of {test} with inference='{inference}' is not controlled: it "
+        what = f"inference='{inference}'" if options is None else options.replace("; ", ", ")
+        warn.append(f"the size of {test} with {what} is not controlled: it "
                     f"rejected {100 * note['measured']:.1f} % of the time at 5 % nominal "
-                    f"({note['process']}, N={note['n_units']}, T={note['n_years']}; see "
+                    f"({note['process']}, {_where(note)}; see "
                     "docs/methods/size.md).")
     return note, warn

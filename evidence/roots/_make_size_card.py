@@ -12,7 +12,10 @@ under one data-generating process of :mod:`evidence._montecarlo`, for N = 20 uni
 * alternatives (power) — stationary AR(0.8) (around a trend for "trend") against a unit root;
   random walks against stationarity; a common factor against independence.
 
-Single-series tests are applied to the first unit of each panel. The fast non-default options
+Single-series tests are applied to the first unit of each panel; Zivot–Andrews and
+Lee–Strazicich (one break) with the model the battery uses (level for trend "constant", level and
+trend for "trend"), which have one inference only (arch's simulated asymptotic quantiles; the
+T = 100 tables), are run with the defaults' draws. The fast non-default options
 (``inference="asymptotic"``, unfiltered dependence tests) are measured on half as many panels, under
 the nulls only (their size is what their results report).
 """
@@ -35,7 +38,7 @@ from evidence.panel import Panel
 from evidence.roots import dependence, panel as panel_tests, series
 from evidence.roots._common import card_options
 
-__all__ = ["CELLS", "make_card", "markdown", "main"]
+__all__ = ["CELLS", "make_card", "markdown", "summary_table", "main"]
 
 SEED = 20261202
 #: Panels per null process relative to ``--reps``: the cheap groups get more, for a smaller s.e.
@@ -113,7 +116,10 @@ def _unit_root_tests(data: Panel, trend: str, column: str, inference: str) -> di
             fisher.details["combinations"][code]["pvalue"]
     pp = panel_tests.fisher_test(data, column, trend=trend, unit_test="pp",
                                  inference=inference)
-    out[_key("Fisher-PP (Maddala-Wu P)", inference, trend)] = pp.pvalue
+    for code, name in (("p", "Maddala-Wu P"), ("z", "Choi Z"), ("pm", "Choi Pm"),
+                       ("l", "Choi L*")):
+        out[_key(f"Fisher-PP ({name})", inference, trend)] = \
+            pp.details["combinations"][code]["pvalue"]
     out[_key("LLC", inference, trend)] = panel_tests.llc_test(
         data, column, trend=trend, inference=inference).pvalue
     out[_key("Breitung", inference, trend)] = panel_tests.breitung_test(
@@ -125,7 +131,20 @@ def _unit_root_tests(data: Panel, trend: str, column: str, inference: str) -> di
                            ("DF-GLS", series.dfgls_test)):
             out[_key(name, inference, trend) + f"#{k}"] = func(y, trend=trend,
                                                                inference=inference).pvalue
+        if inference == "simulated":     # the break tests have one inference: run them once
+            out.update(_break_tests(y, trend, k))
     return out
+
+
+def _break_tests(y: Any, trend: str, k: int) -> dict[str, float]:
+    """Zivot–Andrews and Lee–Strazicich (one break) with the model the battery uses for
+    ``trend``; Lee–Strazicich has no p-value, so its draw is 0 (reject at 5 %) or 1."""
+    model = "both" if trend == "trend" else "level"
+    za = series.za_test(y, model=model)
+    ls = series.lee_strazicich_test(y, model=model)
+    return {f"Zivot-Andrews|model={model}#{k}": za.pvalue,
+            f"Lee-Strazicich|model={model}; n_breaks=1#{k}":
+                0.0 if ls.statistic < ls.critical_values[0.05] else 1.0}
 
 
 def _cips(data: Panel, trend: str, column: str, inference: str = "simulated") -> dict[str, float]:
@@ -186,7 +205,8 @@ def make_card(*, reps: int, power_reps: int, years: tuple[int, ...] = YEARS,
             params=dict(cell.params))
         for key, rate in sorted(rates.items()):
             test, options = key.split("|")
-            single = test in ("ADF", "Phillips-Perron", "DF-GLS", "KPSS")
+            single = test in ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews",
+                              "Lee-Strazicich")
             entries.append({"test": test, "options": options, "dgp": cell.label,
                             "hypothesis": cell.hypothesis,
                             "n_units": 1 if single else N_UNITS, "n_years": n_years,
@@ -205,25 +225,70 @@ def make_card(*, reps: int, power_reps: int, years: tuple[int, ...] = YEARS,
             "entries": entries}
 
 
-_ORDER = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "IPS W-tbar", "Fisher-ADF (Maddala-Wu P)",
-          "Fisher-ADF (Choi Z)", "Fisher-ADF (Choi Pm)", "Fisher-ADF (Choi L*)",
-          "Fisher-PP (Maddala-Wu P)", "LLC", "Breitung", "Hadri (robust)", "CIPS*", "Pesaran CD",
+_ORDER = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews", "Lee-Strazicich",
+          "IPS W-tbar", "Fisher-ADF (Choi Z)", "Fisher-ADF (Maddala-Wu P)",
+          "Fisher-ADF (Choi Pm)", "Fisher-ADF (Choi L*)", "Fisher-PP (Choi Z)",
+          "Fisher-PP (Maddala-Wu P)", "Fisher-PP (Choi Pm)", "Fisher-PP (Choi L*)", "LLC", "Breitung", "Hadri (robust)", "CIPS*", "Pesaran CD",
           "Breusch-Pagan LM", "Pesaran scaled LM", "Baltagi-Feng-Kao bias-corrected LM")
 
 
-def markdown(card: dict[str, Any]) -> str:
-    """The card as Markdown tables (test × process × T → rejection %), sizes then power."""
+def _options_label(options: str) -> str:
+    return options.replace("inference=", "").replace("; trend=", ", ").replace("; ", ", ")
+
+
+def _pct(value: float) -> str:
+    text = f"{100 * value:.1f}"
+    return text if 0.03 <= value <= 0.075 else f"**{text}**"
+
+
+def summary_table(card: dict[str, Any]) -> str:
+    """One row per test and options: the range of its sizes over the null processes and its power
+    against the alternative, at each T (bold: a size outside [3 %, 7.5 %])."""
     entries = card["entries"]
-    lines = []
+    years = sorted({e["n_years"] for e in entries})
+    groups: dict[tuple[str, str], list[dict[str, Any]]] = {}
+    for e in entries:
+        groups.setdefault((e["test"], e["options"]), []).append(e)
+    rank = {name: i for i, name in enumerate(_ORDER)}
+    head = ("| test | inference, trend | " + " | ".join(f"size T = {t}" for t in years) + " | "
+            + " | ".join(f"power T = {t}" for t in years) + " | alternative |")
+    lines = [head, "|---|---|" + "---|" * (2 * len(years) + 1)]
+
+    def order(key: tuple[str, str]) -> tuple[int, str, int, str]:
+        base = key[0].replace(" (unfiltered)", "")
+        return (rank.get(base, len(rank)), key[0], 0 if "simulated" in key[1] else 1, key[1])
+
+    for key in sorted(groups, key=order):
+        rows = groups[key]
+        sizes, powers = [], []
+        for t in years:
+            null = [r["rejection"] for r in rows if r["n_years"] == t and r["hypothesis"] == "null"]
+            alt = [r["rejection"] for r in rows if r["n_years"] == t
+                   and r["hypothesis"] == "alternative"]
+            sizes.append("" if not null else _pct(min(null)) if min(null) == max(null) else
+                         f"{_pct(min(null))}–{_pct(max(null))}")
+            powers.append(f"{100 * alt[0]:.1f}" if alt else "—")
+        alternative = next((r["dgp"] for r in rows if r["hypothesis"] == "alternative"), "—")
+        lines.append(f"| {key[0]} | {_options_label(key[1])} | " + " | ".join(sizes) + " | "
+                     + " | ".join(powers) + f" | {alternative} |")
+    return "\n".join(lines) + "\n"
+
+
+def markdown(card: dict[str, Any]) -> str:
+    """The card as Markdown: the summary (:func:`summary_table`), then test × process × T →
+    rejection %, sizes then power."""
+    entries = card["entries"]
+    lines = ["**Summary**: range of the size over the null processes (bold outside [3 %, 7.5 %]) "
+             "and power, in %, N = 20:", "", summary_table(card)]
     for hypothesis, title in (("null", "Size (5 % nominal; rejection rate under H0)"),
                               ("alternative", "Power (rejection rate at 5 % under the alternative)")):
         rows: dict[tuple[str, str, str], dict[int, str]] = {}
         for e in entries:
             if e["hypothesis"] != hypothesis:
                 continue
-            options = e["options"].replace("inference=", "").replace("; trend=", ", ")
-            key = (e["test"], options, e["dgp"])
-            rows.setdefault(key, {})[e["n_years"]] = f"{100 * e['rejection']:.1f}"
+            key = (e["test"], _options_label(e["options"]), e["dgp"])
+            rows.setdefault(key, {})[e["n_years"]] = (_pct(e["rejection"]) if hypothesis == "null"
+                                                      else f"{100 * e['rejection']:.1f}")
         if not rows:
             continue
         years = sorted({e["n_years"] for e in entries})

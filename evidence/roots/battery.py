@@ -50,7 +50,7 @@ from evidence.roots import panel as panel_tests
 from evidence.roots import series as series_tests
 
 __all__ = ["root_battery", "RootBatteryResult", "SERIES_TESTS", "PANEL_TESTS", "STATIONARITY_NULL",
-           "DECISION_RULE"]
+           "DECISION_RULE", "CELLS"]
 
 SERIES_TESTS = ("adf", "pp", "kpss", "dfgls", "za", "ls")
 PANEL_TESTS = ("ips", "llc", "fisher", "breitung", "hadri", "cips")
@@ -66,6 +66,15 @@ DECISION_RULE = (
     "non-stationary when no unit-root test rejects (a stationarity test that rejects confirms it). "
     "I(0): levels stationary. I(1): levels non-stationary, differences stationary. Otherwise "
     "inconclusive. Tests that could not run are left out (n/a, with the reason in notes).")
+
+
+#: What the cells of :meth:`RootBatteryResult.decision_table` mean, printed under every table.
+CELLS = (
+    "Cells: p-values (simulated for each series' own length; docs/methods/roots.md), 'reject' / "
+    "'no reject' for a test without one (Lee-Strazicich, at alpha). 'n/a': the test could not "
+    "run or apply; the notes column says why. Empty: the test does not belong to the row (unit "
+    "tests fill the units' rows, panel tests the (panel) row). Measured sizes: "
+    "docs/methods/size.md.")
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -99,7 +108,10 @@ class RootBatteryResult(ResultProtocol):
 
     def decision_table(self) -> pd.DataFrame:
         """One row per unit: each test's p-value in levels (and differences), the decision, its
-        reason and notes for the cells that read ``n/a``."""
+        reason and notes for the cells that read ``n/a``.
+
+        A cell is empty where the test does not belong to the row (see :data:`CELLS`): a panel
+        test on a unit's row, a unit test on the ``(panel)`` row."""
         t = self.table.copy()
         t["cell"] = [format_pvalue(p) if not math.isnan(p) else
                      ("reject" if r is True else "no reject" if r is False else "n/a")
@@ -112,7 +124,9 @@ class RootBatteryResult(ResultProtocol):
         notes: dict[str, list[str]] = {}
         for unit, key, note in t.loc[t["cell"] == "n/a", ["unit", "key", "note"]].itertuples(index=False):
             notes.setdefault(unit, []).append(f"{key}: {note}")
-        out = wide.merge(self.decisions, on="unit", how="left").fillna("n/a")
+        out = wide.merge(self.decisions, on="unit", how="left")
+        out[order] = out[order].fillna("")      # a unit test on the (panel) row, a panel test on a unit
+        out = out.fillna("n/a")
         out["notes"] = ["; ".join(notes.get(u, [])) for u in out["unit"]]
         return out
 
@@ -123,6 +137,7 @@ class RootBatteryResult(ResultProtocol):
         for label, n in self.decisions["decision"].value_counts().sort_index().items():
             lines.append(f"  {label}: {n}")
         lines.append(f"  rule: {DECISION_RULE}")
+        lines.append(f"  {CELLS}")
         lines += [f"  left out: {r.unit} {r.column} {r.years} ({r.reason})"
                   for r in self.excluded.itertuples()]
         lines += [f"  warning: {w}" for w in self.warnings]
@@ -344,5 +359,6 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
                              alpha=alpha, differences=differences, warnings=tuple(warn),
                              details={"difference_trend": diff_trend, "lags": lags,
                                       "max_lags": max_lags, "decision_rule": DECISION_RULE,
+                                      "cells": CELLS,
                                       "trend_rule": "levels: constant and trend by default (trending "
                                       "series); differences: a constant"})

@@ -222,17 +222,19 @@ def _mackinnon_pvalues(stat: np.ndarray, trend: str) -> tuple[np.ndarray, int]:
     return np.array([mackinnonp(float(s), code) for s in clipped]), capped
 
 
-def fisher_test(panel: Panel, column: str, *, combine: str = "p", unit_test: str = "adf",
+def fisher_test(panel: Panel, column: str, *, combine: str = "z", unit_test: str = "adf",
                 trend: Trend = "constant", lags: int | str = "aic", max_lags: int | None = None,
                 hac_lags: int | None = None, inference: str = "simulated") -> TestResult:
     """Fisher-type test combining the units' unit-root p-values (unbalanced allowed).
 
     Parameters
     ----------
-    combine : {"p", "z", "pm", "l"}
-        The reported statistic: Maddala–Wu P (χ²(2N), exact for independent uniform p-values,
-        the default), Choi's inverse normal Z, Choi's modified Pm (for large N) or Choi's logit
-        L*. All four are in ``details["combinations"]``.
+    combine : {"z", "p", "pm", "l"}
+        The reported statistic: Choi's inverse normal Z (the default: Choi 2001 recommends it, and
+        with simulated unit p-values its size is the best centred on 5 % at N = 20, T = 30–40),
+        Maddala–Wu P (χ²(2N); the most sensitive to the lower tail of the unit p-values, slightly
+        conservative here), Choi's modified Pm (for large N) or Choi's logit L*. All four are in
+        ``details["combinations"]``.
     unit_test : {"adf", "pp"}
         Unit statistics: ADF (``lags``, ``max_lags``) or Phillips–Perron (``hac_lags``, the
         Bartlett bandwidth; ``None`` for ``floor(4 (T/100)^(2/9))``).

@@ -359,6 +359,8 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
     all_stats = np.asarray(res._all_stats, dtype=float)  # arch keeps the statistic by index
     bp = int(np.nanargmin(np.where(np.isfinite(all_stats), all_stats, np.inf)))
     last_old = bp - 2 if model == "trend" else bp - 1
+    size, warn = size_details("Zivot-Andrews", None, data.nobs, "asymptotic",
+                              options=f"model={model}")
     return TestResult(
         test="Zivot-Andrews", statistic=res.stat, pvalue=res.pvalue,
         critical_values=_cv(res.critical_values), null=f"{UNIT_ROOT} (no break)",
@@ -369,8 +371,9 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
                  "trim": float(trim),
                  "break_year": int(data.years[last_old]), "arch_index": bp,
                  "break_convention": "break_year is the last year of the old regime",
-                 "sample": _sample(data, int(res.lags) + 1), "series_span": data.span},
-        reference="zivotandrews1992")
+                 "sample": _sample(data, int(res.lags) + 1), "series_span": data.span,
+                 "size": size},
+        reference="zivotandrews1992", warnings=tuple(warn))
 
 
 def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
@@ -438,6 +441,9 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
     warn = []
     if nobs < 50:
         warn.append(f"T={nobs}: the critical values are for T=100; small samples shift them.")
+    size, size_warn = size_details("Lee-Strazicich", None, nobs, "asymptotic",
+                                   options=f"model={model}; n_breaks={breaks}")
+    warn += size_warn
     return TestResult(
         test="Lee-Strazicich", statistic=stat, pvalue=math.nan, critical_values=cv,
         null=f"{UNIT_ROOT} with {breaks} break(s)",
@@ -449,5 +455,5 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
                  "break_fractions": [round(f, 4) for f in fractions],
                  "break_convention": "break_years are the last years of the old regimes",
                  "critical_values_source": source, "sample": _sample(data, k + 1),
-                 "series_span": data.span},
+                 "series_span": data.span, "size": size},
         reference="leestrazicich2003; leestrazicich2004", warnings=tuple(warn))
