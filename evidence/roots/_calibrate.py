@@ -8,7 +8,10 @@ grid of first-order autocorrelations φ of the null's noise:
 
 * unit-root statistics (ADF, Phillips–Perron, DF-GLS): ``y_t = y_{t-1} + u_t``, ``u`` a
   stationary Gaussian AR(1) with coefficient φ;
-* the KPSS statistic: ``y_t = u_t``, ``u`` a stationary Gaussian AR(1) with coefficient φ.
+* the KPSS statistic: ``y_t = u_t``, ``u`` a stationary Gaussian AR(1) with coefficient φ;
+* the one-break statistics (Zivot–Andrews, Lee–Strazicich): as the unit-root statistics, without
+  a break (their null), computed by ``_break_batch`` exactly as for the data (model, trim, lag
+  rule); :data:`BREAK_ROW_REPS` draws per grid point (the break search costs more).
 
 The statistics are invariant to the level (and, with a trend, to the drift) and to the scale, so
 one table serves every series of that length. Each draw keeps the statistic and the estimate φ̂
@@ -42,14 +45,17 @@ __all__ = ["GRID", "ROW_REPS", "NullTable", "unit_null", "ar1_coefficient", "bia
            "phi_hat_of", "KINDS", "TAILS"]
 
 #: Which tail of each statistic rejects.
-TAILS = {"adf": "lower", "pp": "lower", "dfgls": "lower", "kpss": "upper"}
+TAILS = {"adf": "lower", "pp": "lower", "dfgls": "lower", "kpss": "upper", "za": "lower",
+         "ls": "lower"}
 
 #: Autocorrelations of the null noise at which the tables are simulated.
 GRID = tuple(round(v, 2) for v in np.arange(-0.4, 0.901, 0.1))
 #: Simulated series per grid point.
 ROW_REPS = 4000
-#: The statistics that have tables.
-KINDS = ("adf", "pp", "dfgls", "kpss")
+#: Simulated series per grid point of the one-break statistics (two-break LM: a fifth of it).
+BREAK_ROW_REPS = 2000
+#: The statistics that have tables (``trend`` carries the break model for "za" and "ls").
+KINDS = ("adf", "pp", "dfgls", "kpss", "za", "ls")
 _BURN = 50
 _VERSION = 2
 
@@ -170,8 +176,23 @@ def _noise(rng: np.random.Generator, n_years: int, reps: int, phi: float) -> np.
     return u[_BURN:]
 
 
+def _row_reps(kind: str, n_breaks: int = 1) -> int:
+    if kind in ("za", "ls"):
+        return BREAK_ROW_REPS if n_breaks == 1 else BREAK_ROW_REPS // 5
+    return ROW_REPS
+
+
 def _statistic(kind: str, y: np.ndarray, trend: str, lags: int | None, max_lags: int,
-               rule: str, hac_lags: int) -> np.ndarray:
+               rule: str, hac_lags: int, trim: float = 0.15, n_breaks: int = 1) -> np.ndarray:
+    if kind == "za":
+        from evidence.roots._break_batch import za_batch
+
+        return za_batch(y, trend, lags, max_lags, rule, trim)[0]
+    if kind == "ls":
+        from evidence.roots._break_batch import ls_batch
+
+        return ls_batch(y, trend, n_breaks, "sequential-t" if lags is None else lags, max_lags,
+                        trim)
     if kind == "adf":
         return adf_tstats(y, trend, lags) if lags is not None else adf_select(y, trend, max_lags, rule)[0]
     if kind == "dfgls":
@@ -191,46 +212,59 @@ def phi_hat_of(kind: str, y: np.ndarray, trend: str) -> np.ndarray:
 
 
 def _simulate(kind: str, n_years: int, trend: str, lags: int | None, max_lags: int, rule: str,
-              hac_lags: int, seed: int) -> tuple[np.ndarray, np.ndarray]:
+              hac_lags: int, seed: int, trim: float = 0.15, n_breaks: int = 1
+              ) -> tuple[np.ndarray, np.ndarray]:
     stats_rows, phi_rows = [], []
     for g, phi in enumerate(GRID):
         rng = np.random.default_rng([seed, n_years, g, KINDS.index(kind)])
-        u = _noise(rng, n_years, ROW_REPS, phi)
+        u = _noise(rng, n_years, _row_reps(kind, n_breaks), phi)
         y = u if kind == "kpss" else np.cumsum(u, axis=0)
-        stats_rows.append(_statistic(kind, y, trend, lags, max_lags, rule, hac_lags))
+        stats_rows.append(_statistic(kind, y, trend, lags, max_lags, rule, hac_lags, trim,
+                                     n_breaks))
         phi_rows.append(phi_hat_of(kind, y, trend))
     return np.stack(stats_rows), np.stack(phi_rows)
 
 
 @lru_cache(maxsize=256)
 def unit_null(kind: str, n_years: int, trend: str, *, lags: int | None = None, max_lags: int = 0,
-              rule: str = "aic", hac_lags: int = 0, seed: int = DEFAULT_SEED) -> NullTable:
+              rule: str = "aic", hac_lags: int = 0, seed: int = DEFAULT_SEED,
+              trim: float = 0.15, n_breaks: int = 1) -> NullTable:
     """The null table of ``kind`` for series of ``n_years`` (simulated once, then cached).
 
-    ``lags`` fixes the ADF/DF-GLS order; otherwise ``rule`` ("aic", "bic", "sequential-t")
-    searches up to ``max_lags``. ``hac_lags`` is the bandwidth of PP and KPSS.
+    ``lags`` fixes the ADF/DF-GLS/ZA/LS order; otherwise ``rule`` ("aic", "bic", "sequential-t")
+    searches up to ``max_lags``. ``hac_lags`` is the bandwidth of PP and KPSS. For "za" and "ls"
+    ``trend`` is the break model, ``trim`` the share searched out at each end and ``n_breaks``
+    the LM test's number of breaks.
     """
+    searched = kind in ("adf", "dfgls", "za", "ls") and lags is None
+    breaks = kind in ("za", "ls")
     params = {"kind": kind, "T": int(n_years), "trend": trend,
               "lags": None if lags is None else int(lags),
-              "max_lags": int(max_lags) if kind in ("adf", "dfgls") and lags is None else None,
-              "rule": rule if kind in ("adf", "dfgls") and lags is None else None,
+              "max_lags": int(max_lags) if searched else None,
+              "rule": rule if searched else None,
               "hac_lags": int(hac_lags) if kind in ("pp", "kpss") else None,
-              "grid": list(GRID), "row_reps": ROW_REPS, "seed": int(seed), "version": _VERSION}
+              "grid": list(GRID), "row_reps": _row_reps(kind, n_breaks), "seed": int(seed),
+              "version": _VERSION}
+    if breaks:
+        params.update({"trim": float(trim), "n_breaks": int(n_breaks) if kind == "ls" else 1})
     cached = load_cached("roots-unit-null", params)
-    shape = (len(GRID), ROW_REPS)
+    shape = (len(GRID), _row_reps(kind, n_breaks))
     if (cached is not None and cached.get("draws", np.empty(0)).shape == shape
             and cached.get("phis", np.empty(0)).shape == shape):
         draws, phis = cached["draws"], cached["phis"]
     else:
         draws, phis = _simulate(kind, int(n_years), trend, lags, int(max_lags), rule,
-                                int(hac_lags), int(seed))
+                                int(hac_lags), int(seed), float(trim), int(n_breaks))
         save_cached("roots-unit-null", params, {"draws": draws, "phis": phis})
     if lags is not None:
         option = f"{lags} lags"
-    elif kind in ("adf", "dfgls"):
+    elif searched:
         option = f"lags by {rule} up to {max_lags}"
     else:
         option = f"bandwidth {hac_lags}"
-    label = (f"simulated for T={n_years}, {trend}, {option} ({len(GRID)} noise autocorrelations "
-             f"× {ROW_REPS} draws, seed {seed})")
+    if breaks:
+        option += f", trim {trim:g}" + (f", {n_breaks} break(s)" if kind == "ls" else "")
+    terms = f"model {trend}" if breaks else trend
+    label = (f"simulated for T={n_years}, {terms}, {option} ({len(GRID)} noise autocorrelations "
+             f"× {shape[1]} draws, seed {seed})")
     return NullTable(kind, int(n_years), trend, draws, phis, label)

@@ -315,7 +315,7 @@ def dfgls_test(y: Any, *, trend: Trend = "constant", lags: int | str = "aic",
 
 
 def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: int | None = None,
-            trim: float = 0.15) -> TestResult:
+            trim: float = 0.15, inference: str = "simulated") -> TestResult:
     """Zivot–Andrews test with one break (through ``arch.unitroot.ZivotAndrews``).
 
     Parameters
@@ -328,6 +328,12 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
         constant and trend and no break, and keeps it for every break date.
     trim : float
         Share of the sample excluded at each end of the break search (0 to 1/3).
+    inference : {"simulated", "asymptotic"}
+        "simulated" (default): the p-value and critical values of the statistic simulated without
+        a break for the series' own T, model, trim and lag rule, conditional on the series'
+        first-order autocorrelation of Δy (``_calibrate``). "asymptotic": arch's quantiles
+        (Zivot & Andrews 1992, simulated for T = 100), which reject 10–14 % of the time at 5 %
+        for T = 30–40 (``docs/methods/size.md``); the result then says so.
 
     Notes
     -----
@@ -346,6 +352,7 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
     zivotandrews1992 (see the module docstring).
     """
     model = check_choice("model", model, tuple(ZA_MODELS))
+    inference = check_choice("inference", inference, INFERENCE)
     trim = check_number("trim", trim, low=0.0, high=1 / 3, hint=", a fraction such as 0.15")
     if trim == 0:
         raise SpecError("trim=0 leaves no room at the ends; use a fraction such as 0.15.")
@@ -359,11 +366,21 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
     all_stats = np.asarray(res._all_stats, dtype=float)  # arch keeps the statistic by index
     bp = int(np.nanargmin(np.where(np.isfinite(all_stats), all_stats, np.inf)))
     last_old = bp - 2 if model == "trend" else bp - 1
-    size, warn = size_details("Zivot-Andrews", None, data.nobs, "asymptotic",
-                              options=f"model={model}")
+    if inference == "asymptotic":
+        pvalue, cv = float(res.pvalue), _cv(res.critical_values)
+        extra = {"pvalue_source": "Zivot & Andrews (1992) quantiles (T = 100) via arch"}
+    else:
+        table = unit_null("za", data.nobs, model, lags=fixed, max_lags=bound or 0, rule=method,
+                          trim=float(trim))
+        phi = float(phi_hat_of("za", data.values[:, None], model)[0])
+        pvalue = float(table.pvalue(np.array([res.stat]), np.array([phi]), tail="lower")[0])
+        cv = table.quantiles(phi, (0.01, 0.05, 0.10), tail="lower")
+        extra = {"pvalue_source": table.label, "noise_autocorrelation": round(phi, 4)}
+    size, warn = size_details("Zivot-Andrews", None, data.nobs, inference,
+                              options=f"inference={inference}; model={model}")
     return TestResult(
-        test="Zivot-Andrews", statistic=res.stat, pvalue=res.pvalue,
-        critical_values=_cv(res.critical_values), null=f"{UNIT_ROOT} (no break)",
+        test="Zivot-Andrews", statistic=res.stat, pvalue=pvalue,
+        critical_values=cv, null=f"{UNIT_ROOT} (no break)",
         alternative=f"{STATIONARY} with one break in the {model if model != 'both' else 'level and trend'}",
         nobs=res.nobs,
         details={"model": model, "lags": int(res.lags),
@@ -372,13 +389,13 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
                  "break_year": int(data.years[last_old]), "arch_index": bp,
                  "break_convention": "break_year is the last year of the old regime",
                  "sample": _sample(data, int(res.lags) + 1), "series_span": data.span,
-                 "size": size},
+                 "inference": inference, **extra, "size": size},
         reference="zivotandrews1992", warnings=tuple(warn))
 
 
 def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
                         lags: int | str = "sequential-t", max_lags: int | None = None,
-                        trim: float = 0.1) -> TestResult:
+                        trim: float = 0.1, inference: str = "simulated") -> TestResult:
     """Lee–Strazicich minimum LM unit-root test with one or two breaks under both hypotheses.
 
     Parameters
@@ -395,6 +412,14 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
         T = 100; pass ``max_lags=8`` to reproduce them).
     trim : float
         Break dates are searched in ``[trim T, (1 - trim) T]``; two breaks at least 2 apart.
+    inference : {"simulated", "asymptotic"}
+        "simulated" (default): p-value and critical values of the statistic simulated under the
+        null (a unit root; the statistic is invariant to the breaks' sizes under the null only
+        asymptotically, so the table is simulated without breaks) for the series' own T, model,
+        trim, lag rule and number of breaks, conditional on the first-order autocorrelation of
+        Δy (``_calibrate``; two breaks: 400 draws per grid point, several minutes the first time
+        for each T, then cached). "asymptotic": the papers' tables for T = 100 and no p-value;
+        they reject 13–19 % of the time at 5 % for T = 30–40 (``docs/methods/size.md``).
 
     Notes
     -----
@@ -406,15 +431,17 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
     stationary with breaks (φ < 0). Breaks enter under both hypotheses, so a rejection means
     stationarity, not "a unit root with a break".
 
-    Critical values: the papers' tables for T = 100 (``_lee_strazicich_tables``, from memory);
-    for the "both" model the row of the nearest tabulated break fraction. No p-value is
-    available (``pvalue`` is NaN); compare the statistic with ``critical_values``.
+    Critical values with ``inference="asymptotic"``: the papers' tables for T = 100
+    (``_lee_strazicich_tables``, from memory); for the "both" model the row of the nearest
+    tabulated break fraction. No p-value is then available (``pvalue`` is NaN); compare the
+    statistic with ``critical_values``.
 
     References
     ----------
     leestrazicich2003; leestrazicich2004 (see the module docstring).
     """
     model = check_choice("model", model, LS_MODELS)
+    inference = check_choice("inference", inference, INFERENCE)
     breaks = check_int("n_breaks", n_breaks, minimum=1, maximum=2)
     lags = check_lags(lags, rules=("sequential-t",))
     max_lags = check_max_lags(max_lags)
@@ -437,15 +464,28 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
         raise DataError(f"{data.label}: a Lee-Strazicich regression is singular ({data.span}); use "
                         "fewer lags or a longer series.") from None
     fractions = tuple(float(d) / nobs for d in best)
-    cv, source = ls_tables.lookup(model, fractions)
     warn = []
-    if nobs < 50:
-        warn.append(f"T={nobs}: the critical values are for T=100; small samples shift them.")
-    size, size_warn = size_details("Lee-Strazicich", None, nobs, "asymptotic",
-                                   options=f"model={model}; n_breaks={breaks}")
+    pvalue = math.nan
+    extra: dict[str, Any] = {"inference": inference}
+    if inference == "asymptotic":
+        cv, source = ls_tables.lookup(model, fractions)
+        if nobs < 50:
+            warn.append(f"T={nobs}: the critical values are for T=100; small samples shift them.")
+    else:
+        table = unit_null("ls", nobs, model, lags=lags if isinstance(lags, int) else None,
+                          max_lags=max_lags, rule="sequential-t", trim=float(trim),
+                          n_breaks=breaks)
+        phi = float(phi_hat_of("ls", data.values[:, None], model)[0])
+        pvalue = float(table.pvalue(np.array([stat]), np.array([phi]), tail="lower")[0])
+        cv = table.quantiles(phi, (0.01, 0.05, 0.10), tail="lower")
+        source = table.label
+        extra.update({"pvalue_source": table.label, "noise_autocorrelation": round(phi, 4)})
+    size, size_warn = size_details("Lee-Strazicich", None, nobs, inference,
+                                   options=f"inference={inference}; model={model}; "
+                                           f"n_breaks={breaks}")
     warn += size_warn
     return TestResult(
-        test="Lee-Strazicich", statistic=stat, pvalue=math.nan, critical_values=cv,
+        test="Lee-Strazicich", statistic=stat, pvalue=pvalue, critical_values=cv,
         null=f"{UNIT_ROOT} with {breaks} break(s)",
         alternative=f"{STATIONARY} with {breaks} break(s)", nobs=nobs - k - 1,
         details={"model": model, "n_breaks": breaks, "lags": k,
@@ -455,5 +495,5 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
                  "break_fractions": [round(f, 4) for f in fractions],
                  "break_convention": "break_years are the last years of the old regimes",
                  "critical_values_source": source, "sample": _sample(data, k + 1),
-                 "series_span": data.span, "size": size},
+                 "series_span": data.span, **extra, "size": size},
         reference="leestrazicich2003; leestrazicich2004", warnings=tuple(warn))
