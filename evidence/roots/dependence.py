@@ -262,7 +262,7 @@ _ROW = {"cd": 0, "lm": 1, "scaled": 2, "bc": 3}
 _REFERENCES = {"cd": "pesaran2004; pesaran2015", "lm": "breuschpagan1980", "scaled": "pesaran2004",
                "bc": "bfk2012"}
 #: Simulated panels for the dependence nulls.
-REPS = 2000
+REPS = 4000
 
 
 def _statistic(kind: str, c: Correlations, weights: np.ndarray) -> float:
@@ -338,12 +338,17 @@ def _dependence(kind: str, data: Any, column: str | None, *, trend: str, min_ove
         null = panel_null("dependence", c.n_units, c.raw_years, trend, {"max_lags": top},
                           reps=reps, seed=int(seed), executor=executor, grid=(0.0,))
         draws = null.draws[0, _ROW[kind]]
-        lower = (np.searchsorted(draws, stat, side="right") + 1) / (draws.size + 1)
-        upper = (draws.size - np.searchsorted(draws, stat, side="left") + 1) / (draws.size + 1)
-        pvalue = float(min(1.0, 2 * min(lower, upper))) if kind == "cd" else float(upper)
+        if kind == "cd":
+            # two-sided on |CD| (the null is symmetric about 0): pooling both tails halves the
+            # Monte Carlo error of separate 2.5 % quantiles (which put the 5 % size at 6-8 %
+            # with 2000 draws)
+            draws, stat_abs = np.sort(np.abs(draws)), abs(stat)
+        else:
+            stat_abs = stat
+        upper = (draws.size - np.searchsorted(draws, stat_abs, side="left") + 1) / (draws.size + 1)
+        pvalue = float(min(1.0, upper))
         levels = (0.01, 0.05, 0.10)
-        cv = ({a: float(np.quantile(draws, 1 - a / 2)) for a in levels} if kind == "cd"
-              else {a: float(np.quantile(draws, 1 - a)) for a in levels})
+        cv = {a: float(np.quantile(draws, 1 - a)) for a in levels}
         details.update({"null": null.label, "reps": reps, "seed": int(seed)})
     if kind == "lm":
         details["df"] = c.rho.size
