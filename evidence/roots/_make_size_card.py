@@ -1,7 +1,8 @@
 """Regenerate the size card of the unit-root and dependence tests (``evidence/_sizes/roots.json``).
 
-Run: ``python -m evidence.roots._make_size_card`` (about an hour on one core; ``--quick`` for a
-smoke run). Every entry is the rejection rate at 5 % nominal of one test with one set of options
+Run: ``nice -n 10 python -m evidence.roots._make_size_card`` (well under an hour on one core at
+the default ``--reps 300``; the file records the CPU time it took; ``--quick`` for a smoke run).
+Every entry is the rejection rate at 5 % nominal of one test with one set of options
 under one data-generating process of :mod:`evidence._montecarlo`, for N = 20 units and T = 30 or
 40 years, computed by the public functions exactly as a user calls them. Processes:
 
@@ -12,12 +13,12 @@ under one data-generating process of :mod:`evidence._montecarlo`, for N = 20 uni
 * alternatives (power) — stationary AR(0.8) (around a trend for "trend") against a unit root;
   random walks against stationarity; a common factor against independence.
 
-Single-series tests are applied to the first unit of each panel; Zivot–Andrews and
-Lee–Strazicich (one break) with the model the battery uses (level for trend "constant", level and
-trend for "trend"), which have one inference only (arch's simulated asymptotic quantiles; the
-T = 100 tables), are run with the defaults' draws. The fast non-default options
-(``inference="asymptotic"``, unfiltered dependence tests) are measured on half as many panels, under
-the nulls only (their size is what their results report).
+Single-series tests are applied to the first two units of each panel (two draws per panel);
+Zivot–Andrews and Lee–Strazicich (one break) with the model the battery uses (level for trend
+"constant", level and trend for "trend"). Lee–Strazicich with ``inference="asymptotic"`` has no
+p-value: a draw rejects when the statistic is below the 5 % critical value. The fast non-default
+options (``inference="asymptotic"``, unfiltered dependence tests) are measured on half as many
+panels, under the nulls only (their size is what their results report).
 """
 
 from __future__ import annotations
@@ -42,10 +43,14 @@ __all__ = ["CELLS", "make_card", "markdown", "summary_table", "main"]
 
 SEED = 20261202
 #: Panels per null process relative to ``--reps``: the cheap groups get more, for a smaller s.e.
-GROUP_REPS = {"unit_root": 1, "factor": 2, "stationary": 2, "dependence": 2}
+GROUP_REPS = {"unit_root": 1, "factor": 2, "stationary": 2, "dependence": 1}
 N_UNITS = 20
 YEARS = (30, 40)
-SINGLE_UNITS = 1
+SINGLE_UNITS = 2
+#: Default panels per null process (``--reps``) and per alternative (``--power-reps``).
+REPS, POWER_REPS = 300, 200
+#: Tests applied to single series (their entries have ``n_units`` 1).
+SINGLE = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews", "Lee-Strazicich")
 OUTPUT = Path(__file__).resolve().parents[1] / "_sizes" / "roots.json"
 
 
@@ -131,20 +136,21 @@ def _unit_root_tests(data: Panel, trend: str, column: str, inference: str) -> di
                            ("DF-GLS", series.dfgls_test)):
             out[_key(name, inference, trend) + f"#{k}"] = func(y, trend=trend,
                                                                inference=inference).pvalue
-        if inference == "simulated":     # the break tests have one inference: run them once
-            out.update(_break_tests(y, trend, k))
+        out.update(_break_tests(y, trend, k, inference))
     return out
 
 
-def _break_tests(y: Any, trend: str, k: int) -> dict[str, float]:
+def _break_tests(y: Any, trend: str, k: int, inference: str) -> dict[str, float]:
     """Zivot–Andrews and Lee–Strazicich (one break) with the model the battery uses for
-    ``trend``; Lee–Strazicich has no p-value, so its draw is 0 (reject at 5 %) or 1."""
+    ``trend``; with ``inference="asymptotic"`` Lee–Strazicich has no p-value, so its draw is 0
+    (reject at 5 %) or 1."""
     model = "both" if trend == "trend" else "level"
-    za = series.za_test(y, model=model)
-    ls = series.lee_strazicich_test(y, model=model)
-    return {f"Zivot-Andrews|model={model}#{k}": za.pvalue,
-            f"Lee-Strazicich|model={model}; n_breaks=1#{k}":
-                0.0 if ls.statistic < ls.critical_values[0.05] else 1.0}
+    za = series.za_test(y, model=model, inference=inference)
+    ls = series.lee_strazicich_test(y, model=model, inference=inference)
+    ls_p = (ls.pvalue if inference == "simulated"
+            else 0.0 if ls.statistic < ls.critical_values[0.05] else 1.0)
+    return {f"Zivot-Andrews|inference={inference}; model={model}#{k}": za.pvalue,
+            f"Lee-Strazicich|inference={inference}; model={model}; n_breaks=1#{k}": ls_p}
 
 
 def _cips(data: Panel, trend: str, column: str, inference: str = "simulated") -> dict[str, float]:
@@ -190,6 +196,7 @@ def make_card(*, reps: int, power_reps: int, years: tuple[int, ...] = YEARS,
               groups: tuple[str, ...] = tuple(_GROUPS), progress: bool = True) -> dict[str, Any]:
     """Simulate every cell and return the card (the JSON written by :func:`main`)."""
     entries = []
+    clock = time.process_time()
     runs = [(n_years, c, cell, inference) for n_years in years for c, cell in enumerate(CELLS)
             for inference in ("simulated", "asymptotic")
             if cell.group in groups and (inference == "simulated" or cell.hypothesis == "null")]
@@ -205,8 +212,7 @@ def make_card(*, reps: int, power_reps: int, years: tuple[int, ...] = YEARS,
             params=dict(cell.params))
         for key, rate in sorted(rates.items()):
             test, options = key.split("|")
-            single = test in ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews",
-                              "Lee-Strazicich")
+            single = test in SINGLE
             entries.append({"test": test, "options": options, "dgp": cell.label,
                             "hypothesis": cell.hypothesis,
                             "n_units": 1 if single else N_UNITS, "n_years": n_years,
@@ -217,11 +223,20 @@ def make_card(*, reps: int, power_reps: int, years: tuple[int, ...] = YEARS,
             print(f"T={n_years} {cell.trend:<8} {inference:<10} {cell.hypothesis:<11} "
                   f"{cell.label:<55} {count} panels, {time.time() - start:.0f}s",
                   file=sys.stderr, flush=True)
-    return {"family": "roots", "generated_by": "python -m evidence.roots._make_size_card",
+    group_reps = {g: reps * GROUP_REPS[g] for g in groups}
+    return {"family": "roots", "generated_by": "python -m evidence.roots._make_size_card "
+                                               f"--reps {reps} --power-reps {power_reps}",
             "seed": SEED, "alpha": 0.05, "n_units": N_UNITS,
-            "note": "single-series tests: the first unit of each panel (n_units 1); null cells "
-                    "of the factor, stationarity and dependence groups on twice --reps panels; "
-                    "asymptotic options on half as many, under the nulls only",
+            "reps": {"null_panels": group_reps, "alternative_panels": power_reps,
+                     "single_series_per_panel": SINGLE_UNITS,
+                     "asymptotic_options": "half the panels of the default, nulls only"},
+            "mc_se_at_5pct": {g: round(math.sqrt(0.05 * 0.95 / n), 4)
+                              for g, n in group_reps.items()},
+            "cpu_seconds": round(time.process_time() - clock),
+            "note": f"single-series tests: the first {SINGLE_UNITS} units of each panel (n_units "
+                    "1, draws = panels x units); null cells of the factor and stationarity groups "
+                    "on twice --reps panels; asymptotic options on half as many, under the nulls "
+                    "only; each entry's mc_se is sqrt(r (1 - r) / draws)",
             "entries": entries}
 
 
@@ -292,8 +307,8 @@ def markdown(card: dict[str, Any]) -> str:
         if not rows:
             continue
         years = sorted({e["n_years"] for e in entries})
-        lines += [f"**{title}**, N = {card.get('n_units', 20)} (single-series tests: one series "
-                  "per panel), Monte Carlo s.e. about 0.9 points at 5 % for 600 draws:", "",
+        lines += [f"**{title}**, N = {card.get('n_units', 20)} (single-series tests: draws of "
+                  "single series; each entry's draws and Monte Carlo s.e. are in the JSON):", "",
                   "| test | inference, trend | process | " + " | ".join(f"T = {t}" for t in years)
                   + " |", "|---|---|---|" + "---|" * len(years)]
         rank = {name: i for i, name in enumerate(_ORDER)}
@@ -312,8 +327,9 @@ def markdown(card: dict[str, Any]) -> str:
 
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--reps", type=int, default=600, help="panels per null process")
-    parser.add_argument("--power-reps", type=int, default=200, help="panels per alternative")
+    parser.add_argument("--reps", type=int, default=REPS, help="panels per null process")
+    parser.add_argument("--power-reps", type=int, default=POWER_REPS,
+                        help="panels per alternative")
     parser.add_argument("--quick", action="store_true", help="a smoke run (few panels, T = 30)")
     parser.add_argument("--output", type=Path, default=OUTPUT)
     parser.add_argument("--groups", default=",".join(_GROUPS),
@@ -335,8 +351,9 @@ def main(argv: list[str] | None = None) -> int:
         card = make_card(reps=args.reps, power_reps=args.power_reps, groups=groups)
     if set(groups) != set(_GROUPS) and args.output.exists():
         old = json.loads(args.output.read_text(encoding="utf-8"))
-        made = {(e["test"], e["dgp"], e["n_years"]) for e in card["entries"]}
-        kept = [e for e in old["entries"] if (e["test"], e["dgp"], e["n_years"]) not in made]
+        made = {(e["test"], e["options"], e["dgp"], e["n_years"]) for e in card["entries"]}
+        kept = [e for e in old["entries"]
+                if (e["test"], e["options"], e["dgp"], e["n_years"]) not in made]
         card["entries"] = kept + card["entries"]
     args.output.parent.mkdir(parents=True, exist_ok=True)
     args.output.write_text(json.dumps(card, indent=1, sort_keys=True) + "\n", encoding="utf-8")
