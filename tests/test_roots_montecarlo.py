@@ -2,8 +2,10 @@
 of issue 13 (N = 20, T = 30: random walks with white-noise and AR(0.5) increments, drifting walks
 with a trend, a common factor for CIPS; white noise and AR(0.5) for the stationarity tests;
 independent white noise, AR(0.8) and random walks for the dependence tests) and power against one
-clear alternative. The card itself (``evidence/_sizes/roots.json``, 600 panels a cell) is checked
-here too; the fast tests use few panels, the slow ones 300."""
+clear alternative. The card itself (``evidence/_sizes/roots.json``, made by
+``python -m evidence.roots._make_size_card``: 300-600 panels a null process, 200 per alternative)
+is checked here too, and ``docs/methods/size.md`` must print it; the fast tests use few panels,
+the slow ones 300."""
 
 from __future__ import annotations
 
@@ -17,6 +19,7 @@ from evidence._montecarlo import rejection_rates
 from evidence._size_card import size_card, size_note
 from evidence.panel import Panel
 from evidence.roots import dependence, panel as panel_tests, series
+from evidence.roots._make_size_card import MARKERS, markdown
 
 CARD = Path(__file__).resolve().parents[1] / "evidence" / "_sizes" / "roots.json"
 # Issue 13 / the briefing: 5 % nominal must land in [3 %, 7.5 %] for defaults.
@@ -58,7 +61,8 @@ def _cips(data):
 # ------------------------------------------------------------------------------ the card
 #: The card's names of the tests at their defaults (``inference="simulated"``; Fisher: ADF unit
 #: tests combined by Choi's Z; CIPS*: truncated, one lag; dependence tests prewhitened).
-DEFAULTS = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "IPS W-tbar", "Fisher-ADF (Choi Z)",
+DEFAULTS = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews", "Lee-Strazicich",
+            "IPS W-tbar", "Fisher-ADF (Choi Z)",
             "LLC", "Breitung", "Hadri (robust)", "CIPS*", "Pesaran CD", "Breusch-Pagan LM",
             "Pesaran scaled LM", "Baltagi-Feng-Kao bias-corrected LM")
 
@@ -97,6 +101,16 @@ def test_card_defaults_hold_their_size():
         assert ("Hadri (robust)", dgp) in processes
 
 
+def test_size_md_prints_the_roots_card_with_power_beside_size():
+    text = (CARD.parents[2] / "docs" / "methods" / "size.md").read_text(encoding="utf-8")
+    assert MARKERS[0] in text and MARKERS[1] in text
+    section = text.split(MARKERS[0], 1)[1].split(MARKERS[1], 1)[0]
+    assert markdown(_card()).strip() in section, \
+        "docs/methods/size.md is stale: run python -m evidence.roots._make_size_card --docs"
+    head = next(line for line in section.splitlines() if line.startswith("| test | options"))
+    assert "size T = 30" in head and "power T = 30" in head and "power T = 40" in head
+
+
 def test_every_option_on_the_card_has_power_or_says_its_size():
     """Non-default options (Fisher's other combinations and the PP path, asymptotic inference,
     the break tests) either hold the band or their results say they do not, with the figure."""
@@ -129,8 +143,12 @@ def test_uncontrolled_options_say_so_with_the_measured_figure():
                     assert f"{100 * note['measured']:.1f} %" in res.summary()
     asym = size_note("Fisher-ADF (Choi Pm)", 20, 30, options="inference=asymptotic; trend=constant")
     assert not asym["controlled"] and asym["measured"] > 0.075
-    za = series.za_test(panel.series(panel.units[0], "y"))
-    assert za.details["size"]["n_years"] == 30
+    y = panel.series(panel.units[0], "y")
+    for func in (series.za_test, series.lee_strazicich_test):
+        assert func(y).details["size"]["controlled"]
+        asym = func(y, inference="asymptotic")
+        assert not asym.details["size"]["controlled"]
+        assert f"{100 * asym.details['size']['measured']:.1f} %" in asym.summary()
 
 
 def test_results_carry_the_size_they_were_measured_with():
