@@ -8,8 +8,8 @@ none).
 
 Decision rule (at level ``alpha``, default 5 %), for a unit, or for the panel from the panel
 tests (row ``(panel)``). Tests whose null is a unit root (ADF, PP, DF-GLS, Zivot–Andrews,
-Lee–Strazicich, IPS, LLC, Fisher, Breitung, CIPS) "reject" when p < alpha (Lee–Strazicich, which
-has no p-value: when the statistic is below the critical value at alpha); tests whose null is
+Lee–Strazicich, IPS, LLC, Fisher, Breitung, CIPS) "reject" when p < alpha (a test without a
+p-value: when the statistic is below the critical value at alpha); tests whose null is
 stationarity (KPSS, Hadri) "reject" when p < alpha. In one transform the series is
 
 * **stationary** when every unit-root test rejects and no stationarity test does;
@@ -71,7 +71,7 @@ DECISION_RULE = (
 #: What the cells of :meth:`RootBatteryResult.decision_table` mean, printed under every table.
 CELLS = (
     "Cells: p-values (simulated for each series' own length; docs/methods/roots.md), 'reject' / "
-    "'no reject' for a test without one (Lee-Strazicich, at alpha). 'n/a': the test could not "
+    "'no reject' for a test without one (at alpha). 'n/a': the test could not "
     "run or apply; the notes column says why. Empty: the test does not belong to the row (unit "
     "tests fill the units' rows, panel tests the (panel) row). Measured sizes: "
     "docs/methods/size.md.")
