@@ -374,6 +374,11 @@ def main(argv: list[str] | None = None) -> int:
                              + ", ".join(_GROUPS))
     parser.add_argument("--markdown", action="store_true",
                         help="print the card at --output as Markdown tables and stop")
+    parser.add_argument("--years", default=",".join(map(str, YEARS)),
+                        help="panel lengths to simulate (e.g. 30 to split a run over two "
+                             "processes; combine the outputs with --combine)")
+    parser.add_argument("--combine", nargs="+", type=Path, default=None,
+                        help="combine cards made with --years into --output and stop")
     parser.add_argument("--docs", action="store_true",
                         help="write the card at --output into docs/methods/size.md and stop")
     args = parser.parse_args(argv)
@@ -383,6 +388,15 @@ def main(argv: list[str] | None = None) -> int:
     if args.docs:
         write_docs(json.loads(args.output.read_text(encoding="utf-8")))
         return 0
+    if args.combine:
+        parts = [json.loads(p.read_text(encoding="utf-8")) for p in args.combine]
+        card = dict(parts[0])
+        card["entries"] = [e for part in parts for e in part["entries"]]
+        card["cpu_seconds"] = sum(part.get("cpu_seconds", 0) for part in parts)
+        args.output.write_text(json.dumps(card, indent=1, sort_keys=True) + "\n",
+                               encoding="utf-8")
+        return 0
+    years = tuple(int(v) for v in args.years.split(",") if v.strip())
     groups = tuple(g.strip() for g in args.groups.split(",") if g.strip())
     unknown = sorted(set(groups) - set(_GROUPS))
     if unknown:
@@ -390,7 +404,7 @@ def main(argv: list[str] | None = None) -> int:
     if args.quick:
         card = make_card(reps=20, power_reps=10, years=(30,), groups=groups)
     else:
-        card = make_card(reps=args.reps, power_reps=args.power_reps, groups=groups)
+        card = make_card(reps=args.reps, power_reps=args.power_reps, groups=groups, years=years)
     if set(groups) != set(_GROUPS) and args.output.exists():
         old = json.loads(args.output.read_text(encoding="utf-8"))
         made = {(e["test"], e["options"], e["dgp"], e["n_years"]) for e in card["entries"]}
