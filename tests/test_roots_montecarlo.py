@@ -19,7 +19,7 @@ from evidence._montecarlo import rejection_rates
 from evidence._size_card import size_card, size_note
 from evidence.panel import Panel
 from evidence.roots import dependence, panel as panel_tests, series
-from evidence.roots._make_size_card import MARKERS, markdown
+from evidence.roots._make_size_card import DEFAULTS, MARKERS, defaults_table, markdown
 
 CARD = Path(__file__).resolve().parents[1] / "evidence" / "_sizes" / "roots.json"
 # Issue 13 / the briefing: 5 % nominal must land in [3 %, 7.5 %] for defaults.
@@ -59,14 +59,6 @@ def _cips(data):
 
 
 # ------------------------------------------------------------------------------ the card
-#: The card's names of the tests at their defaults (``inference="simulated"``; Fisher: ADF unit
-#: tests combined by Choi's Z; CIPS*: truncated, one lag; dependence tests prewhitened).
-DEFAULTS = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews", "Lee-Strazicich",
-            "IPS W-tbar", "Fisher-ADF (Choi Z)",
-            "LLC", "Breitung", "Hadri (robust)", "CIPS*", "Pesaran CD", "Breusch-Pagan LM",
-            "Pesaran scaled LM", "Baltagi-Feng-Kao bias-corrected LM")
-
-
 def _card():
     return json.loads(CARD.read_text(encoding="utf-8"))
 
@@ -109,6 +101,8 @@ def test_size_md_prints_the_roots_card_with_power_beside_size():
         "docs/methods/size.md is stale: run python -m evidence.roots._make_size_card --docs"
     head = next(line for line in section.splitlines() if line.startswith("| test | options"))
     assert "size T = 30" in head and "power T = 30" in head and "power T = 40" in head
+    roots_md = (CARD.parents[2] / "docs" / "methods" / "roots.md").read_text(encoding="utf-8")
+    assert defaults_table(_card()).strip() in roots_md, "docs/methods/roots.md is stale"
 
 
 def test_every_option_on_the_card_has_power_or_says_its_size():
