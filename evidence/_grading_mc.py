@@ -36,6 +36,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import sys
 from collections import Counter
 from pathlib import Path
 from typing import Any
@@ -145,18 +146,24 @@ def simulate_panel(rng: np.random.Generator, n_years: int,
 
 
 def run(reps: int = 30, years: tuple[int, ...] = (25, 30, 35), seed: int = SEED,
-        trend_test: str = "perron-yabu", **criteria: Any) -> pd.DataFrame:
-    """Grade ``reps`` panels per length; one row per graded unit (process, T, rung, flags, span)."""
+        trend_test: str = "perron-yabu", progress: bool = False, **criteria: Any) -> pd.DataFrame:
+    """Grade ``reps`` panels per length; one row per graded unit (process, T, rung, flags, span).
+
+    ``progress`` prints a line per graded panel on stderr (the first run simulates the
+    calibration of every new recession design, about two seconds each; later runs read them from
+    the cache)."""
     from evidence.grading import Criteria, grade
 
     crit = Criteria(trend_test=trend_test, subwindows=False, **criteria)
     rows = []
     for n_years in years:
         rng = np.random.default_rng([seed, n_years])
-        for _ in range(reps):
+        for rep in range(reps):
             panel, process = simulate_panel(rng, n_years)
             res = grade(panel, ["p"], "a", criteria=crit, consumption={"p": "c"},
                         latest_break=False)
+            if progress:
+                print(f"T={n_years}: panel {rep + 1} of {reps} graded", file=sys.stderr, flush=True)
             for row in res.table.itertuples():
                 rows.append({"process": process[row.unit], "T": n_years, "rung": row.rung,
                              "flags": row.flags, "span": row.span, "years": row.years,
@@ -206,7 +213,7 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument("--write", action="store_true")
     args = parser.parse_args(argv)
     years = tuple(int(v) for v in args.years.split(","))
-    units = run(reps=args.reps, years=years, trend_test=args.test)
+    units = run(reps=args.reps, years=years, trend_test=args.test, progress=True)
     table = confusion_table(units)
     with pd.option_context("display.width", 200, "display.max_columns", 20):
         print(table.round(1).to_string())

@@ -16,6 +16,14 @@ the common shocks are drawn once for all units (so common shocks stay common), t
 variables of one unit always share a period (their correlation, e.g. endogeneity, is kept). Both
 draws use circular blocks of ``block_length`` periods.
 
+The split is made only when the residuals show dependence between units: Pesaran's (2004) CD
+statistic of some variable's residuals beyond ±2.576 (1 %, two-sided; :func:`common_shocks`).
+Otherwise every unit draws its own periods. The split is not free: on independent units the
+cross-section mean still carries each unit's own residual with weight ``1/N``, and loadings
+estimated from ``S`` periods add pairwise correlations of order ``±1/sqrt(S)``; measured at
+N = 20, T = 30 on independent random walks, the split made Kao's bootstrap reject 2–4 % at 5 %
+nominal (its 5 % quantiles 0.1 too far left), resampling unit by unit 4–5 %.
+
 References
 ----------
 pope1990 : Pope, A. L. (1990). Biases of estimators in multivariate non-Gaussian autoregressions.
@@ -24,17 +32,22 @@ kilian1998 : Kilian, L. (1998). Small-sample confidence intervals for impulse re
     Review of Economics and Statistics 80(2), 218–230.
 pesaran2006 : Pesaran, M. H. (2006). Estimation and inference in large heterogeneous panels with a
     multifactor error structure. Econometrica 74(4), 967–1012.
+pesaran2004 : Pesaran, M. H. (2004). General diagnostic tests for cross section dependence in
+    panels. CESifo Working Paper 1229 (IZA Discussion Paper 1240).
 """
 
 from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["draw_periods", "split_common", "resample_residuals", "var_design", "pooled_var",
+__all__ = ["draw_periods", "split_common", "common_shocks", "cd_statistics", "CD_CRITICAL",
+           "resample_residuals", "var_design", "pooled_var",
            "companion", "largest_root", "bias_corrected", "MAX_ROOT"]
 
 #: A VAR whose companion matrix has a root above this modulus counts as not stationary.
 MAX_ROOT = 0.97
+#: Residuals are split into common and own shocks when some variable's |CD| exceeds this (1 %).
+CD_CRITICAL = 2.576
 
 
 def draw_periods(rng: np.random.Generator, shape: tuple[int, ...], length: int, pool: int,
@@ -64,14 +77,46 @@ def split_common(resid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]
     return common, loadings, own
 
 
-def resample_residuals(resid: np.ndarray, rng: np.random.Generator, reps: int, length: int, *,
-                       block_length: int = 1) -> np.ndarray:
-    """``reps`` bootstrap residual paths ``(reps, N, length, m)`` from ``resid`` (N, S, m)."""
+def cd_statistics(resid: np.ndarray) -> np.ndarray:
+    """Pesaran's (2004) CD statistic of each variable's residuals ``resid`` (N, S, m): (m,).
+
+    ``CD = sqrt(2 S / (N (N − 1))) Σ_{i<j} ρ_ij`` with ``ρ_ij`` the correlation of units i and j
+    over the ``S`` periods; N(0, 1) under independence. NaN with fewer than two units.
+    """
     n_units, size, m = resid.shape
-    common, loadings, own = split_common(resid)
+    if n_units < 2:
+        return np.full(m, np.nan)
+    centred = resid - resid.mean(axis=1, keepdims=True)
+    norm = np.sqrt(np.sum(centred ** 2, axis=1, keepdims=True))
+    unit = centred / np.where(norm > 0, norm, 1.0)
+    corr = np.einsum("isv,jsv->vij", unit, unit)                       # (m, N, N)
+    upper = (np.sum(corr, axis=(1, 2)) - np.trace(corr, axis1=1, axis2=2)) / 2.0
+    return np.sqrt(2.0 * size / (n_units * (n_units - 1))) * upper
+
+
+def common_shocks(resid: np.ndarray) -> bool:
+    """Whether the residuals (N, S, m) show dependence between units: some ``|CD| > CD_CRITICAL``."""
+    cd = cd_statistics(resid)
+    return bool(np.any(np.abs(cd[np.isfinite(cd)]) > CD_CRITICAL))
+
+
+def resample_residuals(resid: np.ndarray, rng: np.random.Generator, reps: int, length: int, *,
+                       block_length: int = 1, common: bool | None = None) -> np.ndarray:
+    """``reps`` bootstrap residual paths ``(reps, N, length, m)`` from ``resid`` (N, S, m).
+
+    ``common``: split off common shocks (drawn by whole periods for all units); ``None`` decides
+    by :func:`common_shocks`. Without the split every unit draws its own periods.
+    """
+    n_units, size, m = resid.shape
+    if common is None:
+        common = common_shocks(resid)
     shared = draw_periods(rng, (reps,), length, size, block_length)           # (reps, length)
     solo = draw_periods(rng, (reps, n_units), length, size, block_length)     # (reps, N, length)
-    part_common = np.einsum("nab,rtb->rnta", loadings, common[shared])
+    if not common:
+        return resid[np.arange(n_units)[None, :, None], solo]                 # (reps, N, length, m)
+    factors, loadings, own = split_common(resid)
+    projected = np.einsum("nab,sb->nsa", loadings, factors)                  # (N, S, m)
+    part_common = np.moveaxis(projected[:, shared], 0, 1)                    # (reps, N, length, m)
     part_own = own[np.arange(n_units)[None, :, None], solo]                   # (reps, N, length, m)
     return part_common + part_own
 

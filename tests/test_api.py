@@ -31,40 +31,9 @@ FORBIDDEN = {"maxlag", "maxlags", "nlags", "nlag", "lag", "regression", "level",
              "bandwidth", "replications", "bootstrap", "bootstrap_reps", "backend", "jobs",
              "scheduler", "emissions"}
 
-# Which area owns a module, for the marks below.
-AREAS = {"evidence.roots": "roots", "evidence.convergence.stochastic": "roots",
-         "evidence.cointegration": "cointegration/elasticity",
-         "evidence.elasticity": "cointegration/elasticity", "evidence._commands.coint":
-         "cointegration/elasticity", "evidence._commands.elasticity": "cointegration/elasticity",
-         "evidence.breaks": "breaks", "evidence.grading": "grading", "evidence.indicators":
-         "grading", "evidence._commands.grade": "grading"}
-
-# Known to fail until the area that owns them migrates; the lead removes these after the merges.
-PENDING = {
-    "synonyms": {"Criteria"},
-    "seed": set(),
-    "trend": {"elasticity"},
-    "panel_columns": set(),
-    "layering": {"evidence._commands.coint", "evidence._commands.elasticity",
-                 "evidence._commands.grade", "evidence.breaks.screen"},
-}
-
-def _area(module: str) -> str:
-    for prefix, area in sorted(AREAS.items(), key=lambda kv: -len(kv[0])):
-        if module == prefix or module.startswith(prefix + "."):
-            return area
-    return "?"
-
-
 def _cases(check: str, items: list[tuple[str, str]]) -> list:
-    """``pytest.param`` per (name, module), marked xfail where ``PENDING[check]`` lists it."""
-    out = []
-    for name, module in items:
-        marks = ()
-        if name in PENDING[check]:
-            marks = pytest.mark.xfail(strict=False, reason=f"until area {_area(module)} migrates")
-        out.append(pytest.param(name, marks=marks, id=name))
-    return out
+    """One ``pytest.param`` per (name, module), named by the public name."""
+    return [pytest.param(name, id=name) for name, _module in items]
 
 
 def _public_callables() -> list[tuple[str, str]]:

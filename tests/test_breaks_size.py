@@ -135,7 +135,10 @@ def test_selection_panel_slow(capsys):
     with capsys.disabled():
         print(f"\nseeded panel, correct numbers of breaks out of 40: {seeded}")
         print(f"mean over 20 further panels: { {k: round(v, 2) for k, v in mean.items()} }")
+    # the seeded panel is one of the harder draws (30 of 40 with udmax-lwz, 30 with LWZ, 20 with
+    # BIC); the default reaches 32 on 18 of the 20 further panels (docs/methods/breaks.md)
     assert mean["udmax-lwz"] >= 32
+    assert sum(r["udmax-lwz"] >= 32 for r in runs) >= 18
     assert mean["udmax-lwz"] > mean["lwz"] > mean["bic"]
     assert seeded["udmax-lwz"] >= seeded["bic"]
 

@@ -10,7 +10,14 @@ import statsmodels.api as sm
 from numpy.testing import assert_allclose
 from test_coint_sim import simulate, to_panel
 
-from evidence._resample import bias_corrected, pooled_var, resample_residuals, split_common
+from evidence._resample import (
+    bias_corrected,
+    cd_statistics,
+    common_shocks,
+    pooled_var,
+    resample_residuals,
+    split_common,
+)
 from evidence.cointegration._inference import bootstrap_pvalue, run_bootstrap
 from evidence.cointegration._residual_math import (
     kao_raw,
@@ -81,20 +88,36 @@ def test_split_common_equals_unit_regressions_on_cross_section_means():
     assert_allclose(own[2, :, 1], fit.resid, atol=1e-12)
 
 
+def test_cd_statistic_equals_a_loop_over_pairs():
+    # Pesaran (2004): CD = sqrt(2T/(N(N-1))) Σ_{i<j} ρ_ij, ρ the pairwise correlation (numpy corrcoef)
+    rng = np.random.default_rng(3)
+    resid = rng.standard_normal((7, 30, 2)) + 0.6 * rng.standard_normal((1, 30, 2))
+    for v in range(2):
+        rho = np.corrcoef(resid[:, :, v])
+        total = sum(rho[i, j] for i in range(7) for j in range(i + 1, 7))
+        assert_allclose(cd_statistics(resid)[v], np.sqrt(2 * 30 / (7 * 6)) * total, rtol=1e-12)
+    assert common_shocks(resid)
+
+
 def test_resampling_keeps_common_shocks_common_and_own_shocks_apart():
     rng = np.random.default_rng(4)
     shared = rng.standard_normal((1, 40, 1)) * np.ones((8, 1, 1))   # every unit the same shock
     draws = resample_residuals(shared, np.random.default_rng(5), 3, 50)
     assert_allclose(draws, np.broadcast_to(draws[:, :1], draws.shape), atol=1e-12)
     # 20 independent units: a bootstrap that draws whole periods hands every pair its sample
-    # correlation (about ±0.15 with 25 periods); here pairs share only the weak common part, with
-    # loadings estimated from the same sample (correlations 1/N on average, and half as spread)
+    # correlation (about ±0.15 with 25 periods). Without significant CD the units draw their own
+    # periods (no correlation at all); forced to split, pairs share only the weak common part,
+    # with loadings estimated from the same sample (correlations 1/N on average, half as spread)
     own = rng.standard_normal((20, 25, 1))
-    draws = resample_residuals(own, np.random.default_rng(6), 400, 25)[..., 0]
     pairs = np.triu_indices(20, 1)
     sample = np.corrcoef(own[:, :, 0])[pairs]
-    boot = np.corrcoef(np.moveaxis(draws, 1, 0).reshape(20, -1))[pairs]
     assert np.mean(np.abs(sample)) > 0.12
+    assert not common_shocks(own)
+    draws = resample_residuals(own, np.random.default_rng(6), 400, 25)[..., 0]
+    boot = np.corrcoef(np.moveaxis(draws, 1, 0).reshape(20, -1))[pairs]
+    assert abs(np.mean(boot)) < 0.01 and np.mean(np.abs(boot)) < 0.03
+    draws = resample_residuals(own, np.random.default_rng(6), 400, 25, common=True)[..., 0]
+    boot = np.corrcoef(np.moveaxis(draws, 1, 0).reshape(20, -1))[pairs]
     assert abs(np.mean(boot) - 1 / 20) < 0.02
     assert np.mean(np.abs(boot - np.mean(boot))) < np.mean(np.abs(sample)) / 2
     # the variables of one unit share a period: identical columns stay identical

@@ -6,9 +6,11 @@ from pathlib import Path
 
 import click
 
-import evidence as ev
 from evidence._commands._common import data_options, emit, format_options, load
+from evidence.errors import SpecError
+from evidence.grading import Criteria, grade
 from evidence.tables import grade_table
+from evidence.trend import TREND_TESTS
 
 __all__ = ["command"]
 
@@ -18,7 +20,7 @@ def _pairs(text: str | None) -> dict[str, str]:
     for part in (text or "").split(","):
         if part.strip():
             if "=" not in part:
-                raise ev.SpecError(f"--consumption {part.strip()!r} must be TERRITORIAL=CONSUMPTION.")
+                raise SpecError(f"--consumption {part.strip()!r} must be TERRITORIAL=CONSUMPTION.")
             key, value = part.split("=", 1)
             out[key.strip()] = value.strip()
     return out
@@ -35,7 +37,7 @@ def _pairs(text: str | None) -> dict[str, str]:
               help="Required annual decline, e.g. 0.05 (a normative choice).")
 @click.option("--adjust", type=click.Choice(["bh", "holm", "none"], case_sensitive=False),
               default="bh", show_default=True, help="Multiple-testing adjustment across units.")
-@click.option("--trend-test", type=click.Choice(list(ev.TREND_TESTS), case_sensitive=False),
+@click.option("--trend-test", type=click.Choice(list(TREND_TESTS), case_sensitive=False),
               default="perron-yabu", show_default=True,
               help="Direction test (docs/methods/grading.md lists their measured sizes).")
 @click.option("--no-breaks", is_flag=True, help="Skip the break search (faster on large panels).")
@@ -47,8 +49,8 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     """Grade the evidence of decoupling: direction, duration, robustness, sufficiency."""
     panel = load(data, unit_col, time_col, layout)
     pressures = [p.strip() for p in pressure.split(",") if p.strip()]
-    criteria = ev.Criteria(required_rate=required_rate, adjust=adjust.lower(),
+    criteria = Criteria(required_rate=required_rate, adjust=adjust.lower(),
                            trend_test=trend_test.lower())
-    result = ev.grade(panel, pressures, activity, window=window, criteria=criteria,
+    result = grade(panel, pressures, activity, window=window, criteria=criteria,
                       consumption=_pairs(consumption), latest_break=not no_breaks)
     emit(grade_table(result, fmt.lower()), output)

@@ -17,8 +17,8 @@ the bootstrap keeps
   was kept);
 * serial correlation of the differences (the VAR lags) and the correlation between the innovations
   of ``y`` and ``x`` (endogeneity);
-* contemporaneous dependence between units (common shocks; a common stochastic trend enters
-  through the common innovations).
+* contemporaneous dependence between units (common shocks, when the residuals show them; a common
+  stochastic trend enters through the common innovations).
 
 Levels are rebuilt by cumulating ``w*`` from each unit's observed first values. The test's whole
 procedure (lag selection, bandwidth, standardisation) is then applied to each bootstrap panel.
@@ -43,6 +43,7 @@ from evidence._hac import long_run_variance, newey_west_lags
 from evidence._resample import (
     MAX_ROOT,
     bias_corrected,
+    common_shocks,
     largest_root,
     pooled_var,
     resample_residuals,
@@ -93,7 +94,9 @@ class SieveModel:
     ``intercept`` (N, m); ``lags`` (N, P, m, m) with ``lags[i, j-1]`` = ``A_j`` of unit i (zero
     beyond its order); ``order`` (N,); ``resid`` (N, S, m) the centred residuals of the common
     sample of ``S`` periods; ``start`` (N, m) the observed first levels; ``mean`` (N, m) the
-    stationary mean of ``w``; ``n_years`` the length of the level series.
+    stationary mean of ``w``; ``n_years`` the length of the level series; ``common`` whether the
+    residuals show dependence between units (then common shocks are resampled by whole periods,
+    :func:`evidence._resample.common_shocks`).
     """
 
     intercept: np.ndarray
@@ -103,6 +106,7 @@ class SieveModel:
     start: np.ndarray
     mean: np.ndarray
     n_years: int
+    common: bool = False
 
     @property
     def n_units(self) -> int:
@@ -166,7 +170,7 @@ def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
     order_all = np.full(n_units, order)
     start = np.concatenate([y[:, :1], x[:, 0, :]], axis=1)
     return SieveModel(intercept=intercept, lags=lags, order=order_all, resid=resid, start=start,
-                      mean=mean, n_years=int(y.shape[1]))
+                      mean=mean, n_years=int(y.shape[1]), common=common_shocks(resid))
 
 
 def sieve_draws(model: SieveModel, rng: np.random.Generator, reps: int, *,
@@ -175,7 +179,8 @@ def sieve_draws(model: SieveModel, rng: np.random.Generator, reps: int, *,
     n_units, m = model.intercept.shape
     n_diff = model.n_years - 1
     steps = BURN + n_diff
-    shocks = resample_residuals(model.resid, rng, reps, steps, block_length=block_length)
+    shocks = resample_residuals(model.resid, rng, reps, steps, block_length=block_length,
+                                common=model.common)
     n_lags = model.lags.shape[1]
     stacked = np.concatenate([model.lags[:, j] for j in range(n_lags)], axis=2)  # (N, m, P m)
     w = np.empty((reps, n_units, steps, m))

@@ -56,6 +56,8 @@ def select_orders(y: np.ndarray, x: np.ndarray, lags: int | str, leads: int | st
                   max_lags: int, max_leads: int, trend: str) -> tuple[np.ndarray, np.ndarray]:
     """Each unit's ``(p, q)``: fixed, or the AIC minimum on the sample common to all candidates."""
     n_units, n_years, _ = x.shape
+    if lags != "aic" and leads != "aic":
+        return np.full(n_units, int(lags)), np.full(n_units, int(leads))
     p_grid = range(max_lags + 1) if lags == "aic" else [int(lags)]
     q_grid = range(max_leads + 1) if leads == "aic" else [int(leads)]
     start, stop = max(p_grid) + 1, n_years - max(q_grid)
@@ -100,12 +102,11 @@ def _units(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
         omega = long_run_cov(pair, newey_west_lags(t_len))[1]
         alpha1 = np.sqrt(omega[:, 0, 0] / omega[:, 1, 1])
         out["alpha1"][idx] = alpha1
-        # Pooled pieces: y_{t-1} and Δy net of the other regressors.
-        others = np.delete(z, iy, axis=2)
-        _, y_tilde, _ = batch_ols(z[:, :, iy], others)
-        _, dy_tilde, _ = batch_ols(dy, others)
-        out["yy"][idx] = np.sum(y_tilde ** 2, axis=1)
-        out["ydy"][idx] = np.sum(y_tilde * dy_tilde, axis=1) / alpha1
+        # Pooled pieces: with ỹ_{t-1} and Δỹ net of the other regressors, Σ ỹ² is the inverse of
+        # the y_{t-1} element of (Z'Z)⁻¹ and Σ ỹ Δỹ = α_i Σ ỹ² (Frisch–Waugh–Lovell).
+        yy = 1.0 / xtx_inv[:, iy, iy]
+        out["yy"][idx] = yy
+        out["ydy"][idx] = coef[:, iy] * yy / alpha1
     return out
 
 

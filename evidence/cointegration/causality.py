@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 from scipy import stats
 
-from evidence._resample import bias_corrected, resample_residuals
+from evidence._resample import bias_corrected, common_shocks, resample_residuals
 from evidence._typing import DEFAULT_SEED, Seed
 from evidence._validation import check_choice, check_seed
 from evidence.cointegration._data import (
@@ -102,7 +102,8 @@ def _null_model(y: np.ndarray, x: np.ndarray, lags: int) -> dict[str, np.ndarray
     blocks[:, :, 0, 1] = 0.0                                   # H0: no lagged x in y's equation
     mean = target.mean(axis=1)
     intercept = ((np.eye(2) - blocks.sum(axis=1)) @ mean[..., None])[..., 0]
-    return {"lags": blocks, "intercept": intercept, "resid": resid, "start": z[:, :lags]}
+    return {"lags": blocks, "intercept": intercept, "resid": resid, "start": z[:, :lags],
+            "common": common_shocks(resid)}
 
 
 def _bootstrap_draw(spec: tuple[dict[str, np.ndarray], int, int], rng: np.random.Generator,
@@ -111,7 +112,7 @@ def _bootstrap_draw(spec: tuple[dict[str, np.ndarray], int, int], rng: np.random
     model, lags, block_length = spec
     n_units, n_years = model["start"].shape[0], model["resid"].shape[1] + lags
     shocks = resample_residuals(model["resid"], rng, reps, n_years - lags,
-                                block_length=block_length)
+                                block_length=block_length, common=model["common"])
     z = np.empty((reps, n_units, n_years, 2))
     z[:, :, :lags] = model["start"]
     for t in range(lags, n_years):
@@ -165,7 +166,8 @@ def dumitrescu_hurlin_test(panel: Panel, dependent: str, regressors: str | Seque
     ``(y, x)``, removes the small-sample bias of its lag coefficients (Pope 1990), imposes H0 (no
     lagged ``x`` in ``y``'s equation), and rebuilds both series from their first K values with
     residuals resampled as in :func:`evidence._resample.resample_residuals` (common shocks by
-    whole periods, own shocks unit by unit); Z-bar and Z-bar tilde are monotone in W-bar, so the
+    whole periods when the residuals show dependence between units, own shocks unit by unit);
+    Z-bar and Z-bar tilde are monotone in W-bar, so the
     p-value ``(1 + #{Z* >= Z}) / (B + 1)`` serves both.
 
     References
@@ -223,7 +225,8 @@ def dumitrescu_hurlin_test(panel: Panel, dependent: str, regressors: str | Seque
         else:
             crit = quantiles
         details.update({"reps": reps, "bootstrap_draws": used, "block_length": length,
-                        "bootstrap_pvalue": pvalue, "seed": seed_record(seed)})
+                        "bootstrap_pvalue": pvalue, "seed": seed_record(seed),
+                        "common_shocks": bool(model["common"])})
     options = size_options(inference)
     note, caution = size_warning("Dumitrescu-Hurlin", n_units, n_years, options)
     if note:

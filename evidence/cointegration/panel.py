@@ -191,7 +191,8 @@ def pedroni_test(panel: Panel, dependent: str, regressors: str | Sequence[str], 
                 "block_length": length}
         draws = run_bootstrap(_pedroni_draw, (model, opts), reps=reps, seed=seed, executor=executor)
         boot = {"reps": reps, "block_length": length, "seed": seed_record(seed),
-                "sieve_lags": model.order.tolist()}
+                "sieve_lags": model.order.tolist(),
+                "common_shocks": model.common}
     drift = drift_report(block.x, cols)
     tails = {name: "right" if name == "panel v" else "left" for name in PEDRONI_NAMES}
     alts = {name: ("all units cointegrated (common autoregressive root)" if name.startswith("panel")
@@ -281,7 +282,8 @@ def kao_test(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
         opts = {"lags": lags, "max_lags": max_l, "bandwidth": band, "block_length": length}
         draws = run_bootstrap(_kao_draw, (model, opts), reps=reps, seed=seed, executor=executor)
         boot = {"reps": reps, "block_length": length, "seed": seed_record(seed),
-                "sieve_lags": model.order.tolist()}
+                "sieve_lags": model.order.tolist(),
+                "common_shocks": model.common}
     drift = drift_report(block.x, cols)
     results, warnings = relation_results(
         family="Kao", block=block, raw=values, standardise=lambda _n, v: v,

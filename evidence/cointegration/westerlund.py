@@ -136,7 +136,8 @@ def westerlund_test(panel: Panel, dependent: str, regressors: str | Sequence[str
                 "max_leads": max_q, "block_length": length}
         draws = run_bootstrap(_draw, (model, opts), reps=reps, seed=seed, executor=executor)
         boot = {"reps": reps, "block_length": length, "seed": seed_record(seed),
-                "sieve_lags": model.order.tolist()}
+                "sieve_lags": model.order.tolist(),
+                "common_shocks": model.common}
     drift = drift_report(block.x, cols)
     results, warnings = relation_results(
         family="Westerlund", block=block, raw=values, standardise=standardise,

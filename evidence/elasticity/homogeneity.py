@@ -30,7 +30,13 @@ import numpy as np
 from scipy import stats
 
 from evidence._hac import default_max_lags
-from evidence._resample import bias_corrected, largest_root, pooled_var, resample_residuals
+from evidence._resample import (
+    bias_corrected,
+    common_shocks,
+    largest_root,
+    pooled_var,
+    resample_residuals,
+)
 from evidence._size_card import size_note
 from evidence._typing import DEFAULT_SEED, Seed, Window
 from evidence._validation import check_choice, check_int, check_seed
@@ -125,7 +131,7 @@ def _null_model(blocks: Sequence[tuple[np.ndarray, np.ndarray]], max_lags: int) 
     else:
         innov = [r - r.mean() for r in resid]
     return {"xs": xs, "fitted": [x @ beta for x in xs], "innov": innov, "coef": coef,
-            "order": order, "balanced": balanced}
+            "order": order, "balanced": balanced, "common": balanced and common_shocks(innov)}
 
 
 def _filter(shocks: np.ndarray, coef: np.ndarray, burn: int) -> np.ndarray:
@@ -146,7 +152,8 @@ def _draw(task: tuple[dict[str, Any], Any, int, int]) -> np.ndarray:
     if model["balanced"]:
         n_obs = model["fitted"][0].size
         shocks = resample_residuals(model["innov"], rng, reps, n_obs + burn,
-                                    block_length=block_length)[..., 0]  # (R, N, T + burn)
+                                    block_length=block_length,
+                                    common=model["common"])[..., 0]  # (R, N, T + burn)
         errors = _filter(shocks, model["coef"], burn)
         paths = [errors[:, i] for i in range(errors.shape[1])]
     else:
@@ -247,6 +254,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
                 for a in (0.01, 0.05, 0.10)}
         details.update({"reps": reps, "bootstrap_draws": int(draws.size), "block_length": length,
                         "error_lags": model["order"], "bootstrap_pvalue": pvalue,
+                        "common_shocks": bool(model["common"]),
                         "seed": seed if isinstance(seed, int) else "generator"})
     warnings = []
     note = size_note(name, n_units, int(round(t_bar)), options=f"inference={inference}")

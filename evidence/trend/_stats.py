@@ -192,6 +192,13 @@ def hac_t(y: np.ndarray, hac_lags: int) -> tuple[np.ndarray, np.ndarray, np.ndar
     return est / se, est, se
 
 
+def _store(out: dict[str, np.ndarray], name: str, est: np.ndarray, se: np.ndarray) -> None:
+    """``t_``, ``est_`` and ``se_`` of one estimator; an exact fit (``se = 0``) gives ±inf or NaN."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out[f"t_{name}"] = est / se
+    out[f"est_{name}"], out[f"se_{name}"] = est, se
+
+
 def perron_yabu_parts(y: np.ndarray, d: Design | None = None) -> dict[str, np.ndarray]:
     """The pieces of Perron & Yabu's (2009) feasible quasi-GLS test of ``c'β``.
 
@@ -216,22 +223,32 @@ def perron_yabu_parts(y: np.ndarray, d: Design | None = None) -> dict[str, np.nd
              / np.maximum(np.einsum("tn,tn->n", resid[:-1], resid[:-1]), 1e-300))
     alpha = np.minimum(alpha + (1.0 + 3.0 * alpha) / n, 1.0)
     out: dict[str, np.ndarray] = {"alpha": alpha}
-    for name, a in (("gls", alpha), ("diff", np.ones_like(alpha))):
-        ys = np.vstack([y[:1], y[1:] - a * y[:-1]])                              # (T, m)
-        xs = np.concatenate([d.x[None, :1, :].repeat(y.shape[1], 0),
-                             d.x[None, 1:, :] - a[:, None, None] * d.x[None, :-1, :]],
-                            axis=1)                                               # (m, T, k)
-        xtx = np.einsum("mtk,mtl->mkl", xs, xs)
-        try:
-            inv = np.linalg.inv(xtx)
-        except np.linalg.LinAlgError:  # a dummy that quasi-differencing makes redundant
-            inv = np.linalg.pinv(xtx)
-        coef = np.einsum("mkl,ml->mk", inv, np.einsum("mtl,tm->ml", xs, ys))
-        e = ys.T - np.einsum("mtk,mk->mt", xs, coef)
-        s2 = np.einsum("mt,mt->m", e, e) / (n - d.x.shape[1])
-        est = coef @ d.contrast
-        se = np.sqrt(s2 * np.einsum("k,mkl,l->m", d.contrast, inv, d.contrast))
-        out[f"t_{name}"], out[f"est_{name}"], out[f"se_{name}"] = est / se, est, se
+    k = d.x.shape[1]
+    # a = 1 (first differences): one design for every series
+    diff_x = np.vstack([d.x[:1], d.x[1:] - d.x[:-1]])
+    diff_inv = np.linalg.pinv(diff_x.T @ diff_x)
+    ys = np.vstack([y[:1], np.diff(y, axis=0)])
+    coef = diff_inv @ diff_x.T @ ys                                              # (k, m)
+    e = ys - diff_x @ coef
+    s2 = np.einsum("tm,tm->m", e, e) / (n - k)
+    est = d.contrast @ coef
+    se = np.sqrt(s2 * float(d.contrast @ diff_inv @ d.contrast))
+    _store(out, "diff", est, se)
+    # a = α̂ (quasi-differences): one design per series
+    ys = np.vstack([y[:1], y[1:] - alpha * y[:-1]])                              # (T, m)
+    xs = np.concatenate([d.x[None, :1, :].repeat(y.shape[1], 0),
+                         d.x[None, 1:, :] - alpha[:, None, None] * d.x[None, :-1, :]],
+                        axis=1)                                                   # (m, T, k)
+    xtx = np.einsum("mtk,mtl->mkl", xs, xs)
+    try:
+        inv = np.linalg.inv(xtx)
+    except np.linalg.LinAlgError:  # a dummy that quasi-differencing makes redundant
+        inv = np.linalg.pinv(xtx)
+    coef = np.einsum("mkl,ml->mk", inv, np.einsum("mtl,tm->ml", xs, ys))
+    e = ys.T - np.einsum("mtk,mk->mt", xs, coef)
+    s2 = np.einsum("mt,mt->m", e, e) / (n - k)
+    _store(out, "gls", coef @ d.contrast,
+           np.sqrt(s2 * np.einsum("k,mkl,l->m", d.contrast, inv, d.contrast)))
     return out
 
 

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from dataclasses import fields
 from typing import Any
 
 from evidence.breaks import find_breaks
@@ -20,15 +19,9 @@ SHOWN = 6
 
 
 def criteria(spec: StudySpec) -> Criteria:
-    """The grade's criteria from ``[criteria]``, the study seed and ``[breaks]``.
-
-    The study file says ``reps`` (the one vocabulary); it is passed under the name the grade's
-    ``Criteria`` has for its bootstrap replications.
-    """
-    options = dict(spec.criteria)
-    if "reps" in options and "reps" not in {f.name for f in fields(Criteria)}:
-        options["bootstrap_reps"] = options.pop("reps")
-    return Criteria(**{**options, "seed": spec.seed,
+    """The grade's criteria from ``[criteria]`` (``reps`` included), the study seed and
+    ``[breaks]``."""
+    return Criteria(**{**spec.criteria, "seed": spec.seed,
                        **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
 
 
