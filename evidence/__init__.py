@@ -3,7 +3,7 @@
 The public API, re-exported; see ``docs/`` for the user guide and the methods reference.
 """
 
-from evidence._version import __version__
+from evidence._version import __version__ as __version__
 from evidence.breaks import (
     BreakResult,
     CommonBreakResult,
@@ -59,7 +59,6 @@ from evidence.elasticity import (
 )
 from evidence.errors import DataError, EstimationError, EvidenceError, SpecError
 from evidence.grading import Criteria, GradeResult, grade
-from evidence.trend import TREND_TESTS, trend_test
 from evidence.indicators import (
     BudgetResult,
     RatesResult,
@@ -93,6 +92,7 @@ from evidence.roots import (
 )
 from evidence.study import StudyResult, run_demo, run_study
 from evidence.tables import grade_table, regression_table, test_table
+from evidence.trend import TREND_TESTS, trend_test
 
 __all__ = [
     "JohansenResult",

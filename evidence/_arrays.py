@@ -202,7 +202,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
         t, i, j = (int(v[0]) for v in np.nonzero(np.isinf(block)))
         raise DataError(f"column '{cols[j]}' is infinite for unit '{unit_index[i]}' in {time_name} "
                         f"{full[t]}; fix or remove the value.")
-    complete = ~np.isnan(block).any(axis=2)
+    complete = np.asarray(~np.isnan(block).any(axis=2))
     excluded: list[dict[str, Any]] = []
     keep = np.ones(unit_index.size, dtype=bool)
     first = np.zeros(unit_index.size, dtype=np.int64)
@@ -237,7 +237,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
             first[i], last[i] = lo_all[i], hi_all[i]
             continue
         ok = complete[:, i]
-        present = ~np.isnan(block[:, i, :]).all(axis=1)
+        present = np.asarray(~np.isnan(block[:, i, :]).all(axis=1))
         if not ok.any():
             drop(i, full[present], "unit excluded: no year with every column present")
             continue
@@ -249,7 +249,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
         inner = np.flatnonzero(~ok[lo:hi + 1]) + lo
         if inner.size:
             t = int(inner[0])
-            missing = [c for c, v in zip(cols, block[t, i, :]) if np.isnan(v)]
+            missing = [c for c, v in zip(cols, block[t, i, :], strict=True) if np.isnan(v)]
             where = (f"has no value of '{missing[0]}' in {time_name} {full[t]}" if present[t]
                      else f"has no row for {time_name} {full[t]}")
             if gaps == "raise":
@@ -295,7 +295,7 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
             raise DataError(f"the {time_name}s every unit covers, {full[lo] if lo <= hi else '-'}:"
                             f"{full[hi] if lo <= hi else '-'}, are {max(hi - lo + 1, 0)}; {purpose} needs "
                             f"at least {min_years}. Select units with longer common data or a window.")
-        for pos, i in enumerate(idx):
+        for pos, i in enumerate(idx.tolist()):
             cut = np.r_[np.arange(first[pos], lo), np.arange(hi + 1, last[pos] + 1)]
             if cut.size:
                 excluded.append({"unit": unit_index[i], "column": col_label,

@@ -67,7 +67,8 @@ def save_cached(name: str, params: Mapping[str, Any], arrays: Mapping[str, np.nd
         folder.mkdir(parents=True, exist_ok=True)
         handle, tmp = tempfile.mkstemp(dir=folder, suffix=".tmp")
         with os.fdopen(handle, "wb") as stream:
-            np.savez(stream, **{k: np.asarray(v) for k, v in arrays.items()})
+            payload: dict[str, Any] = {k: np.asarray(v) for k, v in arrays.items()}
+            np.savez(stream, **payload)
         os.replace(tmp, folder / f"{cache_key(name, params)}.npz")
     except OSError:
         return

@@ -151,7 +151,7 @@ def decline_runs(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray) -> dic
 
 
 def _runs(joint: np.ndarray, years: np.ndarray) -> dict[str, Any]:
-    best = (0, None, None)
+    best: tuple[int, int | None, int | None] = (0, None, None)
     run = 0
     for k, ok in enumerate(joint):
         run = run + 1 if ok else 0
@@ -239,7 +239,7 @@ def bootstrap_change_interval(log_p: np.ndarray, years: np.ndarray, alpha: float
     """
     from arch.bootstrap import MovingBlockBootstrap
 
-    block = max(2, int(round(years.size ** (1.0 / 3.0))))
+    block = max(2, round(years.size ** (1.0 / 3.0)))
 
     def slope(t: np.ndarray, y: np.ndarray) -> np.ndarray:
         tc = t - t.mean()

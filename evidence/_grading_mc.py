@@ -6,8 +6,9 @@ Each simulated panel mixes ``UNITS_PER_PROCESS`` units of every process below, s
 multiple-testing adjustment runs over a realistic mix of decliners and non-decliners.
 
 Activity (log GDP): trend growth ``g`` (2 %/yr; 0.2–0.8 %/yr for ``weak-growth``), one or two
-recessions in years common to the panel, drawn at random per panel (a fall of 2–4 % below the previous year, half of it still missing
-the year after and a fifth the year after that), and AR(1) noise (ρ = 0.5, innovations 1 %).
+recessions in years common to the panel, drawn at random per panel (a fall of 2–4 % below the
+previous year, half of it still missing the year after and a fifth the year after that),
+and AR(1) noise (ρ = 0.5, innovations 1 %).
 Pressure (log): a path of its own plus the recession profile of activity (pressure follows the
 cycle with elasticity one) plus noise, AR(1) with innovations of 2 % unless stated.
 
@@ -108,7 +109,7 @@ def _unit(rng: np.random.Generator, process: str, n_years: int,
         k = int(rng.integers(5, 8))
         path = -rng.uniform(0.02, 0.03) * np.maximum(t - (n_years - 1 - k), 0.0)
     elif process == "break-decline":
-        b = int(round(rng.uniform(0.30, 0.45) * n_years))
+        b = round(rng.uniform(0.30, 0.45) * n_years)
         path = -rng.uniform(0.01, 0.03) * np.maximum(t - b, 0.0)
     elif process in ("steady-decline", "unbalanced"):
         path = -rng.uniform(0.01, 0.03) * t
@@ -132,7 +133,8 @@ def _unit(rng: np.random.Generator, process: str, n_years: int,
 def simulate_panel(rng: np.random.Generator, n_years: int,
                    units_per_process: int = UNITS_PER_PROCESS) -> tuple[Panel, dict[str, str]]:
     """One mixed panel (levels, not logs) and the process of each unit."""
-    names, cols = [], {"a": [], "p": [], "c": []}
+    names: list[str] = []
+    cols: dict[str, list[Any]] = {"a": [], "p": [], "c": []}
     starts = recession_starts(rng, n_years)
     for process in PROCESSES:
         for k in range(units_per_process):
@@ -231,7 +233,7 @@ def main(argv: list[str] | None = None) -> None:
                             else "alternative", "n_units": UNITS_PER_PROCESS * len(PROCESSES),
                             "n_years": int(T), "rejection": rate,
                             "mc_se": float(np.sqrt(max(rate * (1 - rate), 1e-12) / len(part))),
-                            "reps": int(len(part)), "counts": dict(Counter(part["rung"]))})
+                            "reps": len(part), "counts": dict(Counter(part["rung"]))})
         data = {"family": "grade", "generated_by": "python -m evidence._grading_mc --write",
                 "seed": SEED, "alpha": 0.05,
                 "note": "rejection = share graded absolute-significant or higher", "entries": entries}

@@ -49,7 +49,7 @@ def newey_west_lags(nobs: int) -> int:
     >>> newey_west_lags(30), newey_west_lags(100)
     (3, 4)
     """
-    return max(int(math.floor(4.0 * (nobs / 100.0) ** (2.0 / 9.0))), 1 if nobs > 2 else 0)
+    return max(math.floor(4.0 * (nobs / 100.0) ** (2.0 / 9.0)), 1 if nobs > 2 else 0)
 
 
 def default_max_lags(nobs: int) -> int:
@@ -60,7 +60,7 @@ def default_max_lags(nobs: int) -> int:
     >>> default_max_lags(30), default_max_lags(100)
     (2, 4)
     """
-    return max(int(math.floor(4.0 * (max(nobs, 0) / 100.0) ** 0.25)), 0)
+    return max(math.floor(4.0 * (max(nobs, 0) / 100.0) ** 0.25), 0)
 
 
 def bartlett_weights(hac_lags: int) -> np.ndarray:

@@ -78,7 +78,7 @@ def _read_excel(path: Path, sheet: str | int | None) -> pd.DataFrame:
         return pd.read_excel(path, sheet_name=0 if sheet is None else sheet, dtype=object)
     except (ImportError, DataError):
         raise
-    except Exception as exc:  # noqa: BLE001 - a damaged workbook can fail anywhere in the reader
+    except Exception as exc:
         first = str(exc).strip().splitlines()[0] if str(exc).strip() else type(exc).__name__
         raise DataError(f"file '{path}' could not be read as Excel: {first}") from None
 
@@ -119,7 +119,7 @@ def _read_csv_typed(path: Path, sep: str, header: list[str]) -> pd.DataFrame | N
         pieces: dict[str, list[np.ndarray]] = {name: [] for name in header}
         dictionaries: dict[str, dict[str, int]] = {}
         for batch in reader:
-            for name, column in zip(header, batch.columns):
+            for name, column in zip(header, batch.columns, strict=True):
                 pieces[name].append(_arrow_piece(column, name, dictionaries, pa))
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, OSError, UnicodeDecodeError, _NotTyped):
         return None

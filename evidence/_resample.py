@@ -54,9 +54,9 @@ def draw_periods(rng: np.random.Generator, shape: tuple[int, ...], length: int, 
                  block_length: int = 1) -> np.ndarray:
     """Period indices ``shape + (length,)`` into a pool of ``pool`` periods, in circular blocks."""
     n_blocks = -(-length // block_length)
-    starts = rng.integers(0, pool, size=shape + (n_blocks,))
+    starts = rng.integers(0, pool, size=(*shape, n_blocks))
     idx = (starts[..., None] + np.arange(block_length)) % pool
-    return idx.reshape(shape + (-1,))[..., :length]
+    return idx.reshape((*shape, -1))[..., :length]
 
 
 def split_common(resid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -107,7 +107,7 @@ def resample_residuals(resid: np.ndarray, rng: np.random.Generator, reps: int, l
     ``common``: split off common shocks (drawn by whole periods for all units); ``None`` decides
     by :func:`common_shocks`. Without the split every unit draws its own periods.
     """
-    n_units, size, m = resid.shape
+    n_units, size, _m = resid.shape
     if common is None:
         common = common_shocks(resid)
     shared = draw_periods(rng, (reps,), length, size, block_length)           # (reps, length)
@@ -123,7 +123,7 @@ def resample_residuals(resid: np.ndarray, rng: np.random.Generator, reps: int, l
 
 def var_design(w: np.ndarray, p: int, first: int) -> tuple[np.ndarray, np.ndarray]:
     """Targets ``w_t`` and regressors ``(1, w_{t-1}, ..., w_{t-p})`` for ``t = first..``."""
-    n_units, n_obs, m = w.shape
+    n_units, n_obs, _m = w.shape
     target = w[:, first:]
     parts = [np.ones((n_units, n_obs - first, 1))]
     for j in range(1, p + 1):

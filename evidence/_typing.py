@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from typing import Literal, Union
+from typing import Literal
 
 import numpy as np
 import pandas as pd
@@ -19,8 +19,8 @@ ADJUSTMENTS: tuple[str, ...] = ("bh", "holm", "none")
 DEFAULT_SEED = 20261202
 Layout = Literal["auto", "long", "wide"]
 Window = tuple[int, int]
-ArrayLike1D = Union[np.ndarray, pd.Series, list, tuple]
-Seed = Union[int, np.random.Generator, None]
+ArrayLike1D = np.ndarray | pd.Series | list | tuple
+Seed = int | np.random.Generator | None
 
 __all__ = ["Trend", "TRENDS", "LAG_RULES", "ADJUSTMENTS", "DEFAULT_SEED", "Layout", "Window",
            "ArrayLike1D", "Seed"]

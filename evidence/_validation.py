@@ -5,11 +5,11 @@ from __future__ import annotations
 import difflib
 import math
 from collections.abc import Iterable, Sequence
-from typing import Any
+from typing import Any, Literal, cast, overload
 
 import numpy as np
 
-from evidence._typing import ADJUSTMENTS, DEFAULT_SEED, LAG_RULES, TRENDS
+from evidence._typing import ADJUSTMENTS, LAG_RULES, TRENDS, Trend
 from evidence.errors import DataError, SpecError
 
 __all__ = ["suggest", "check_choice", "check_columns", "check_window", "check_int", "check_number",
@@ -70,6 +70,16 @@ def check_window(window: Any, years: Sequence[int]) -> tuple[int, int]:
     return start, end
 
 
+@overload
+def check_int(parameter: str, value: Any, *, minimum: int | None = None,
+              maximum: int | None = None, allow_none: Literal[False] = False) -> int: ...
+
+
+@overload
+def check_int(parameter: str, value: Any, *, minimum: int | None = None,
+              maximum: int | None = None, allow_none: bool) -> int | None: ...
+
+
 def check_int(parameter: str, value: Any, *, minimum: int | None = None,
               maximum: int | None = None, allow_none: bool = False) -> int | None:
     """An integer option within ``[minimum, maximum]`` (``None`` passes when ``allow_none``).
@@ -121,9 +131,9 @@ def check_alpha(alpha: Any, parameter: str = "alpha") -> float:
     return check_number(parameter, alpha, low=0.0, high=1.0, inclusive=False, hint=", e.g. 0.05")
 
 
-def check_trend(trend: Any, allowed: Sequence[str] = TRENDS) -> str:
+def check_trend(trend: Any, allowed: Sequence[str] = TRENDS) -> Trend:
     """Deterministic terms: one of ``"none"``, ``"constant"``, ``"trend"`` (or a subset)."""
-    return check_choice("trend", trend, tuple(allowed))
+    return cast(Trend, check_choice("trend", trend, tuple(allowed)))
 
 
 def check_lags(lags: Any, *, parameter: str = "lags", rules: Sequence[str] = LAG_RULES) -> int | str:
@@ -152,7 +162,7 @@ def check_seed(seed: Any) -> int | np.random.Generator:
         return int(np.random.SeedSequence().generate_state(1, dtype=np.uint64)[0] >> np.uint64(1))
     if isinstance(seed, np.random.Generator):
         return seed
-    return check_int("seed", seed, minimum=0)  # type: ignore[return-value]
+    return check_int("seed", seed, minimum=0)
 
 
 def adjust_pvalues(pvalues: Any, method: str) -> np.ndarray:
@@ -195,7 +205,7 @@ def format_years(years: Iterable[int]) -> str:
         return ""
     runs: list[str] = []
     start = prev = ordered[0]
-    for year in ordered[1:] + [None]:  # type: ignore[list-item]
+    for year in [*ordered[1:], None]:
         if year is not None and year == prev + 1:
             prev = year
             continue

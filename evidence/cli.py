@@ -6,6 +6,7 @@ it); 1 an internal failure.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import signal
 import sys
@@ -18,8 +19,17 @@ import click
 
 from evidence._cautions import CAUTION
 from evidence._commands import add_commands
-from evidence._commands._common import (data_options, emit, format_options, load, progress_bar,
-                                        terminal_safe)
+from evidence._commands._common import (
+    basis_option,
+    data_options,
+    emit,
+    format_options,
+    load,
+    progress_bar,
+    quiet_option,
+    terminal_safe,
+    with_basis,
+)
 from evidence._files import DEFAULT_MAX_MB
 from evidence._version import __version__
 from evidence.errors import EvidenceError
@@ -49,7 +59,7 @@ class Terminated(BaseException):
     """SIGTERM arrived: unwind (an output folder being written is removed), then exit 143."""
 
 
-def _terminate(signum: int, frame: object) -> None:  # noqa: ARG001
+def _terminate(signum: int, frame: object) -> None:
     raise Terminated()
 
 
@@ -57,10 +67,8 @@ def _install_signals() -> dict[int, Any]:
     """SIGTERM unwinds like an error; SIGXFSZ (a file-size limit) becomes an error on write."""
     previous: dict[int, Any] = {}
     for signum, handler in ((signal.SIGTERM, _terminate), (signal.SIGXFSZ, signal.SIG_IGN)):
-        try:
+        with contextlib.suppress(ValueError, OSError):  # not the main thread
             previous[signum] = signal.signal(signum, handler)
-        except (ValueError, OSError):  # not the main thread
-            pass
     return previous
 
 
@@ -78,10 +86,11 @@ _EXECUTOR_HELP = ("Where parallel work runs: serial, processes, dask, or a Dask 
 @click.option("--executor", default=None, help=_EXECUTOR_HELP + " [default: serial]")
 @click.option("--overwrite", is_flag=True,
               help="Replace the folder even if it holds files evidence did not write.")
-def demo(out: Path, executor: str | None, overwrite: bool) -> None:
+@quiet_option
+def demo(out: Path, executor: str | None, overwrite: bool, quiet: bool) -> None:
     """Run the main job on the bundled demo panel (an invented scenario) and write the results."""
     executor = None if executor is None else check_executor(executor, "--executor")
-    progress = progress_bar("analyses")
+    progress = progress_bar("demo study: analyses", quiet=quiet)
     try:
         result = run_demo(out, executor=executor, overwrite=overwrite,
                           progress=progress.update if progress else None)
@@ -99,7 +108,28 @@ def demo(out: Path, executor: str | None, overwrite: bool) -> None:
     click.echo("")
     click.echo(f"Wrote {len(result['files'])} files to {result['folder']}/: report.html, "
                "tables/, figures/, results.json, manifest.json, and the demo data and study file.")
+    click.echo("")
+    click.echo(terminal_safe(next_steps(str(result["folder"]))))
+    click.echo("")
     click.echo(CAUTION)
+
+
+def next_steps(folder: str) -> str:
+    """What to do after the demo: read the report, then run the same study on one's own data."""
+    data, spec = f"{folder}/demo_panel.csv", f"{folder}/demo_study.toml"
+    return "\n".join([
+        "Next steps:",
+        f"  1. Open {folder}/report.html in a browser: the verdict and the grade figure come "
+        "first; every table is in tables/ (LaTeX, Markdown, HTML, CSV, JSON).",
+        f"  2. Copy {spec}, point [data] file at your own panel (one row per unit and year), "
+        "name your columns under [roles] and [[pressures]], then run:",
+        "       evidence study my_study.toml --out results",
+        "  3. Or try one analysis at a time on the demo data, for example:",
+        f"       evidence inspect {data}",
+        f"       evidence grade {data} --pressure ghg_territorial --activity gdp "
+        "--consumption ghg_territorial=ghg_consumption --window 1995:2023",
+        f"       evidence breaks {data} --column ghg_territorial --per gdp --log",
+        "  evidence --help lists every command; evidence COMMAND --help its options."])
 
 
 @cli.command()
@@ -110,10 +140,11 @@ def demo(out: Path, executor: str | None, overwrite: bool) -> None:
               help=_EXECUTOR_HELP + " [default: the study file's [run] executor, else serial]")
 @click.option("--overwrite", is_flag=True,
               help="Replace the folder even if it holds files evidence did not write.")
-def study(spec: Path, out: Path, executor: str | None, overwrite: bool) -> None:
+@quiet_option
+def study(spec: Path, out: Path, executor: str | None, overwrite: bool, quiet: bool) -> None:
     """Run a study file (TOML): report, tables, figures, results.json, manifest."""
     executor = None if executor is None else check_executor(executor, "--executor")
-    progress = progress_bar("analyses")
+    progress = progress_bar("study: analyses", quiet=quiet)
     try:
         result = run_study(spec, out, executor=executor, overwrite=overwrite,
                            progress=progress.update if progress else None)
@@ -154,7 +185,7 @@ def inspect(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     emit("\n".join([overview, variables, audit]), output)
 
 
-def _facts_frame(facts: Sequence[tuple[str, str]]):  # noqa: ANN202
+def _facts_frame(facts: Sequence[tuple[str, str]]):
     import pandas as pd
 
     return pd.DataFrame(facts, columns=["item", "value"])
@@ -166,12 +197,13 @@ def _facts_frame(facts: Sequence[tuple[str, str]]):  # noqa: ANN202
 @click.option("--activity", required=True, help="Activity column (e.g. real GDP).")
 @click.option("--window", default=None, help="Years START:END, inclusive (default: common span).")
 @click.option("--hac-lags", type=int, default=None, help="Newey-West lags (default: rule of thumb).")
+@basis_option
 @format_options
 def rates_command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
                   pressure: str, activity: str, window: str | None, hac_lags: int | None,
-                  fmt: str, output: Path | None) -> None:
+                  basis: str | None, fmt: str, output: Path | None) -> None:
     """Trend growth, Tapio class and OECD decoupling factor per unit."""
-    panel = load(data, unit_col, time_col, layout)
+    panel = with_basis(load(data, unit_col, time_col, layout), {pressure: basis} if basis else {})
     result = rates(panel, pressure, activity, window=window, hac_lags=hac_lags)
     emit(rates_table(result, fmt.lower()), output)
 

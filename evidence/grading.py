@@ -28,8 +28,15 @@ from evidence import _grading_axes as axes
 from evidence._json import json_safe
 from evidence._size_card import size_note
 from evidence._typing import DEFAULT_SEED, Window
-from evidence._validation import (adjust_pvalues, check_alpha, check_choice, check_columns,
-                                  check_int, check_window, format_years)
+from evidence._validation import (
+    adjust_pvalues,
+    check_alpha,
+    check_choice,
+    check_columns,
+    check_int,
+    check_window,
+    format_years,
+)
 from evidence.errors import DataError, SpecError
 from evidence.indicators import budget_rate, tapio_class
 from evidence.panel import Panel
@@ -317,7 +324,8 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
     years = panel.years
     start, end = (check_window(window, years) if window is not None
                   else (int(years[0]), int(years[-1])))
-    rows, records, excluded = [], {}, []
+    rows, records = [], {}
+    excluded: list[dict[str, Any]] = []
     spans: list[int] = []
     for pressure in pressures:
         blocks = _unit_blocks(panel, [pressure, activity], (start, end), crit, excluded)
@@ -339,7 +347,7 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
             continue
         for key in ("p_absolute", "p_absolute_all_years", "p_relative"):
             adjusted = adjust_pvalues([r[key] for r in unit_recs], crit.adjust)
-            for r, p in zip(unit_recs, adjusted):
+            for r, p in zip(unit_recs, adjusted, strict=True):
                 r[f"{key}_adj"] = float(p)
         other = (consumption or {}).get(pressure)
         gaps = (_basis_gaps(panel, pressure, other, activity, (start, end), crit)

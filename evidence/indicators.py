@@ -240,11 +240,10 @@ def rates(panel: Panel, pressure: str, activity: str, *, window: Window | str | 
             row, col = np.argwhere(values <= 0)[0]
             raise DataError(f"column '{column}' is not positive at unit '{keep[col]}', year "
                             f"{expected[row]}; growth rates need positive values.")
-    rows = _rates_table(keep, wide_p[keep].to_numpy(), wide_a[keep].to_numpy(), expected,
-                        hac_lags) if keep else []
     if not keep:
         raise DataError(f"no unit has complete '{pressure}' and '{activity}' data in "
                         f"{start}:{end}; choose another window.")
+    rows = _rates_table(keep, wide_p[keep].to_numpy(), wide_a[keep].to_numpy(), expected, hac_lags)
     table = rows.set_index("unit")
     table.index.name = panel.unit_name
     warnings = []

@@ -86,7 +86,8 @@ class Panel:
         index = pd.MultiIndex.from_product([[unit_names[i] for i in order], year_values],
                                            names=[unit, time])
         frame = pd.DataFrame({k: v[:, order].T.ravel() for k, v in arrays.items()}, index=index)
-        notes = _loading.missing_notes(frame, list(arrays)) if any(np.isnan(v).any() for v in arrays.values()) else []
+        has_missing = any(np.isnan(v).any() for v in arrays.values())
+        notes = _loading.missing_notes(frame, list(arrays)) if has_missing else []
         audit = pd.DataFrame(notes, columns=_loading.AUDIT_COLUMNS)
         return cls(frame, audit=audit, meta={"source": "arrays", "unit": unit, "time": time, "basis": {}})
 

@@ -13,7 +13,7 @@ import os
 from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor
 from contextlib import contextmanager
-from typing import Any, Protocol, TypeVar
+from typing import Any, Protocol, TypeVar, cast
 
 import numpy as np
 
@@ -182,6 +182,7 @@ def using_executor(executor: ExecutorLike = "serial") -> Iterator[Any]:
     """
     if isinstance(executor, str):
         address = executor.strip()
+        made: SerialExecutor | ProcessExecutor | DaskExecutor
         if address.startswith(("tcp://", "tls://", "inproc://", "ucx://")):
             made = DaskExecutor(scheduler=address)
         else:
@@ -208,7 +209,8 @@ def task_seeds(seed: Seed, n: int) -> list[np.random.SeedSequence]:
     used) or ``None`` (fresh entropy; record the result's seed to reproduce it).
     """
     if isinstance(seed, np.random.Generator):
-        root = seed.bit_generator.seed_seq  # type: ignore[attr-defined]
+        # numpy types seed_seq as the ISeedSequence protocol; a Generator's is a SeedSequence
+        root = cast(np.random.SeedSequence, seed.bit_generator.seed_seq)
     elif seed is None or isinstance(seed, (int, np.integer)):
         root = np.random.SeedSequence(None if seed is None else int(seed))
     else:

@@ -113,11 +113,13 @@ class ResultProtocol:
     def __post_init__(self) -> None:
         names = {f.name for f in fields(self)}  # type: ignore[arg-type]
         if "details" in names:
-            object.__setattr__(self, "details", _frozen_mapping(getattr(self, "details")))
+            # getattr: a mixin, and only some result classes have these fields
+            object.__setattr__(self, "details", _frozen_mapping(getattr(self, "details")))  # noqa: B009
         if "warnings" in names:
-            object.__setattr__(self, "warnings", tuple(str(w) for w in getattr(self, "warnings")))
+            object.__setattr__(self, "warnings",
+                               tuple(str(w) for w in getattr(self, "warnings")))  # noqa: B009
         if "excluded" in names:
-            object.__setattr__(self, "excluded", excluded_frame(getattr(self, "excluded")))
+            object.__setattr__(self, "excluded", excluded_frame(getattr(self, "excluded")))  # noqa: B009
 
     def summary(self) -> str:
         """A readable block of text (subclasses give their own)."""
@@ -246,7 +248,7 @@ class TestResult(ResultProtocol):
         row: dict[str, Any] = {"test": self.test, "statistic": self.statistic,
                                "pvalue": self.pvalue, "nobs": self.nobs}
         for level in LEVELS:
-            row[f"cv_{int(round(level * 100))}"] = self.critical_values.get(level, math.nan)
+            row[f"cv_{round(level * 100)}"] = self.critical_values.get(level, math.nan)
         row["null"] = self.null
         row["warnings"] = "; ".join(self.warnings)
         return pd.DataFrame([row])
@@ -326,8 +328,9 @@ class TestGroupResult(ResultProtocol):
         """The summaries of every statistic, one after another, then what was left out."""
         blocks = [r.summary() for r in self.results]
         if len(self.excluded):
-            blocks.append("left out: " + "; ".join(f"{r.unit} {r.column} {r.years} ({r.reason})".replace("  ", " ")
-                                                   for r in self.excluded.itertuples()))
+            blocks.append("left out: " + "; ".join(
+                f"{r.unit} {r.column} {r.years} ({r.reason})".replace("  ", " ")
+                for r in self.excluded.itertuples()))
         return "\n".join(blocks)
 
     def to_dict(self) -> dict[str, Any]:
@@ -405,10 +408,7 @@ class Estimate(ResultProtocol):
     def pvalues(self) -> pd.Series:
         """Two-sided p-values (Student t with ``df_resid`` degrees of freedom, else normal)."""
         t = np.abs(self.tstats.to_numpy())
-        if self.df_resid is None:
-            p = 2 * stats.norm.sf(t)
-        else:
-            p = 2 * stats.t.sf(t, self.df_resid)
+        p = 2 * stats.norm.sf(t) if self.df_resid is None else 2 * stats.t.sf(t, self.df_resid)
         return pd.Series(p, index=self.params.index, name="pvalues")
 
     def conf_int(self, alpha: float = 0.05) -> pd.DataFrame:
@@ -439,7 +439,7 @@ class Estimate(ResultProtocol):
         width = max([len(str(k)) for k in frame.index] + [8])
         lines.append(f"  {'':<{width}} {'estimate':>10} {'std.err':>10} {'t':>8} {'p-value':>9}")
         for name, row in frame.iterrows():
-            lines.append(f"  {str(name):<{width}} {format_number(row['estimate']):>10} "
+            lines.append(f"  {name!s:<{width}} {format_number(row['estimate']):>10} "
                          f"{format_number(row['std_error']):>10} {format_number(row['tstat'], 2):>8} "
                          f"{format_pvalue(row['pvalue']):>9}")
         for key, value in self.details.items():

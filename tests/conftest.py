@@ -21,3 +21,13 @@ def long_frame() -> pd.DataFrame:
                          "co2": 50 * np.exp(g_pres * t + rng.normal(0, 0.01)),
                          "pop": 10 * np.exp(0.005 * t)})
     return pd.DataFrame(rows)
+
+
+@pytest.fixture(scope="session")
+def demo_run(tmp_path_factory):
+    """The demo written once per test session (``evidence demo``'s own call): shared by the
+    study and report tests, which only read it."""
+    import evidence as ev
+
+    folder = tmp_path_factory.mktemp("demo-run") / "evidence-demo"
+    return ev.run_demo(folder)

@@ -17,8 +17,13 @@ from statsmodels.stats.diagnostic import breaks_cusumolsresid
 from evidence.breaks import chow_test, cusum_test, find_breaks, ols_cusum_test
 from evidence.breaks.dates import argmax_cdf, argmax_quantile
 from evidence.breaks.find import information_criteria
-from evidence.breaks.segment import (min_length, optimal_partitions, regime_design,
-                                     ssr_table_general, ssr_tables)
+from evidence.breaks.segment import (
+    min_length,
+    optimal_partitions,
+    regime_design,
+    ssr_table_general,
+    ssr_tables,
+)
 from evidence.breaks.tests import break_covariance, wald_equal_regimes
 from evidence.errors import DataError, SpecError
 
@@ -125,10 +130,10 @@ def _brute_force(y: np.ndarray, z: np.ndarray, m: int, h: int) -> tuple[float, t
     best = (math.inf, ())
     for cuts in itertools.combinations(range(h - 1, t - h), m):
         bounds = [0, *[c + 1 for c in cuts], t]
-        if any(b - a < h for a, b in zip(bounds[:-1], bounds[1:])):
+        if any(b - a < h for a, b in itertools.pairwise(bounds)):
             continue
         total = 0.0
-        for a, b in zip(bounds[:-1], bounds[1:]):
+        for a, b in itertools.pairwise(bounds):
             coef, *_ = np.linalg.lstsq(z[a:b], y[a:b], rcond=None)
             total += float(np.sum((y[a:b] - z[a:b] @ coef) ** 2))
         if total < best[0]:

@@ -38,7 +38,7 @@ def test_planted_breaks_recovered_within_intervals(demo_screen):
         if info["type"] != "absolute":
             continue
         row = demo_screen.table.loc[unit]
-        hits = [(b, lo, hi) for b, lo, hi in zip(row.break_years, row.lower, row.upper)
+        hits = [(b, lo, hi) for b, lo, hi in zip(row.break_years, row.lower, row.upper, strict=True)
                 if lo <= info["break_year"] <= hi]
         assert hits, (unit, info["break_year"], row.break_years, row.lower, row.upper)
         if hits[0][0] == info["break_year"] - 1:
@@ -87,7 +87,7 @@ def test_left_out_units_are_listed():
     res = screen_breaks(panel, "x", model="level", max_breaks=2)
     assert list(res.table.index) == ["Full"]
     assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]
-    reasons = dict(zip(res.excluded["unit"], res.excluded["reason"]))
+    reasons = dict(zip(res.excluded["unit"], res.excluded["reason"], strict=True))
     assert "2000" in reasons["Gappy"] and "constant" in reasons["Flat"]
     assert "too few" in reasons["Short"]
     with pytest.raises(DataError, match="no unit"):
@@ -116,7 +116,8 @@ def test_clustering_test_detects_common_years_and_not_random_ones():
         rows = []
         for i, b in enumerate(breaks):
             y = rng.normal(scale=0.3, size=years.size) + 2.0 * (years > b)
-            rows += [{"unit": f"u{i:02d}", "year": int(t), "x": float(v)} for t, v in zip(years, y)]
+            rows += [{"unit": f"u{i:02d}", "year": int(t), "x": float(v)}
+                     for t, v in zip(years, y, strict=True)]
         return load_panel(pd.DataFrame(rows), unit="unit", time="year")
 
     common = screen_breaks(panel_with([2000] * 12), "x", model="level", max_breaks=1, reps=199)
@@ -134,7 +135,7 @@ def test_common_breaks_sum_of_tables_and_recovery():
     for i in range(8):
         y = rng.normal(scale=1.0, size=years.size) + 1.5 * (years > 1994)
         values.append(y)
-        rows += [{"unit": f"u{i}", "year": int(t), "x": float(v)} for t, v in zip(years, y)]
+        rows += [{"unit": f"u{i}", "year": int(t), "x": float(v)} for t, v in zip(years, y, strict=True)]
     panel = load_panel(pd.DataFrame(rows), unit="unit", time="year")
     res = common_breaks(panel, "x", model="level", max_breaks=2)
     assert res.break_years == (1994,)
@@ -212,4 +213,4 @@ def test_screen_of_many_units_is_one_table():
     assert set(res.table.columns) >= {"n_breaks", "break_years", "lower", "upper", "pvalue",
                                       "pvalue_adjusted", "ar1", "ar1_covered"}
     flagged = res.table[res.table["n_breaks"] > 0]
-    assert all(len(b) == n for b, n in zip(flagged["break_years"], flagged["n_breaks"]))
+    assert all(len(b) == n for b, n in zip(flagged["break_years"], flagged["n_breaks"], strict=True))

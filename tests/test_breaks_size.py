@@ -4,6 +4,8 @@ Carlo; the large versions are marked slow). The processes are those of ``evidenc
 
 from __future__ import annotations
 
+from itertools import pairwise
+
 import numpy as np
 import pytest
 from numpy.testing import assert_allclose
@@ -11,8 +13,15 @@ from numpy.testing import assert_allclose
 from evidence._size_card import size_note
 from evidence.breaks import _batch, find_breaks, screen_breaks
 from evidence.breaks._calibrate import COVERED, GRID, _Conditional, null_table
-from evidence.breaks._sizes import (_panel, _rng, kink_series, null_series, screen_rejection,
-                                    selection_counts, selection_panel)
+from evidence.breaks._sizes import (
+    _panel,
+    _rng,
+    kink_series,
+    null_series,
+    screen_rejection,
+    selection_counts,
+    selection_panel,
+)
 from evidence.breaks.find import make_spec, size_test_name
 
 
@@ -79,7 +88,7 @@ def test_piecewise_fit_equals_a_plain_loop():
     t = np.arange(1, 31, dtype=float)
     for n in range(3):
         bounds = [0, breaks[n, 0] + 1, breaks[n, 1] + 1, 30]
-        for j, (a, b) in enumerate(zip(bounds[:-1], bounds[1:])):
+        for j, (a, b) in enumerate(pairwise(bounds)):
             z = np.column_stack([np.ones(b - a), t[a:b]])
             coef, *_ = np.linalg.lstsq(z, y[n, a:b], rcond=None)
             assert_allclose([fit["intercept"][n, j], fit["slope"][n, j]], coef, atol=1e-9)

@@ -10,6 +10,7 @@ import pytest
 
 import evidence as ev
 from evidence.cli import main
+from evidence.study.choice import DEFAULT_LIMIT
 
 
 @pytest.fixture(scope="module")
@@ -28,12 +29,16 @@ def test_demo_writes_results_folder(tmp_path, capsys):
     tables = {p.name for p in (out / "tables").iterdir()}
     assert {"grade.md", "grade.tex", "grade.csv", "rates_ghg_territorial.csv",
             "rates_ghg_consumption.md", "audit.md"} <= tables
+    # unit figures for the units chosen by interest (study/choice.py), every unit at a glance
     figures = list((out / "figures").glob("indexed_*.png"))
-    assert len(figures) == len(ev.demo_panel().units)
+    assert 0 < len(figures) <= DEFAULT_LIMIT < len(ev.demo_panel().units)
+    assert (out / "figures" / "all_units.png").exists()
+    assert (out / "figures" / "grade_ghg_territorial.png").exists()
     assert "not a policy verdict" in (out / "report.html").read_text()
     text = capsys.readouterr().out
     assert "invented regions" in text and "not a policy verdict" in text
     assert "Decoupling grade" in text
+    assert "Next steps" in text and f"{out}/report.html" in text
 
 
 def test_study_command(tmp_path, capsys):
@@ -301,7 +306,7 @@ def test_output_file_is_written_whole(demo_csv, tmp_path, capsys, monkeypatch):
     target.write_text("old table\n")
     real_replace = os.replace
 
-    def failing_replace(src, dst):  # noqa: ANN001
+    def failing_replace(src, dst):
         raise OSError(28, "No space left on device")
 
     monkeypatch.setattr(os, "replace", failing_replace)

@@ -124,7 +124,7 @@ def test_bad_input():
     frame = panel.frame.reset_index()
     frame.loc[frame["unit"] == "u03", "x1"] = 1.0
     from evidence.panel import load_panel
-    with pytest.raises(DataError, match="column 'x1' is constant .* for unit 'u03'"):
+    with pytest.raises(DataError, match=r"column 'x1' is constant .* for unit 'u03'"):
         long_run(load_panel(frame, unit="unit", time="year"), "y", "x1", estimator="pmg")
     with pytest.raises(SpecError, match="estimator='gmm'"):
         long_run(panel, "y", "x1", estimator="gmm")

@@ -53,7 +53,7 @@ def test_default_size_band_drift_and_autocorrelation(family):
     # differences (evidence._montecarlo "walks"). 200 draws, B = 99, nominal 5 %. The band
     # [1.5 %, 9 %] is the card's [3 %, 7.5 %] widened by about one Monte Carlo s.e. (1.5 points);
     # the card itself (500 draws, B = 199) is checked against [3 %, 7.5 %] in test_coint_sizes.py.
-    size, asym = _rates("walks", {"drift": 1.0, "rho": 0.5}, 20, 30, 200, 99, 43, (family,))
+    size, _asym = _rates("walks", {"drift": 1.0, "rho": 0.5}, 20, 30, 200, 99, 43, (family,))
     assert all(0.015 <= rate <= 0.09 for rate in size.values()), size
     power, _ = _rates("cointegrated", {"drift": 1.0, "rho": 0.5}, 20, 30, 40, 99, 44, (family,))
     assert min(power.values()) >= 0.4 and np.median(list(power.values())) >= 0.8, power
@@ -137,7 +137,8 @@ def test_long_run_estimators_unbiased_over_draws():
                 long_run(panel, "y", "x1", estimator=name, pooled=pooled).params["x1"])
     means = {k: float(np.mean(v)) for k, v in est.items()}
     # observed when written: DOLS 0.704 (pooled) / 0.711 (group); FMOLS 0.714 / 0.735 -- FMOLS
-    # keeps more small-T bias than DOLS (Kao & Chiang 2000 report the same ranking, from memory); MG 0.704, PMG 0.699
+    # keeps more small-T bias than DOLS (Kao & Chiang 2000 report the same ranking, from memory);
+    # MG 0.704, PMG 0.699
     tolerance = {"dols": 0.02, "fmols": 0.05, "mg": 0.03, "pmg": 0.02}
     assert all(abs(m - 0.7) < tolerance[k.split("-")[0]] for k, m in means.items()), means
 

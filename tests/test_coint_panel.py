@@ -230,7 +230,7 @@ def test_bad_input():
     frame = panel.frame.reset_index()
     frame.loc[frame["unit"] == "u02", "x1"] = 3.0
     flat = load_panel(frame, unit="unit", time="year")
-    with pytest.raises(DataError, match="column 'x1' is constant .* for unit 'u02'"):
+    with pytest.raises(DataError, match=r"column 'x1' is constant .* for unit 'u02'"):
         kao_test(flat, "y", "x1")
     with pytest.raises(DataError, match="needs at least"):
         westerlund_test(panel, "y", "x1", lags=6, leads=6)

@@ -15,9 +15,8 @@ import numpy as np
 import pandas as pd
 import pytest
 import statsmodels.api as sm
-from statsmodels.tsa.filters.hp_filter import hpfilter
-
 from evidence._demo import generate as gen
+from statsmodels.tsa.filters.hp_filter import hpfilter
 
 DEMO_DIR = Path(gen.__file__).resolve().parent
 COLUMNS = ["region", "year", "gdp", "population", "energy", "ghg_territorial",
@@ -115,7 +114,7 @@ def test_other_seed_differs(panel):
 def test_write_is_byte_reproducible_and_shipped_files_are_fresh(tmp_path):
     first = gen.write(tmp_path / "a")
     second = gen.write(tmp_path / "b")
-    for path_a, path_b in zip(first, second):
+    for path_a, path_b in zip(first, second, strict=True):
         assert path_a.read_bytes() == path_b.read_bytes()
         shipped = DEMO_DIR / path_a.name
         assert shipped.read_bytes() == path_a.read_bytes(), (

@@ -75,7 +75,7 @@ def test_clustered_covariances_count_only_effects_not_nested(grunfeld, cov, esti
     assert_allclose(est.std_errors.to_numpy(),
                     ref.std_errors.to_numpy() * np.sqrt((n - k) / (n - k - counted)), rtol=1e-10)
     assert est.df_resid == 9 and est.details["effects_counted"] == counted   # G = 10 firms
-    assert f"k = 2 slopes" in est.cov_type and "t with 9 df" in est.cov_type
+    assert "k = 2 slopes" in est.cov_type and "t with 9 df" in est.cov_type
     if estimator == "fe" and cov == "unit-cluster":   # nested effects: linearmodels agrees
         auto = PanelOLS(frame["invest"], frame[["value", "capital"]],
                         entity_effects=True).fit(cov_type="clustered", debiased=True, **config)

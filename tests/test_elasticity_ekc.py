@@ -34,10 +34,10 @@ def _naive_s_tilde(blocks):
     den_fe = sum(dm(x).T @ dm(x) for y, x in blocks)
     b_fe = np.linalg.solve(den_fe, num_fe)
     sig = [float(np.sum((dm(y) - dm(x) @ b_fe) ** 2)) / (len(y) - 1) for y, x in blocks]
-    b_w = np.linalg.solve(sum(dm(x).T @ dm(x) / s for (y, x), s in zip(blocks, sig)),
-                          sum(dm(x).T @ dm(y) / s for (y, x), s in zip(blocks, sig)))
+    b_w = np.linalg.solve(sum(dm(x).T @ dm(x) / s for (y, x), s in zip(blocks, sig, strict=True)),
+                          sum(dm(x).T @ dm(y) / s for (y, x), s in zip(blocks, sig, strict=True)))
     total = 0.0
-    for (y, x), s in zip(blocks, sig):
+    for (y, x), s in zip(blocks, sig, strict=True):
         b_i = np.linalg.lstsq(dm(x), dm(y), rcond=None)[0]
         total += float((b_i - b_w) @ (dm(x).T @ dm(x) / s) @ (b_i - b_w))
     return total

@@ -214,7 +214,7 @@ def test_internal_failure_mid_run_leaves_the_old_run(tmp_path, earlier_run, monk
 
     spec, out, before = earlier_run
 
-    def broken(panel, spec):  # noqa: ANN001, ARG001
+    def broken(panel, spec):
         raise RuntimeError("a bug in a step")
 
     monkeypatch.setitem(steps.STEPS, "elasticity", broken)

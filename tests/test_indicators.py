@@ -137,14 +137,14 @@ def _naive_hac_slope(y, years, lags):
     X = [[1.0, float(t)] for t in years]
     xtx = np.zeros((2, 2))
     xty = np.zeros(2)
-    for row, value in zip(X, y):
+    for row, value in zip(X, y, strict=True):
         for i in range(2):
             xty[i] += row[i] * value
             for j in range(2):
                 xtx[i, j] += row[i] * row[j]
     inv = np.linalg.inv(xtx)
     beta = inv @ xty
-    scores = [np.array(row) * (value - (beta[0] + beta[1] * row[1])) for row, value in zip(X, y)]
+    scores = [np.array(row) * (value - (beta[0] + beta[1] * row[1])) for row, value in zip(X, y, strict=True)]
     s = np.zeros((2, 2))
     for lag in range(0, lags + 1):
         weight = 1.0 if lag == 0 else 1.0 - lag / (lags + 1.0)
@@ -159,7 +159,7 @@ def test_batch_trend_growth_matches_loop_oracle():
     rng = np.random.default_rng(99)
     years = np.arange(2001, 2021)
     y = rng.normal(size=(years.size, 6)).cumsum(axis=0) * 0.03 + 0.01 * (years - 2001)[:, None]
-    slopes, ses, lags = trend_growth_batch(y, years, hac_lags=2)
+    slopes, ses, _lags = trend_growth_batch(y, years, hac_lags=2)
     for i in range(y.shape[1]):
         slope, se = _naive_hac_slope(y[:, i], years, 2)
         assert_allclose([slopes[i], ses[i]], [slope, se], rtol=1e-8)

@@ -105,7 +105,7 @@ def test_cli_battery_and_dependence(capsys):
     assert "Unit-root battery: ln ghg_territorial" in out and "decision" in out
     assert main(["roots", DEMO_CSV, "--column", "dmc", "--dependence", "--format", "json"]) == 0
     payload = json.loads(capsys.readouterr().out)
-    assert [r["test"] for r in payload["rows"]][0] == "Pesaran CD"
+    assert next(r["test"] for r in payload["rows"]) == "Pesaran CD"
     assert main(["roots", DEMO_CSV, "--column", "dmc", "--tests", "adf", "--format", "csv",
                  "--no-differences"]) == 0
     csv = capsys.readouterr().out

@@ -54,14 +54,14 @@ def test_conditional_pvalue_equals_a_plain_loop():
     phis = np.array([0.05, 0.42, -0.2])
     got = table.pvalue(stats, phis, tail="lower")
     h = 0.3 / math.sqrt(30)
-    for s, f, p in zip(stats, phis, got):
+    for s, f, p in zip(stats, phis, got, strict=True):
         tilde = f + (1 + 3 * f) / 29                     # Kendall's correction, n = T - 1
         pos = np.interp(tilde, GRID, np.arange(len(GRID)))
         lo, w = int(pos), pos - int(pos)
         rows = []
         for g in (lo, min(lo + 1, len(GRID) - 1)):
             kern = [math.exp(-0.5 * ((phi - f) / h) ** 2) for phi in table.phis[g]]
-            hit = sum(k for k, d in zip(kern, table.draws[g]) if d <= s)
+            hit = sum(k for k, d in zip(kern, table.draws[g], strict=True) if d <= s)
             rows.append((hit + max(kern)) / (sum(kern) + max(kern)))
         assert p == pytest.approx((1 - w) * rows[0] + w * rows[1], rel=1e-9)
     assert_allclose(bias_corrected(np.array([0.5]), 29, detrended=True), 0.5 + 4 / 29)
@@ -92,7 +92,7 @@ def test_fisher_caps_units_beyond_the_mackinnon_table():
     ibm = df[df["firm"] == "IBM"].sort_values("year")["value"].to_numpy()
     assert t == pytest.approx(ADF(ibm, trend="c", max_lags=4, method="aic").stat, abs=1e-6)
     simulated = ev.fisher_test(panel, "value", combine="z", max_lags=4)
-    assert 0 < min(simulated.details["unit_pvalues"].values())
+    assert min(simulated.details["unit_pvalues"].values()) > 0
     assert max(simulated.details["unit_pvalues"].values()) < 1
 
 

@@ -18,7 +18,8 @@ import pytest
 from evidence._montecarlo import rejection_rates
 from evidence._size_card import size_card, size_note
 from evidence.panel import Panel
-from evidence.roots import dependence, panel as panel_tests, series
+from evidence.roots import dependence, series
+from evidence.roots import panel as panel_tests
 from evidence.roots._make_size_card import DEFAULTS, MARKERS, defaults_table, markdown
 
 CARD = Path(__file__).resolve().parents[1] / "evidence" / "_sizes" / "roots.json"

@@ -16,8 +16,8 @@ from scipy import stats
 from evidence.errors import DataError, SpecError
 from evidence.panel import load_panel
 from evidence.roots import _cips_tables, _ips_tables
-from evidence.roots._common import ARCH_TREND
 from evidence.roots._cips import cadf_tstats, simulate_cips, table_critical_values
+from evidence.roots._common import ARCH_TREND
 from evidence.roots._panel_math import adf_tstats, combine_pvalues, ips_moments
 from evidence.roots.panel import (
     breitung_test,
@@ -74,8 +74,8 @@ def test_ips_w_by_hand_from_arch_unit_statistics():
         p.append(a.lags)
         n.append(a.nobs)
     grid = np.array(_ips_tables.IPS_T, dtype=float)
-    e = [np.interp(n_i, grid, _ips_tables.IPS_MEAN["constant"][p_i]) for p_i, n_i in zip(p, n)]
-    v = [np.interp(n_i, grid, _ips_tables.IPS_VAR["constant"][p_i]) for p_i, n_i in zip(p, n)]
+    e = [np.interp(n_i, grid, _ips_tables.IPS_MEAN["constant"][p_i]) for p_i, n_i in zip(p, n, strict=True)]
+    v = [np.interp(n_i, grid, _ips_tables.IPS_VAR["constant"][p_i]) for p_i, n_i in zip(p, n, strict=True)]
     w = math.sqrt(10) * (np.mean(t) - np.mean(e)) / math.sqrt(np.mean(v))
     assert_allclose(res.statistic, w, rtol=1e-12)
     assert_allclose(res.pvalue, stats.norm.cdf(w), rtol=1e-12)
@@ -153,7 +153,8 @@ def _llc_loop(y: np.ndarray, p: int, bandwidth: int) -> float:
         v_all.append(v / sig)
         lrv = sum(d * d for d in dy) / (t_len - 1)
         for lag in range(1, bandwidth + 1):
-            lrv += 2 * (1 - lag / (bandwidth + 1)) * sum(dy[t] * dy[t - lag] for t in range(lag, t_len - 1)) / (t_len - 1)
+            lrv += (2 * (1 - lag / (bandwidth + 1))
+                    * sum(dy[t] * dy[t - lag] for t in range(lag, t_len - 1)) / (t_len - 1))
         ratios.append(math.sqrt(lrv) / sig)
     e, v = np.concatenate(e_all), np.concatenate(v_all)
     fit = sm.OLS(e, v).fit()
@@ -311,7 +312,7 @@ def test_bad_panels_raise_errors_naming_the_unit():
     const = y.copy()
     const[:, 3] = 2.5
     for func in (ips_test, llc_test, fisher_test, breitung_test, hadri_test, cips_test):
-        with pytest.raises(DataError, match="constant.*unit 'u03'"):
+        with pytest.raises(DataError, match=r"constant.*unit 'u03'"):
             func(make_panel(const), "x")
     short = y.copy()
     short[:24, 1] = np.nan            # u01 has 6 years: too short for 4 lags
@@ -319,11 +320,11 @@ def test_bad_panels_raise_errors_naming_the_unit():
         ips_test(make_panel(short), "x", lags=4)
     gap = y.copy()
     gap[10, 4] = np.nan
-    with pytest.raises(DataError, match="unit 'u04' has no (row|value).* 2000"):
+    with pytest.raises(DataError, match=r"unit 'u04' has no (row|value).* 2000"):
         ips_test(make_panel(gap), "x")
     frame = pd.DataFrame({"unit": np.repeat(["a", "b"], 30), "year": np.tile(range(1990, 2020), 2),
                           "x": np.nan, "z": np.arange(60.0)})
-    with pytest.raises(DataError, match="0 unit.*usable data for x"):
+    with pytest.raises(DataError, match=r"0 unit.*usable data for x"):
         ips_test(load_panel(frame), "x")
     with pytest.raises(DataError, match="not in the data"):
         ips_test(make_panel(y), "nope")

@@ -14,8 +14,8 @@ from arch.unitroot import ADF, DFGLS, KPSS, PhillipsPerron, ZivotAndrews
 from numpy.testing import assert_allclose
 
 from evidence.errors import DataError, SpecError
-from evidence.roots._common import ARCH_TREND
 from evidence.roots import _lee_strazicich_tables as ls_tables
+from evidence.roots._common import ARCH_TREND
 from evidence.roots._lm_breaks import break_grid, lm_search, lm_statistics
 from evidence.roots.series import (
     adf_test,
@@ -118,7 +118,7 @@ def test_za_equals_arch_and_break_year_is_last_old_year(model, arch_trend, offse
             det.append(float(t > b))
         if model in ("trend", "both"):
             det.append(float(t - b) if t > b else 0.0)
-        rows.append(det + [values[t - 1], dy[t - 2], dy[t - 3]])
+        rows.append([*det, values[t - 1], dy[t - 2], dy[t - 3]])
         lhs.append(dy[t - 1])
     fit = sm.OLS(np.array(lhs), np.array(rows)).fit()
     assert_allclose(fit.tvalues[len(rows[0]) - 3], ours.statistic, rtol=1e-9)
@@ -172,7 +172,7 @@ def test_lee_strazicich_statistic_equals_plain_loop(model, dates, k):
 def test_lee_strazicich_search_is_the_minimum_over_the_grid():
     y = _walk(40, seed=12).to_numpy()
     dates = break_grid(40, 1, 0.1)
-    stat, best, k, all_stats = lm_search(y, dates, "level", 1, 1)
+    stat, best, _k, all_stats = lm_search(y, dates, "level", 1, 1)
     loop = [_ls_oracle(y, [int(d[0])], "level", 1) for d in dates]
     assert_allclose(all_stats, loop, rtol=1e-9)
     assert stat == pytest.approx(min(loop)) and int(best[0]) == int(dates[np.argmin(loop)][0])

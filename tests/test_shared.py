@@ -82,7 +82,7 @@ def test_arrays_balanced_demo_equals_wide():
 
 def test_arrays_gap_rules_list_what_they_leave_out():
     panel = _gappy_panel()
-    with pytest.raises(DataError, match="Aldwyr.*gdp.*1995"):
+    with pytest.raises(DataError, match=r"Aldwyr.*gdp.*1995"):
         panel.arrays(["ghg_territorial", "gdp"])
     dropped = panel.arrays(["ghg_territorial", "gdp"], gaps="exclude", span="own")
     assert "Aldwyr" not in dropped.units
@@ -101,7 +101,7 @@ def test_arrays_short_and_constant_units():
     frame = ev.demo_panel().frame
     frame.loc["Aldwyr", "gdp"] = 5.0
     panel = ev.load_panel(frame.reset_index())
-    with pytest.raises(DataError, match="constant.*Aldwyr"):
+    with pytest.raises(DataError, match=r"constant.*Aldwyr"):
         panel.arrays(["gdp"])
     assert "Aldwyr" not in panel.arrays(["gdp"], constant="exclude").units
     with pytest.raises(DataError, match="needs at least 40"):

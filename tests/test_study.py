@@ -3,8 +3,10 @@
 from __future__ import annotations
 
 import json
+import re
 from dataclasses import replace
 from html.parser import HTMLParser
+from pathlib import Path
 
 import pandas as pd
 import pytest
@@ -81,13 +83,13 @@ class _Checker(HTMLParser):
         super().__init__()
         self.stack, self.scripts = [], 0
 
-    def handle_starttag(self, tag, attrs):  # noqa: ANN001
+    def handle_starttag(self, tag, attrs):
         if tag == "script":
             self.scripts += 1
         if tag not in ("meta", "img", "br"):
             self.stack.append(tag)
 
-    def handle_endtag(self, tag):  # noqa: ANN001
+    def handle_endtag(self, tag):
         assert self.stack and self.stack[-1] == tag, (self.stack[-3:], tag)
         self.stack.pop()
 
@@ -120,11 +122,12 @@ figures = false
     assert second.results["not_run"] == {} or "roots" not in second.results["not_run"]
 
 
-def test_demo_study_runs(tmp_path):
-    result = ev.run_demo(tmp_path / "demo")
+def test_demo_study_runs(demo_run):
+    result = demo_run
     study = result["study"]
-    assert (tmp_path / "demo" / "report.html").exists()
-    assert (tmp_path / "demo" / "tables" / "grade.tex").exists()
+    folder = Path(result["folder"])
+    assert (folder / "report.html").exists()
+    assert (folder / "tables" / "grade.tex").exists()
     assert any(p.suffix == ".svg" for p in study.files)
     assert study.results["not_run"] == {}
     truth = ev.demo_truth()["regions"]
@@ -189,8 +192,8 @@ def test_study_result_protocol_and_executor_option(tmp_path):
     res = run_study(spec, tmp_path / "out", executor=executor)
     assert repr(res).startswith("StudyResult(folder=") and "\n" not in repr(res)
     assert str(res) == res.summary() and "Wrote" in res.summary()
-    assert res.steps == ("grade", "rates", "elasticity")
-    assert res.to_frame()["status"].tolist() == ["run", "run", "run"]
+    assert res.steps == ("grade", "rates", "breaks", "elasticity")
+    assert res.to_frame()["status"].tolist() == ["run", "run", "run", "run"]
     payload = res.to_dict()
     assert json.loads(json.dumps(payload)) == payload and "grade" not in payload
     manifest = json.loads((tmp_path / "out" / "manifest.json").read_text())
@@ -371,7 +374,7 @@ def test_an_unreachable_scheduler_is_a_data_error(tmp_path):
     pytest.importorskip("dask.distributed")
     _panel_csv(tmp_path)
     (tmp_path / "study.toml").write_text(MINIMAL + LIGHT + '[run]\nexecutor = "tcp://127.0.0.1:9"\n')
-    with dask.config.set({"distributed.comm.timeouts.connect": "1s"}):
-        with pytest.raises(ev.DataError, match="cannot start the executor 'tcp://127.0.0.1:9'"):
-            run_study(tmp_path / "study.toml", tmp_path / "out")
+    with (dask.config.set({"distributed.comm.timeouts.connect": "1s"}),
+          pytest.raises(ev.DataError, match=re.escape("cannot start the executor 'tcp://127.0.0.1:9'"))):
+        run_study(tmp_path / "study.toml", tmp_path / "out")
     assert not (tmp_path / "out").exists()

@@ -95,9 +95,9 @@ SCALARS = st.one_of(
                      "serial", "processes", "tcp://", "territorial", "consumption"]),
 )
 VALUES = st.one_of(SCALARS, st.lists(SCALARS, max_size=4),
-                   st.dictionaries(st.sampled_from(list(UNITS) + ["Nowhere", "x"]), SCALARS,
+                   st.dictionaries(st.sampled_from([*list(UNITS), "Nowhere", "x"]), SCALARS,
                                    max_size=2))
-TABLES = st.sampled_from(sorted(SCHEMA) + ["windw", "extra"])
+TABLES = st.sampled_from([*sorted(SCHEMA), "windw", "extra"])
 
 
 SUBSETS = {
@@ -141,7 +141,7 @@ def study_files(draw) -> str:
     spec = json.loads(json.dumps(BASE))
     for _ in range(draw(st.integers(min_value=1, max_value=3))):
         table = draw(TABLES)
-        keys = sorted(SCHEMA.get(table, {})) + ["unknown_key"]
+        keys = [*sorted(SCHEMA.get(table, {})), "unknown_key"]
         key = draw(st.sampled_from(keys))
         value = draw(_value(key))
         if table == "pressures":

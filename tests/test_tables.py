@@ -15,8 +15,16 @@ import pytest
 import evidence as ev
 from evidence._cautions import CAUTION
 from evidence.results import Estimate, TestResult
-from evidence.tables import (FORMATS, beta_table, ekc_table, latex_escape, rates_table,
-                             regression_table, render_frame, test_table)
+from evidence.tables import (
+    FORMATS,
+    beta_table,
+    ekc_table,
+    latex_escape,
+    rates_table,
+    regression_table,
+    render_frame,
+    test_table,
+)
 from evidence.tables._cells import latex_escape as escape_latex
 from evidence.tables._names import display_name, test_name
 

@@ -11,8 +11,7 @@ import evidence as ev
 from evidence import SpecError
 from evidence._hac import long_run_cov
 from evidence._montecarlo import ar1
-from evidence.trend import TREND_TESTS, trend_batch, trend_test
-from evidence.trend import _calibrate, _stats
+from evidence.trend import TREND_TESTS, _stats, trend_batch, trend_test
 from evidence.trend.robust import _lower_pvalue, _table
 
 
@@ -24,7 +23,7 @@ def _noise(rng, n, reps, rho):
 def test_hac_t_equals_statsmodels():
     rng = np.random.default_rng(1)
     y = rng.standard_normal((30, 3)).cumsum(axis=0)
-    t, est, se = _stats.hac_t(y, 3)
+    _t, est, se = _stats.hac_t(y, 3)
     x = sm.add_constant(np.arange(30.0))
     for i in range(3):
         # Reference library: statsmodels OLS with HAC (Bartlett, 3 lags, small-sample correction)
@@ -77,14 +76,14 @@ def test_fixed_b_simulation_matches_kiefer_vogelsang_polynomial():
     for b in (0.1, 0.3):
         e = rng.standard_normal((n, reps))
         mean = e.mean(axis=0)
-        lrv = long_run_cov((e - mean).T[:, :, None], int(round(b * n)) - 1).long_run[:, 0, 0]
+        lrv = long_run_cov((e - mean).T[:, :, None], round(b * n) - 1).long_run[:, 0, 0]
         t = mean / np.sqrt(lrv / n)
         expected = 1.6449 + 2.1859 * b + 0.3142 * b**2 - 0.3427 * b**3
         assert np.quantile(t, 0.95) == pytest.approx(expected, abs=0.06)
 
 
 def test_pvalue_at_the_critical_value_is_the_level():
-    alphas, theta, c = _table("py", 30, None)
+    alphas, _theta, c = _table("py", 30, None)
     k = list(alphas).index(0.05)
     stat = np.tile(-c, (1, 1))  # exactly at every level's critical value
     stat[0, :] = -c[k]

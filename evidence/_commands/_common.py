@@ -15,7 +15,8 @@ from evidence.errors import DataError
 from evidence.panel import Panel, load_panel
 from evidence.tables import FORMATS
 
-__all__ = ["data_options", "format_options", "emit", "load", "progress_bar", "terminal_safe"]
+__all__ = ["data_options", "format_options", "emit", "load", "progress_bar", "terminal_safe",
+           "basis_option", "window_option", "quiet_option", "with_basis"]
 
 # Control characters (C0 but tab and newline, DEL, C1) and the bidirectional overrides that can
 # make a terminal show something other than the text.
@@ -47,6 +48,40 @@ def format_options(func: Callable) -> Callable:
                         default=None, help="Write to this file instead of the terminal.")(func)
     return click.option("--format", "fmt", type=click.Choice(FORMATS, case_sensitive=False),
                         default="text", show_default=True, help="Output format.")(func)
+
+
+def basis_option(func: Callable) -> Callable:
+    """Add --basis: the accounting basis of the pressure column(s) (shown in table notes)."""
+    from evidence.panel import BASES
+
+    return click.option("--basis", type=click.Choice(list(BASES), case_sensitive=False),
+                        default=None,
+                        help="Accounting basis of the pressure column(s), stated in the table "
+                             "notes [default: not stated; with --consumption T=C, T is "
+                             "territorial and C consumption].")(func)
+
+
+def window_option(func: Callable) -> Callable:
+    """Add --window START:END (inclusive years)."""
+    return click.option("--window", default=None,
+                        help="Years START:END, inclusive (default: every year).")(func)
+
+
+def quiet_option(func: Callable) -> Callable:
+    """Add --quiet: no progress bar."""
+    return click.option("--quiet", "-q", is_flag=True,
+                        help="No progress bar on stderr (it is shown only on a terminal).")(func)
+
+
+def with_basis(panel: Panel, columns: dict[str, str]) -> Panel:
+    """The panel with the accounting basis of ``columns`` (``{column: basis}``) stated."""
+    if not columns:
+        return panel
+    stated = dict(panel.meta.get("basis") or {})
+    for column, basis in columns.items():
+        panel.require(column)
+        stated[column] = basis.lower()
+    return Panel(panel.frame, audit=panel.audit, meta={**panel.meta, "basis": stated})
 
 
 def emit(text: str, output: Path | None) -> None:
@@ -83,9 +118,11 @@ def load(data: Path, unit_col: str | None, time_col: str | None, layout: str) ->
 
 class _Progress:
     def __init__(self, label: str) -> None:
-        from rich.progress import Progress
+        from rich.console import Console
+        from rich.progress import BarColumn, MofNCompleteColumn, Progress, TextColumn, TimeElapsedColumn
 
-        self._bar = Progress(transient=True)
+        self._bar = Progress(TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
+                             TimeElapsedColumn(), console=Console(stderr=True), transient=True)
         self._task = self._bar.add_task(label, total=None)
         self._bar.start()
 
@@ -96,6 +133,7 @@ class _Progress:
         self._bar.stop()
 
 
-def progress_bar(label: str) -> _Progress | None:
-    """A progress bar on a terminal; nothing when output is piped or in CI."""
-    return _Progress(label) if sys.stderr.isatty() and sys.stdout.isatty() else None
+def progress_bar(label: str, *, quiet: bool = False) -> _Progress | None:
+    """A progress bar on stderr when stderr is a terminal; nothing when piped, in CI or with
+    ``quiet``. Standard output stays clean either way."""
+    return None if quiet or not sys.stderr.isatty() else _Progress(label)

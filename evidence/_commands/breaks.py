@@ -10,7 +10,15 @@ import pandas as pd
 
 import evidence.breaks as eb
 from evidence._cautions import CAUTION
-from evidence._commands._common import data_options, emit, format_options, load, progress_bar
+from evidence._commands._common import (
+    data_options,
+    emit,
+    format_options,
+    load,
+    progress_bar,
+    quiet_option,
+    window_option,
+)
 from evidence.breaks.result import CONVENTION
 from evidence.tables import render_frame
 
@@ -22,7 +30,7 @@ def _years(values: tuple) -> str:
 
 
 def _intervals(lower: tuple, upper: tuple) -> str:
-    return "; ".join(f"{lo}-{hi}" for lo, hi in zip(lower, upper))
+    return "; ".join(f"{lo}-{hi}" for lo, hi in zip(lower, upper, strict=True))
 
 
 @click.command("breaks")
@@ -50,12 +58,17 @@ def _intervals(lower: tuple, upper: tuple) -> str:
 @click.option("--executor", default="serial", show_default=True,
               help="Where the units are computed: serial, processes, dask, or a Dask scheduler "
                    "address (tcp://host:8786).")
+@window_option
+@quiet_option
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
             per: str | None, take_log: bool, model: str, max_breaks: int, trim: float, select: str,
-            inference: str, adjust: str, executor: str, fmt: str, output: Path | None) -> None:
+            inference: str, adjust: str, executor: str, window: str | None, quiet: bool, fmt: str,
+            output: Path | None) -> None:
     """Break years of COLUMN for every unit (Bai-Perron), with intervals and adjusted p-values."""
     panel = load(data, unit_col, time_col, layout)
+    if window:
+        panel = panel.window(window)
     name = column
     if per:
         name = f"{column}/{per}"
@@ -63,7 +76,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     if take_log:
         panel = panel.with_log(name, name=f"log({name})")
         name = f"log({name})"
-    bar = progress_bar("screening")
+    bar = progress_bar("screening units", quiet=quiet)
     try:
         result = eb.screen_breaks(panel, name, model=model.lower(), max_breaks=max_breaks, trim=trim,
                                   select=select.lower(), inference=inference.lower(),
@@ -74,10 +87,11 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
             bar.close()
     tab = result.table
     frame = pd.DataFrame({
-        "unit": tab.index, "years": [f"{a}-{b}" for a, b in zip(tab["first_year"], tab["last_year"])],
+        "unit": tab.index,
+        "years": [f"{a}-{b}" for a, b in zip(tab["first_year"], tab["last_year"], strict=True)],
         "breaks": tab["n_breaks"].to_numpy(),
         "break years": [_years(v) for v in tab["break_years"]],
-        "95% intervals": [_intervals(lo, hi) for lo, hi in zip(tab["lower"], tab["upper"])],
+        "95% intervals": [_intervals(lo, hi) for lo, hi in zip(tab["lower"], tab["upper"], strict=True)],
         "UDmax p": tab["pvalue"].to_numpy(), "adjusted p": tab["pvalue_adjusted"].to_numpy(),
         "residual AR(1)": tab["ar1"].to_numpy(),
         "calibrated": np.where(tab["ar1_covered"].to_numpy(), "yes", "no")})

@@ -8,7 +8,7 @@ from pathlib import Path
 
 import click
 
-from evidence._commands._common import data_options, emit, format_options, load
+from evidence._commands._common import data_options, emit, format_options, load, window_option
 from evidence._typing import DEFAULT_SEED, TRENDS
 from evidence.cointegration import (
     dumitrescu_hurlin_test,
@@ -72,15 +72,18 @@ def _lags(text: str) -> int | str:
                    "each result states its measured size).")
 @click.option("--reps", type=int, default=499, show_default=True,
               help="Bootstrap replications.")
+@window_option
 @click.option("--seed", type=int, default=DEFAULT_SEED, show_default=True,
               help="Seed of the bootstraps.")
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, dependent: str,
             regressors: str, take_log: bool, tests: str, estimator: str, group_mean: bool,
             causality: bool, trend: str, lags: str, leads: int, inference: str | None, reps: int,
-            seed: int, fmt: str, output: Path | None) -> None:
+            window: str | None, seed: int, fmt: str, output: Path | None) -> None:
     """Panel cointegration tests, long-run coefficients and Granger causality in one report."""
     panel = load(data, unit_col, time_col, layout)
+    if window:
+        panel = panel.window(window)
     xs = [c.strip() for c in regressors.split(",") if c.strip()]
     if not xs:
         raise SpecError("--regressors is empty; give at least one regressor column.")

@@ -10,8 +10,13 @@ import pandas as pd
 
 from evidence._commands._common import data_options, emit, format_options, load
 from evidence._validation import check_choice
-from evidence.convergence import (beta_convergence, club_convergence, gamma_convergence,
-                                  sigma_convergence, stochastic_convergence)
+from evidence.convergence import (
+    beta_convergence,
+    club_convergence,
+    gamma_convergence,
+    sigma_convergence,
+    stochastic_convergence,
+)
 from evidence.panel import derived_name
 from evidence.tables import beta_table, render_frame, test_table
 

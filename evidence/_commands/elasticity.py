@@ -8,7 +8,7 @@ from pathlib import Path
 
 import click
 
-from evidence._commands._common import data_options, emit, format_options, load
+from evidence._commands._common import basis_option, data_options, emit, format_options, load, with_basis
 from evidence.elasticity import decoupling_tests, elasticity
 from evidence.elasticity import ekc as fit_ekc
 from evidence.elasticity.fixed_effects import COVARIANCES
@@ -37,13 +37,14 @@ def _split(text: str | None) -> list[str]:
 @click.option("--window", default=None, help="Years START:END, inclusive.")
 @click.option("--ekc", is_flag=True, help="Also fit the quadratic environmental Kuznets curve.")
 @click.option("--population", default=None, help="Population column: EKC in per-capita terms.")
+@basis_option
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, pressure: str,
             activity: str, controls: str | None, estimator: str, cov: str, hac_lags: int | None,
-            window: str | None, ekc: bool, population: str | None, fmt: str,
+            window: str | None, ekc: bool, population: str | None, basis: str | None, fmt: str,
             output: Path | None) -> None:
     """Elasticity of pressure with respect to activity, with one-sided decoupling tests."""
-    panel = load(data, unit_col, time_col, layout)
+    panel = with_basis(load(data, unit_col, time_col, layout), {pressure: basis} if basis else {})
     estimates, tests = [], []
     for name in _split(estimator) or ["fe"]:
         pooled = name.strip().lower() in ("fe", "twfe")

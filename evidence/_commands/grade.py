@@ -6,7 +6,7 @@ from pathlib import Path
 
 import click
 
-from evidence._commands._common import data_options, emit, format_options, load
+from evidence._commands._common import basis_option, data_options, emit, format_options, load, with_basis
 from evidence.errors import SpecError
 from evidence.grading import Criteria, grade
 from evidence.tables import grade_table
@@ -41,16 +41,21 @@ def _pairs(text: str | None) -> dict[str, str]:
               default="perron-yabu", show_default=True,
               help="Direction test (docs/methods/grading.md lists their measured sizes).")
 @click.option("--no-breaks", is_flag=True, help="Skip the break search (faster on large panels).")
+@basis_option
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, pressure: str,
             activity: str, consumption: str | None, window: str | None,
-            required_rate: float | None, adjust: str, trend_test: str, no_breaks: bool, fmt: str,
-            output: Path | None) -> None:
+            required_rate: float | None, adjust: str, trend_test: str, no_breaks: bool,
+            basis: str | None, fmt: str, output: Path | None) -> None:
     """Grade the evidence of decoupling: direction, duration, robustness, sufficiency."""
     panel = load(data, unit_col, time_col, layout)
     pressures = [p.strip() for p in pressure.split(",") if p.strip()]
+    twins = _pairs(consumption)
+    stated = {**{p: "territorial" for p in twins}, **{c: "consumption" for c in twins.values()},
+              **({p: basis for p in pressures} if basis else {})}
+    panel = with_basis(panel, stated)
     criteria = Criteria(required_rate=required_rate, adjust=adjust.lower(),
                            trend_test=trend_test.lower())
     result = grade(panel, pressures, activity, window=window, criteria=criteria,
-                      consumption=_pairs(consumption), latest_break=not no_breaks)
+                      consumption=twins, latest_break=not no_breaks)
     emit(grade_table(result, fmt.lower()), output)

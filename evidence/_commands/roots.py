@@ -3,12 +3,14 @@
 from __future__ import annotations
 
 from pathlib import Path
+from typing import cast
 
 import click
 import pandas as pd
 
 from evidence._cautions import CAUTION
-from evidence._commands._common import data_options, emit, format_options, load
+from evidence._commands._common import data_options, emit, format_options, load, window_option
+from evidence._typing import Trend
 from evidence._validation import check_lags
 from evidence.errors import SpecError
 from evidence.roots import (
@@ -72,13 +74,17 @@ def _dependence_frame(panel, column: str, trend: str, min_overlap: int) -> pd.Da
               help="Print the cross-sectional dependence table (CD, LM, scaled LM, bias-corrected LM).")
 @click.option("--min-overlap", type=int, default=8, show_default=True,
               help="With --dependence: fewest shared years for a pair of units.")
+@window_option
 @format_options
 def command(data: Path, unit_col: str | None, time_col: str | None, layout: str, column: str,
             tests: str | None, trend: str, lags: str, max_lags: int | None, alpha: float,
-            differences: bool, take_log: bool, dependence: bool, min_overlap: int, fmt: str,
+            differences: bool, take_log: bool, dependence: bool, min_overlap: int, window: str | None,
+            fmt: str,
             output: Path | None) -> None:
     """Unit-root battery (levels, differences, decision) or cross-sectional dependence table."""
     panel = load(data, unit_col, time_col, layout)
+    if window:
+        panel = panel.window(window)
     fmt = fmt.lower()
     if take_log:
         panel = panel.with_log(column)
@@ -93,7 +99,7 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
         emit(render_frame(frame, fmt, title=f"Cross-sectional dependence: {column}", notes=notes,
                           index=False), output)
         return
-    result = root_battery(panel, column, tests=_parse_tests(tests), trend=trend.lower(),
+    result = root_battery(panel, column, tests=_parse_tests(tests), trend=cast(Trend, trend.lower()),
                           lags=_parse_lags(lags), max_lags=max_lags, alpha=alpha,
                           differences=differences)
     notes = [DECISION_RULE, CELLS] + [f"not run: {r.unit} {r.column} {r.years}: {r.reason}"

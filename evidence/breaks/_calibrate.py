@@ -213,7 +213,7 @@ def _tasks(model: str, nobs: int, h: int, max_breaks: int, reps: int, planted_re
             break
         n = reps if ell == 0 else planted_reps
         seeds = np.random.SeedSequence([seed, ell]).spawn(len(GRID))
-        out += [(model, nobs, h, max_breaks, rho, ell, n, s) for rho, s in zip(GRID, seeds)]
+        out += [(model, nobs, h, max_breaks, rho, ell, n, s) for rho, s in zip(GRID, seeds, strict=True)]
     return out
 
 
@@ -231,7 +231,7 @@ def _table(model: str, nobs: int, h: int, max_breaks: int, weights: tuple[float,
             parts = runner.map(_simulate, tasks)
         cached = {}
         for ell in sorted({t[5] for t in tasks}):
-            chunk = [p for p, t in zip(parts, tasks) if t[5] == ell]
+            chunk = [p for p, t in zip(parts, tasks, strict=True) if t[5] == ell]
             cached[f"r_{ell}"] = np.stack([c["r"] for c in chunk]).astype(np.float32)
             cached[f"s_{ell}"] = np.stack([c["supf" if ell == 0 else "split"]
                                            for c in chunk]).astype(np.float32)

@@ -115,6 +115,7 @@ def describe(y: np.ndarray, spec: Spec, *, sequential: bool = False) -> dict[str
                            "wdmax": wdmax, "r": r, "innovation": innovation}
     if spec.inference == "simulated":
         table = spec.table
+        assert table is not None  # set whenever inference is "simulated"
         out["p_supf"] = np.stack([table.pvalue(f"supF({k + 1})", supf[:, k], r[:, 0])
                                   for k in range(K)], axis=1)
         out["p_udmax"] = table.pvalue("UDmax", udmax, r[:, 0])
@@ -182,8 +183,9 @@ def _sequential_p(stats: np.ndarray, r: np.ndarray, spec: Spec) -> np.ndarray:
         if not finite.any():
             continue
         name = f"supF({ell + 1}|{ell})"
-        if spec.inference == "simulated" and name in spec.table.stats:
-            p = spec.table.pvalue(name, stats[:, ell], r[:, ell])
+        table = spec.table if spec.inference == "simulated" else None
+        if table is not None and name in table.stats:
+            p = table.pvalue(name, stats[:, ell], r[:, ell])
         else:
             p = 1.0 - (1.0 - _asymptotic_p(stats[:, ell], one)) ** (ell + 1)
         pvals[:, ell] = np.where(finite, p, 1.0)
@@ -222,7 +224,7 @@ def _intervals(fits: list[dict[str, np.ndarray]], breaks: np.ndarray, chosen: np
     if not parts:
         empty = np.zeros(0, dtype=np.int64)
         return {"unit": empty, "index": empty, "lower": empty, "upper": empty}
-    units, index, d1, d2, o1, o2 = (np.concatenate(c) for c in zip(*parts))
+    units, index, d1, d2, o1, o2 = (np.concatenate(c) for c in zip(*parts, strict=True))
     lower, upper = break_intervals(index, d1, d2, o1, o2, alpha=spec.alpha, nobs=nobs)
     order = np.lexsort((index, units))
     return {"unit": units[order], "index": index[order], "lower": lower[order],

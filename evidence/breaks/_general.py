@@ -130,7 +130,7 @@ def classical_tests(values: np.ndarray, z: np.ndarray, x: np.ndarray | None, ssr
         best = 0.0
         for r, (tau, _, _) in enumerate(bt.split_segments(table, cut, nobs, h)):
             if tau >= 0:
-                best = max(best, stat(sorted(cut + [tau]), [r], ell + 1))
+                best = max(best, stat(sorted([*cut, tau]), [r], ell + 1))
         cv = bt.table_critical_values("sequential", q, trim, ell + 1) if tabled else None
         pval = 1.0 - float(np.mean(one < best)) ** (ell + 1)
         if cv is None:

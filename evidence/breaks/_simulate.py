@@ -26,12 +26,16 @@ through the executor and cached on disk (``evidence._cache``), so any executor g
 
 from __future__ import annotations
 
-
 import numpy as np
 
 from evidence._cache import load_cached, save_cached
-from evidence.breaks.segment import (min_length, optimal_partitions, regime_design,
-                                     ssr_table_general, ssr_tables)
+from evidence.breaks.segment import (
+    min_length,
+    optimal_partitions,
+    regime_design,
+    ssr_table_general,
+    ssr_tables,
+)
 from evidence.parallel import ExecutorLike, task_seeds, using_executor
 
 __all__ = ["NULL_SEED", "NULL_REPS", "NULL_GRID", "max_k", "null_draws", "simulate_chunk"]
@@ -129,8 +133,8 @@ def null_draws(q: int, trim: float, *, design: str = "level", units: int = 1, re
     """
     trim = round(float(trim), 6)
     k_max = max_k(trim)
-    params = {"q": int(q), "trim": trim, "design": design, "units": int(units), "reps": int(reps), "grid": int(grid), "seed": int(seed),
-              "k_max": k_max, "version": 2}
+    params = {"q": int(q), "trim": trim, "design": design, "units": int(units), "reps": int(reps),
+              "grid": int(grid), "seed": int(seed), "k_max": k_max, "version": 2}
     cached = load_cached("bp-null", params)
     if cached is not None and cached.get("draws") is not None:
         return cached["draws"]
@@ -138,7 +142,7 @@ def null_draws(q: int, trim: float, *, design: str = "level", units: int = 1, re
     seeds = task_seeds(int(seed), n_tasks)
     sizes = [min(_TASK_REPS, reps - i * _TASK_REPS) for i in range(n_tasks)]
     tasks = [(int(q), trim, int(grid), k_max, size, s, design, int(units))
-             for size, s in zip(sizes, seeds)]
+             for size, s in zip(sizes, seeds, strict=True)]
     with using_executor(executor) as runner:
         draws = np.concatenate(runner.map(simulate_chunk, tasks))
     save_cached("bp-null", params, {"draws": draws})

@@ -50,7 +50,7 @@ def common_breaks(panel: Panel, column: str, *, model: str = "level", max_breaks
                          min_years=2, require_units=0, purpose="common_breaks")
     excluded = block.excluded.to_dict(orient="records")
     full = (block.first == 0) & (block.last == block.years.size - 1)
-    for i in np.flatnonzero(~full):
+    for i in np.flatnonzero(~full).tolist():
         span = f"{block.years[block.first[i]]}-{block.years[block.last[i]]}"
         excluded.append({"unit": block.units[i], "column": column, "years": span,
                          "reason": "unit excluded: does not cover every year of the panel "
@@ -75,10 +75,7 @@ def common_breaks(panel: Panel, column: str, *, model: str = "level", max_breaks
     else:
         draws = null_draws(q, trim, design="trend", units=n_units, reps=1000, grid=200)
     z = regime_design(model, nobs)
-    if m == 0:
-        m_test = 1
-    else:
-        m_test = m
+    m_test = 1 if m == 0 else m
     cut = [int(b) for b in total_breaks[0, m_test, :m_test]]
     num, pooled = 0.0, []
     for n in range(n_units):

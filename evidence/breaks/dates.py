@@ -15,8 +15,8 @@ with ``xi = D'Q_2 D / D'Q_1 D`` and ``phi = D'Omega_2 D / D'Omega_1 D``. The dis
 argmax V has the closed form of Bai (1997, Appendix B), evaluated here. Since the limit describes
 ``T_hat - T_0``, the interval for the true date inverts it: ``[T_hat + floor(-b / L),
 T_hat + ceil(-a / L)]`` with a, b the ``alpha/2`` and ``1 - alpha/2`` quantiles of argmax V and
-``L = (D'Q_1 D)^2 / (D'Omega_1 D)``; the interval is asymmetric when the regimes differ. With equal moments and variances
-(``xi = phi = 1``) the 97.5 % quantile is 11.03.
+``L = (D'Q_1 D)^2 / (D'Omega_1 D)``; the interval is asymmetric when the regimes differ. With
+equal moments and variances (``xi = phi = 1``) the 97.5 % quantile is 11.03.
 
 References
 ----------

@@ -35,8 +35,7 @@ from evidence.breaks import _general
 from evidence.breaks import tests as bt
 from evidence.breaks._calibrate import COVERED, TABLE_REPS, TABLE_SEED, null_table
 from evidence.breaks._core import INFERENCES, SELECTIONS, Spec, describe
-from evidence.breaks._input import (check_breaks, check_model, check_trim, regressor_matrix,
-                                     series_input)
+from evidence.breaks._input import check_breaks, check_model, check_trim, regressor_matrix, series_input
 from evidence.breaks._simulate import NULL_GRID, NULL_REPS, NULL_SEED, null_draws
 from evidence.breaks.result import CONVENTION, BreakResult
 from evidence.breaks.segment import regime_design
@@ -328,8 +327,9 @@ def _tests(core: dict[str, Any], spec: Spec, base: dict[str, Any]) -> dict[str, 
     trim = base["trim"]
 
     def cvs(name: str, r_cond: float, fallback: dict[float, float] | None) -> dict[float, float]:
-        if spec.inference == "simulated" and name in spec.table.stats:
-            return spec.table.critical_values(name, r_cond)
+        table = spec.table if spec.inference == "simulated" else None
+        if table is not None and name in table.stats:
+            return table.critical_values(name, r_cond)
         return fallback or {}
 
     extra = ({"conditioning_ar1": float(r[0])} if spec.inference == "simulated" else {})
@@ -375,7 +375,7 @@ def _classical(values: np.ndarray, index: np.ndarray, z: np.ndarray, z_names: li
     p = 0 if x is None else x.shape[1]
     builtin_design = z.shape[1] == (1 if spec.model == "level" else 2)
     ssr, breaks, table = _general.partitions(values, z, x, spec.model, builtin_design, h, K)
-    opts = {"robust": robust, "regime_variances": regime_variances, "hac_lags": lags}
+    opts: dict[str, Any] = {"robust": robust, "regime_variances": regime_variances, "hac_lags": lags}
     design = "trend" if spec.model == "trend" else "level"
     draws = null_draws(q, trim, design=design)
     tests, seq_p, warnings = _general.classical_tests(

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+from itertools import pairwise
 from pathlib import Path
 from typing import Any
 
@@ -20,13 +21,13 @@ def plot_breaks(result: Any, *, path: str | Path | None = None) -> Any:
     fig, ax = plt.subplots(figsize=(6.4, 3.6), dpi=100)
     ax.plot(result.data.index, result.data.to_numpy(), ".", color="0.35", label=result.series)
     bounds = [int(result.data.index[0]) - 1, *result.break_years, int(result.data.index[-1])]
-    for start, end in zip(bounds[:-1], bounds[1:]):
+    for start, end in pairwise(bounds):
         part = result.fitted.loc[start + 1:end]
         ax.plot(part.index, part.to_numpy(), "-", color="C0", linewidth=1.6)
     for row in result.intervals.itertuples(index=False):
         ax.axvspan(row.lower + 0.5, row.upper + 0.5, color="C1", alpha=0.18, linewidth=0)
         ax.axvline(row.break_year + 0.5, color="C1", linestyle="--", linewidth=0.9)
-    conf = int(round((1 - result.alpha) * 100))
+    conf = round((1 - result.alpha) * 100)
     ax.set_title(f"{result.series}: {result.n_breaks} break(s), {conf}% intervals shaded")
     ax.set_xlabel("year (dashed line: after the break year, the last year of the old regime)",
                   fontsize=8)

@@ -97,7 +97,7 @@ class BreakResult(ResultProtocol):
         lines = [f"Structural breaks in {self.series} ({self.model} model, {first}-{last}, T={self.nobs})",
                  f"  trim {self.trim}, max_breaks {self.max_breaks}, selection {self.select}: "
                  f"{self.n_breaks} break(s)", f"  {CONVENTION}"]
-        conf = int(round((1 - self.alpha) * 100))
+        conf = round((1 - self.alpha) * 100)
         for row in self.intervals.itertuples(index=False):
             lines.append(f"  break {row.break_year}   {conf}% interval {row.lower}-{row.upper}")
         lines.append("  regimes:")
@@ -112,7 +112,8 @@ class BreakResult(ResultProtocol):
         lines.append("  tests:")
         for name, test in self.tests.items():
             cv = test.critical_values.get(0.05)
-            lines.append(f"    {name:<12} {format_number(test.statistic):>10}   p {format_pvalue(test.pvalue):>8}"
+            lines.append(f"    {name:<12} {format_number(test.statistic):>10}"
+                         f"   p {format_pvalue(test.pvalue):>8}"
                          f"   5% cv {format_number(cv, 2) if cv is not None else 'nan'}")
         for key in ("critical_values_source", "pvalue_source"):
             if key in self.details:
@@ -163,7 +164,7 @@ class BreakResult(ResultProtocol):
             "reference": self.reference, "warnings": list(self.warnings),
         })
 
-    def plot(self, path: str | Path | None = None):  # noqa: ANN201
+    def plot(self, path: str | Path | None = None):
         """Series, fitted regimes and interval bands (matplotlib Figure; saved if ``path``)."""
         from evidence.breaks.plot import plot_breaks
 
@@ -264,7 +265,8 @@ class ScreenResult(ResultProtocol):
                          f"+-{self.clustering.details.get('spread')} year(s), permutation p "
                          f"{format_pvalue(self.clustering.pvalue)}")
         for row in flagged.itertuples():
-            years = ", ".join(f"{b} ({lo}-{hi})" for b, lo, hi in zip(row.break_years, row.lower, row.upper))
+            years = ", ".join(f"{b} ({lo}-{hi})"
+                              for b, lo, hi in zip(row.break_years, row.lower, row.upper, strict=True))
             cover = "" if getattr(row, "ar1_covered", True) else ", outside the calibrated range"
             lines.append(f"    {row.Index}: {years}   p {format_pvalue(row.pvalue)}   residual "
                          f"AR(1) {row.ar1:.2f}{cover}")

@@ -153,7 +153,7 @@ def screen_breaks(panel: Panel, column: str, *, model: str = "trend", max_breaks
     series = {block.units[i]: pd.Series(data[lo_:hi_ + 1, i],
                                         index=pd.Index(block.years[lo_:hi_ + 1], name="year"),
                                         name=block.units[i])
-              for i, lo_, hi_ in zip(range(block.n_units), block.first, block.last)
+              for i, lo_, hi_ in zip(range(block.n_units), block.first, block.last, strict=True)
               if block.units[i] in table.index} if len(table) <= 5000 else _LazySeries(block, data)
     return ScreenResult(column=column, table=table, counts=counts, clustering=clustering,
                         excluded=excluded_frame(sorted(excluded, key=lambda r: str(r["unit"]))),
@@ -185,7 +185,7 @@ def _table(block: Any, groups: list[tuple[np.ndarray, int, int]],
                                                          "n_breaks", "supf_1", "udmax", "pvalue",
                                                          "ar1", "ar1_covered")}
     break_years, lower, upper = [], [], []
-    for (members, first, last), part in zip(groups, parts):
+    for (members, first, last), part in zip(groups, parts, strict=True):
         n = members.size
         years = np.arange(first, last + 1)
         cols["unit"].append(np.asarray(block.units, dtype=object)[members])

@@ -203,5 +203,5 @@ def segment_bounds(breaks: np.ndarray, nobs: int) -> list[tuple[int, int]]:
     """``(start, end)`` inclusive 0-based bounds of the regimes cut at ``breaks``."""
     cuts = [int(b) for b in breaks if b >= 0]
     starts = [0] + [b + 1 for b in cuts]
-    ends = cuts + [nobs - 1]
-    return list(zip(starts, ends))
+    ends = [*cuts, nobs - 1]
+    return list(zip(starts, ends, strict=True))

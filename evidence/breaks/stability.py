@@ -40,7 +40,8 @@ from evidence.results import TestResult
 __all__ = ["chow_test", "cusum_test", "ols_cusum_test"]
 
 
-def _design(y: Any, model: str, regressors: Any, years: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
+def _design(y: Any, model: str, regressors: Any,
+            years: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
     model = check_model(model)
     values, index, label, _ = series_input(y, years, "a stability test")
     z = regime_design(model, values.size)
@@ -101,7 +102,7 @@ def cusum_test(y: Any, *, model: str = "trend", regressors: Any = None, years: A
 
     H0: constant coefficients; H1: the coefficients change at some unknown time.
     """
-    values, index, z, label = _design(y, model, regressors, years)
+    values, index, z, _label = _design(y, model, regressors, years)
     fit = RecursiveLS(values, z).fit()
     k = z.shape[1]
     nobs = values.size
@@ -123,7 +124,7 @@ def ols_cusum_test(y: Any, *, model: str = "trend", regressors: Any = None, year
 
     H0: constant coefficients; H1: the coefficients change at some unknown time.
     """
-    values, index, z, label = _design(y, model, regressors, years)
+    values, _index, z, _label = _design(y, model, regressors, years)
     coef, *_ = np.linalg.lstsq(z, values, rcond=None)
     resid = values - z @ coef
     stat, pvalue, crit = breaks_cusumolsresid(resid, ddof=z.shape[1])

@@ -29,6 +29,7 @@ baiperron2003 : Bai, J. & Perron, P. (2003). Computation and analysis of multipl
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 
 import numpy as np
 
@@ -143,7 +144,9 @@ def split_segments(table: np.ndarray, breaks: list[int], nobs: int, h: int) -> l
 
 
 def _tabulated(kind: str, q: int, trim: float) -> dict[float, tuple[float, ...]] | None:
-    source = {"supf": _bp_tables.SUPF, "dmax": _bp_tables.DMAX, "sequential": _bp_tables.SEQUENTIAL}[kind]
+    tables: dict[str, Mapping[tuple[float, int, float], tuple[float, ...]]] = {
+        "supf": _bp_tables.SUPF, "dmax": _bp_tables.DMAX, "sequential": _bp_tables.SEQUENTIAL}
+    source = tables[kind]
     for tab_trim in _bp_tables.TRIMS:
         if abs(trim - tab_trim) < 1e-9 and (tab_trim, q, 0.05) in source:
             return {level: source[(tab_trim, q, level)] for level in LEVELS}
@@ -185,5 +188,5 @@ def wdmax_weights(q: int, trim: float, draws: np.ndarray, max_breaks: int, *,
     for k in range(1, max_breaks + 1):
         cv = table_critical_values("supf", q, trim, k) if use_table else None
         cvs.append(cv[0.05] if cv else float(np.quantile(draws[:, k - 1], 0.95)))
-    cvs = np.asarray(cvs)
-    return cvs[0] / cvs
+    weights = np.asarray(cvs)
+    return weights[0] / weights

@@ -28,7 +28,7 @@ def short_run_names(dependent: str, regressors: tuple[str, ...], p: int, q: int)
     names = [_change(dependent, j) for j in range(1, p)]
     for name in regressors:
         names += [_change(name, j) for j in range(q)]
-    return names + ["constant"]
+    return [*names, "constant"]
 
 
 def ecm_arrays(y: np.ndarray, x: np.ndarray, p: int, q: int) -> dict[str, np.ndarray]:
@@ -85,7 +85,7 @@ def pmg_fit(arr: dict[str, np.ndarray], theta0: np.ndarray, *, tol: float = 1e-1
     theta = np.asarray(theta0, dtype=float).copy()
     converged = False
     loglik_path = []
-    for it in range(max_iter):
+    for it in range(max_iter):  # noqa: B007 (read after the loop: the iteration count)
         xi = y1 - np.einsum("ntk,k->nt", x1, theta)
         phi = np.sum(xi * dy, axis=1) / np.sum(xi * xi, axis=1)
         resid = dy - phi[:, None] * xi

@@ -14,6 +14,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Literal
 
 import numpy as np
 import pandas as pd
@@ -26,7 +27,7 @@ __all__ = ["ARCH_TREND", "Block", "as_columns", "batch_ols", "deterministics", "
            "option_int", "relation_block"]
 
 #: The package's trend words in the spelling of arch and statsmodels.
-ARCH_TREND = {"none": "n", "constant": "c", "trend": "ct"}
+ARCH_TREND: dict[str, Literal["n", "c", "ct"]] = {"none": "n", "constant": "c", "trend": "ct"}
 
 
 @dataclass(frozen=True, eq=False)
@@ -108,7 +109,7 @@ def lag_matrix(v: np.ndarray, lags: Sequence[int]) -> np.ndarray:
 
     ``v`` is (..., T); the result is (..., T, len(lags)).
     """
-    out = np.full(v.shape + (len(lags),), np.nan)
+    out = np.full((*v.shape, len(lags)), np.nan)
     n = v.shape[-1]
     for c, j in enumerate(lags):
         if j >= 0:

@@ -61,7 +61,7 @@ def run_bootstrap(draw: Callable[..., dict[str, np.ndarray]], model: Any, *, rep
     """
     sizes = [CHUNK] * (reps // CHUNK) + ([reps % CHUNK] if reps % CHUNK else [])
     seeds = task_seeds(seed, len(sizes))
-    tasks = [(draw, model, s, n) for s, n in zip(seeds, sizes)]
+    tasks = [(draw, model, s, n) for s, n in zip(seeds, sizes, strict=True)]
     with using_executor(executor) as runner:
         parts = runner.map(_chunk, tasks)
     return {key: np.concatenate([np.atleast_1d(p[key]) for p in parts]) for key in parts[0]}
@@ -155,7 +155,8 @@ def probe_years(panel: Panel) -> int:
 def relation_results(*, family: str, block: Block, raw: Mapping[str, float],
                      standardise: Callable[[str, np.ndarray], np.ndarray],
                      tails: Mapping[str, str], alternatives: Mapping[str, str], inference: str,
-                     draws: dict[str, np.ndarray] | None, details: Mapping[str, Any], shared: Mapping[str, Any], reference: str,
+                     draws: dict[str, np.ndarray] | None, details: Mapping[str, Any],
+                     shared: Mapping[str, Any], reference: str,
                      per_statistic: Mapping[str, Mapping[str, Any]] | None = None,
                      nobs: int, drift: Mapping[str, Mapping[str, float]],
                      drift_matters: bool) -> tuple[list[TestResult], list[str]]:
@@ -172,9 +173,9 @@ def relation_results(*, family: str, block: Block, raw: Mapping[str, float],
     family_warnings: list[str] = []
     if moving and drift_matters:
         verb = "drifts" if len(moving) == 1 else "drift"
-        note = (f"{', '.join(moving)} {verb} in most units: with trend='constant' the asymptotic "
-                "moments do not apply (Hansen 1992)")
-        family_warnings.append(note + ("; the bootstrap reproduces the drift." if draws is not None
+        drift_note = (f"{', '.join(moving)} {verb} in most units: with trend='constant' the "
+                      "asymptotic moments do not apply (Hansen 1992)")
+        family_warnings.append(drift_note + ("; the bootstrap reproduces the drift." if draws is not None
                                        else "; use inference='bootstrap' (the default)."))
     results = []
     for name, value in raw.items():

@@ -8,6 +8,8 @@ bootstrap recomputes a statistic on hundreds of panels in one pass. The public t
 
 from __future__ import annotations
 
+from typing import Any
+
 import numpy as np
 
 from evidence._hac import long_run_cov
@@ -27,7 +29,7 @@ def static_residuals(y: np.ndarray, x: np.ndarray, trend: str) -> tuple[np.ndarr
     """Residuals and slopes of each unit's OLS of ``y`` on its deterministics and ``x``."""
     n_units, n_years = y.shape
     d0 = deterministics(trend, n_years)
-    d = np.broadcast_to(d0, (n_units,) + d0.shape)
+    d = np.broadcast_to(d0, (n_units, *d0.shape))
     z = np.concatenate([d, x], axis=2)
     coef, resid, _ = batch_ols(y, z)
     return resid, coef[:, d.shape[2]:]
@@ -77,7 +79,7 @@ def _pedroni_units(e: np.ndarray, dy: np.ndarray, dx: np.ndarray, adf_lags: np.n
     """The unit pieces of Pedroni's sums (every array (M,) for M units)."""
     n_units = e.shape[0]
     # L11^2: long-run variance of the residual of Δy on Δx (and a constant with a trend).
-    zd = dx if trend != "trend" else np.concatenate([np.ones(dx.shape[:2] + (1,)), dx], axis=2)
+    zd = dx if trend != "trend" else np.concatenate([np.ones((*dx.shape[:2], 1)), dx], axis=2)
     _, eta, _ = batch_ols(dy, zd)
     l11 = long_run_cov(eta[:, :, None], bandwidth)[1][:, 0, 0]
     # Non-parametric (rho, PP) terms from e_t = gamma e_{t-1} + u_t.
@@ -260,7 +262,7 @@ def kao_raw(y: np.ndarray, x: np.ndarray, lags: int, *, bandwidth: int) -> dict[
     One panel ``y`` (N, T), ``x`` (N, T, k), a fixed pooled ADF order: see :func:`kao_statistics`.
     """
     raw = kao_statistics(y[None], x[None], lags=int(lags), max_lags=int(lags), bandwidth=bandwidth)
-    out = {key: float(value[0]) for key, value in raw.items() if key != "beta"}
-    out["beta"] = raw["beta"][0]  # type: ignore[assignment]
+    out: dict[str, Any] = {key: float(value[0]) for key, value in raw.items() if key != "beta"}
+    out["beta"] = raw["beta"][0]
     out.update({"n_units": y.shape[0], "n_years": y.shape[1]})
     return out

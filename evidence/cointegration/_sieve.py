@@ -130,8 +130,9 @@ def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
     (:func:`bias_corrected` with ``pooled=True``); each unit keeps its own residuals, centred, and
     its drift where the drift is significant (``|t| > DRIFT_T``).
 
-    Why one order for all units, pooled and bias-corrected: the non-parametric statistics (Pedroni's v, rho and PP)
-    move a lot with the autoregressive coefficient of the differences at T = 30. Measured at
+    Why one order for all units, pooled and bias-corrected: the non-parametric statistics
+    (Pedroni's v, rho and PP) move a lot with the autoregressive coefficient of the differences at T = 30.
+    Measured at
     N = 20, T = 30, AR(0.5) differences, drifting ``x`` (300 draws each): unit-by-unit VARs chosen
     by AIC rejected 0–1 % at 5 % nominal (their small-sample bias and noise), pooled VARs without
     the bias correction 1–3 %, pooled with the per-series (Pope) correction up to 15 %, pooled

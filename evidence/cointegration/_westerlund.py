@@ -39,7 +39,7 @@ def ec_design(y: np.ndarray, x: np.ndarray, p: int, q: int, trend: str, *,
     dx = np.concatenate([np.full((n_units, 1, k), np.nan), np.diff(x, axis=1)], axis=1)
     rows = slice(start, stop)
     d0 = deterministics(trend, n_years)[rows]
-    parts = [np.broadcast_to(d0, (n_units,) + d0.shape),
+    parts = [np.broadcast_to(d0, (n_units, *d0.shape)),
              lag_matrix(y, [1])[:, rows], lag_matrix(np.moveaxis(x, 2, 1), [1])[:, :, rows, 0]
              .transpose(0, 2, 1)]
     if p:
@@ -83,7 +83,7 @@ def _units(y: np.ndarray, x: np.ndarray, p_i: np.ndarray, q_i: np.ndarray,
     n_units = y.shape[0]
     keys = ("alpha", "se", "alpha1", "sigma", "nobs", "yy", "ydy")
     out = {key: np.empty(n_units) for key in keys}
-    for p, q in sorted(set(zip(p_i.tolist(), q_i.tolist()))):
+    for p, q in sorted(set(zip(p_i.tolist(), q_i.tolist(), strict=True))):
         idx = np.flatnonzero((p_i == p) & (q_i == q))
         des = ec_design(y[idx], x[idx], p, q, trend)
         z, dy, iy = des["z"], des["dy"], int(des["iy"])

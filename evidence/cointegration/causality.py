@@ -46,7 +46,7 @@ def _designs(y: np.ndarray, x: np.ndarray, lags: int) -> tuple[np.ndarray, np.nd
     n_units = y.shape[0]
     own = lag_matrix(y, list(range(1, lags + 1)))[:, lags:]
     cross = lag_matrix(x, list(range(1, lags + 1)))[:, lags:]
-    const = np.ones(own.shape[:2] + (1,))
+    const = np.ones((*own.shape[:2], 1))
     restricted = np.concatenate([const, own], axis=2)
     del n_units
     return y[:, lags:], restricted, np.concatenate([restricted, cross], axis=2)
@@ -106,7 +106,7 @@ def _null_model(y: np.ndarray, x: np.ndarray, lags: int) -> dict[str, np.ndarray
             "common": common_shocks(resid)}
 
 
-def _bootstrap_draw(spec: tuple[dict[str, np.ndarray], int, int], rng: np.random.Generator,
+def _bootstrap_draw(spec: tuple[dict[str, Any], int, int], rng: np.random.Generator,
                     reps: int) -> dict[str, np.ndarray]:
     """Z-bar of ``reps`` panels generated from the null model (see ``dumitrescu_hurlin_test``)."""
     model, lags, block_length = spec
@@ -208,8 +208,9 @@ def dumitrescu_hurlin_test(panel: Panel, dependent: str, regressors: str | Seque
     details: dict[str, Any] = {"lags": lags, "inference": inference, "w_bar": w_bar,
                                "z_bar": z_bar, "z_bar_pvalue": p_bar,
                                "z_bar_tilde": z_tilde, "z_bar_tilde_pvalue": p_tilde,
-                               "unit_wald": dict(zip(block.units, w.tolist())),
-                               "unit_pvalues": dict(zip(block.units, stats.chi2.sf(w, lags).tolist())),
+                               "unit_wald": dict(zip(block.units, w.tolist(), strict=True)),
+                               "unit_pvalues": dict(zip(block.units, stats.chi2.sf(w, lags).tolist(),
+                                                        strict=True)),
                                "units": n_units, "years": block.span, "excluded": block.excluded}
     statistic, pvalue = (z_bar, p_bar) if math.isnan(z_tilde) else (z_tilde, p_tilde)
     crit = {a: float(stats.norm.isf(a)) for a in (0.01, 0.05, 0.10)}

@@ -22,7 +22,12 @@ from collections.abc import Sequence
 
 import numpy as np
 import pandas as pd
-from arch.unitroot.cointegration import DynamicOLS, FullyModifiedOLS
+from arch.unitroot.cointegration import (
+    CointegrationAnalysisResults,
+    DynamicOLS,
+    DynamicOLSResults,
+    FullyModifiedOLS,
+)
 from scipy import stats
 
 from evidence._hac import long_run_cov, newey_west_lags
@@ -49,7 +54,7 @@ ESTIMATORS = ("dols", "fmols", "mg", "pmg")
 
 def _det(trend: str, n_units: int, n: int) -> np.ndarray:
     d = deterministics(trend, n)
-    return np.broadcast_to(d, (n_units,) + d.shape)
+    return np.broadcast_to(d, (n_units, *d.shape))
 
 
 def _pooled_dols(y: np.ndarray, x: np.ndarray, trend: str, lags: int, leads: int,
@@ -110,6 +115,7 @@ def _group_mean(block: Block, estimator: str, trend: str, lags: int,
     for i in range(block.n_units):
         yi = pd.Series(block.y[i])
         xi = pd.DataFrame(block.x[i], columns=list(block.regressors))
+        res: DynamicOLSResults | CointegrationAnalysisResults
         if estimator == "dols":
             res = DynamicOLS(yi, xi, trend=ARCH_TREND[trend], lags=lags,
                              leads=leads).fit(cov_type="kernel")
@@ -122,9 +128,9 @@ def _group_mean(block: Block, estimator: str, trend: str, lags: int,
     beta = b.mean(axis=0)
     cov = np.diag(np.sum(s ** 2, axis=0)) / n ** 2
     t_gm = np.sum(b / s, axis=0) / np.sqrt(n)
-    return beta, cov, {"group_mean_t": dict(zip(block.regressors, t_gm.tolist())),
-                       "unit_slopes": {u: dict(zip(block.regressors, r.tolist()))
-                                       for u, r in zip(block.units, b)}, "nobs": block.y.size}
+    return beta, cov, {"group_mean_t": dict(zip(block.regressors, t_gm.tolist(), strict=True)),
+                       "unit_slopes": {u: dict(zip(block.regressors, r.tolist(), strict=True))
+                                       for u, r in zip(block.units, b, strict=True)}, "nobs": block.y.size}
 
 
 def _mean_group(block: Block, lags: int) -> tuple[pd.Series, np.ndarray, dict]:
@@ -134,7 +140,7 @@ def _mean_group(block: Block, lags: int) -> tuple[pd.Series, np.ndarray, dict]:
     short = _ardl.short_run_names(block.dependent, block.regressors, lags, lags)
     draws = np.column_stack([unit["theta"], unit["phi"], unit["short"]])
     n = draws.shape[0]
-    params = pd.Series(draws.mean(axis=0), index=names + [_ardl.SPEED] + short)
+    params = pd.Series(draws.mean(axis=0), index=[*names, _ardl.SPEED, *short])
     dev = draws - draws.mean(axis=0)
     cov = dev.T @ dev / (n * (n - 1))
     return params, cov, {"arrays": arr, "unit": unit}
@@ -278,9 +284,10 @@ def long_run(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
                         nobs=nobs, details=details, reference=ref)
     params, cov, parts = _mean_group(block, lags)
     nobs = int(parts["arrays"]["dy"].size)
-    details.update({"lags": lags, "unit_long_run": {u: dict(zip(cols, r.tolist()))
-                                                      for u, r in zip(block.units, parts["unit"]["theta"])},
-                    "unit_speed": dict(zip(block.units, parts["unit"]["phi"].tolist()))})
+    details.update({"lags": lags,
+                    "unit_long_run": {u: dict(zip(cols, r.tolist(), strict=True))
+                                      for u, r in zip(block.units, parts["unit"]["theta"], strict=True)},
+                    "unit_speed": dict(zip(block.units, parts["unit"]["phi"].tolist(), strict=True))})
     mg = Estimate(estimator=label["mg"], dependent=dependent, params=params,
                   std_errors=np.sqrt(np.diag(cov)), cov=cov,
                   cov_type="dispersion of the unit estimates (mean group)", nobs=nobs,
@@ -300,7 +307,7 @@ def long_run(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
     pmg_cov[:k, :k] = fit["cov_theta"]
     pmg_cov[k:, k:] = sr_cov
     pmg_details = dict(details)
-    pmg_details.update({"unit_speed": dict(zip(block.units, coef[:, 0].tolist())),
+    pmg_details.update({"unit_speed": dict(zip(block.units, coef[:, 0].tolist(), strict=True)),
                         "iterations": fit["iterations"], "converged": fit["converged"],
                         "loglik": fit["loglik"]})
     pmg_details.pop("unit_long_run")

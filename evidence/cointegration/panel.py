@@ -210,7 +210,7 @@ def pedroni_test(panel: Panel, dependent: str, regressors: str | Sequence[str], 
         drift=drift, drift_matters=trend == "constant")
     return PedroniResult(test="Pedroni", results=tuple(results),
                          details={"trend": trend, "hac_lags": band, "inference": inference,
-                                  "adf_lags": dict(zip(block.units, adf_lags[0].tolist())),
+                                  "adf_lags": dict(zip(block.units, adf_lags[0].tolist(), strict=True)),
                                   "units": n_units, "years": block.span, "drift": drift, **boot},
                          excluded=block.excluded, reference="pedroni1999; pedroni2004",
                          warnings=tuple(warnings))
@@ -298,7 +298,7 @@ def kao_test(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
     return KaoResult(test="Kao", results=tuple(results),
                      details={"trend": trend, "adf_lags": int(raw["adf_lags"][0]), "hac_lags": band,
                               "inference": inference, "drift": drift,
-                              "slopes": dict(zip(cols, raw["beta"][0].tolist())), **boot},
+                              "slopes": dict(zip(cols, raw["beta"][0].tolist(), strict=True)), **boot},
                      excluded=block.excluded, reference="kao1999", warnings=tuple(warnings))
 
 

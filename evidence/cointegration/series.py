@@ -24,13 +24,15 @@ park1992 : Park, J. Y. (1992). Canonical cointegrating regressions. Econometrica
 
 from __future__ import annotations
 
-from typing import Any
+from typing import Any, Literal, cast
 
 import numpy as np
 import pandas as pd
 from arch.unitroot.cointegration import (
     CanonicalCointegratingReg,
+    CointegrationAnalysisResults,
     DynamicOLS,
+    DynamicOLSResults,
     FullyModifiedOLS,
     engle_granger,
     phillips_ouliaris,
@@ -120,12 +122,13 @@ def engle_granger_test(y: Any, x: Any, *, trend: str = "constant", lags: int | s
         kw["method"] = "t-stat" if lags == "sequential-t" else lags
     else:
         kw["lags"] = lags
-    res = engle_granger(ys, xs, trend=ARCH_TREND[trend], **kw)  # type: ignore[arg-type]
+    res = engle_granger(ys, xs, trend=ARCH_TREND[trend], **kw)
     return TestResult(test="Engle-Granger", statistic=res.stat, pvalue=res.pvalue,
                       critical_values=_cv(res.critical_values), null=_NULL, alternative=_ALT,
                       nobs=len(ys), details={"trend": trend, "lags": int(res.lags),
                                              "lag_selection": lags if isinstance(lags, str) else "fixed",
-                                             "cointegrating_vector": res.cointegrating_vector.round(6).to_dict()},
+                                             "cointegrating_vector":
+                                                 res.cointegrating_vector.round(6).to_dict()},
                       reference="englegranger1987")
 
 
@@ -155,8 +158,8 @@ def phillips_ouliaris_test(y: Any, x: Any, *, trend: str = "constant", variant: 
     variant = check_choice("variant", variant, ("Zt", "Za", "Pu", "Pz"))
     hac_lags = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
     ys, xs = _inputs(y, x, min_obs=xs_min(x) + 8, purpose="phillips_ouliaris_test")
-    res = phillips_ouliaris(ys, xs, trend=ARCH_TREND[trend],  # type: ignore[arg-type]
-                            test_type=variant, bandwidth=hac_lags)
+    res = phillips_ouliaris(ys, xs, trend=ARCH_TREND[trend],
+                            test_type=cast(Literal["Za", "Zt", "Pu", "Pz"], variant), bandwidth=hac_lags)
     return TestResult(test=f"Phillips-Ouliaris {variant}", statistic=res.stat, pvalue=res.pvalue,
                       critical_values=_cv(res.critical_values), null=_NULL, alternative=_ALT,
                       nobs=len(ys), details={"trend": trend, "hac_lags": float(res.bandwidth),
@@ -197,7 +200,8 @@ def johansen_test(y: Any, x: Any, *, trend: str = "constant", lags: int = 1) -> 
                 test=f"Johansen {kind} r<={r}" if kind == "trace" else f"Johansen {kind} r={r}",
                 statistic=stat[r], pvalue=float("nan"),
                 critical_values={0.10: cvs[r, 0], 0.05: cvs[r, 1], 0.01: cvs[r, 2]},
-                null=f"at most {r} cointegrating vectors" if kind == "trace" else f"{r} cointegrating vectors",
+                null=(f"at most {r} cointegrating vectors" if kind == "trace"
+                      else f"{r} cointegrating vectors"),
                 alternative=f"more than {r}" if kind == "trace" else f"{r + 1} cointegrating vectors",
                 nobs=len(ys), details={"statistic": f"{kind} {r}", "trend": trend, "lags": lags,
                                        "eigenvalue": float(res.eig[r]),
@@ -246,10 +250,11 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "constant", lags: int | str
         raise SpecError("lags=0 leaves no lagged level of y; use lags of at least 1.")
     sm_trend = {1: "n", 2: "c", 3: "c", 4: "ct", 5: "ct"}[case]
     ys, xs = ys.reset_index(drop=True), xs.reset_index(drop=True)
+    order: int | dict[Any, int]
     if isinstance(lags, str):
         sel = ardl_select_order(ys, max_l, xs, max_l, trend=sm_trend, ic=lags)
         p = max(int(max(sel.model.ardl_order[0], 1)), 1)
-        order = {c: max(int(o), 1) for c, o in zip(xs.columns, sel.model.ardl_order[1:])}
+        order = {c: max(int(o), 1) for c, o in zip(xs.columns, sel.model.ardl_order[1:], strict=True)}
     else:
         p, order = lags, lags
     res = UECM(ys, p, xs, order, trend=sm_trend).fit()
@@ -261,9 +266,11 @@ def ardl_bounds_test(y: Any, x: Any, *, trend: str = "constant", lags: int | str
                       pvalue=float(bounds.pvalue["upper"]), critical_values=upper,
                       null="no level relationship", alternative="a level relationship",
                       nobs=int(res.nobs),
-                      details={"case": case, "lags": int(p), "order": order if isinstance(order, int) else dict(order),
+                      details={"case": case, "lags": int(p),
+                               "order": order if isinstance(order, int) else dict(order),
                                "lower_pvalue": float(bounds.pvalue["lower"]),
-                               "lower_critical_values": lower, "lag_selection": lags if isinstance(lags, str) else "fixed"},
+                               "lower_critical_values": lower,
+                               "lag_selection": lags if isinstance(lags, str) else "fixed"},
                       reference="pesaranshinsmith2001")
 
 
@@ -293,18 +300,20 @@ def cointegrating_regression(y: Any, x: Any, *, estimator: str = "dols", trend: 
     leads = check_lags(leads, parameter="leads", rules=("aic", "bic"))
     max_lags = check_max_lags(max_lags)
     ys, xs = _inputs(y, x, min_obs=xs_min(x) * 3 + 10, purpose="cointegrating_regression")
+    res: DynamicOLSResults | CointegrationAnalysisResults
+    details: dict[str, Any]
     if estimator == "dols":
         method = lags if isinstance(lags, str) else (leads if isinstance(leads, str) else "bic")
-        model = DynamicOLS(ys, xs, trend=ARCH_TREND[trend],  # type: ignore[arg-type]
+        model = DynamicOLS(ys, xs, trend=ARCH_TREND[trend],
                            lags=None if isinstance(lags, str) else lags,
                            leads=None if isinstance(leads, str) else leads, max_lag=max_lags,
-                           max_lead=max_lags, method=method)
+                           max_lead=max_lags, method=cast(Literal["aic", "bic", "hqic"], method))
         res = model.fit(cov_type="kernel")
         details = {"lags": int(res.lags), "leads": int(res.leads), "hac_lags": float(res.bandwidth)}
         label = "DOLS"
     else:
         cls = FullyModifiedOLS if estimator == "fmols" else CanonicalCointegratingReg
-        res = cls(ys, xs, trend=ARCH_TREND[trend]).fit()  # type: ignore[arg-type]
+        res = cls(ys, xs, trend=ARCH_TREND[trend]).fit()
         details = {"hac_lags": float(res.bandwidth), "kernel": str(res.kernel)}
         label = estimator.upper()
     details["trend"] = trend

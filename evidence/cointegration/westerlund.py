@@ -150,7 +150,7 @@ def westerlund_test(panel: Panel, dependent: str, regressors: str | Sequence[str
     return WesterlundResult(
         test="Westerlund", results=tuple(results),
         details={"trend": trend, "inference": inference, "drift": drift,
-                 "lags": dict(zip(block.units, p_i[0].tolist())),
-                 "leads": dict(zip(block.units, q_i[0].tolist())),
-                 "alpha": dict(zip(block.units, unit["alpha"].tolist())), **boot},
+                 "lags": dict(zip(block.units, p_i[0].tolist(), strict=True)),
+                 "leads": dict(zip(block.units, q_i[0].tolist(), strict=True)),
+                 "alpha": dict(zip(block.units, unit["alpha"].tolist(), strict=True)), **boot},
         excluded=block.excluded, reference="westerlund2007", warnings=tuple(warnings))

@@ -2,7 +2,6 @@
 
 from evidence.convergence.beta import BetaResult, beta_convergence, speed_of_convergence
 from evidence.convergence.clubs import ClubResult, club_convergence, log_t_test
-from evidence.convergence.stochastic import StochasticResult, relative_series, stochastic_convergence
 from evidence.convergence.sigma import (
     GammaResult,
     SigmaResult,
@@ -10,6 +9,7 @@ from evidence.convergence.sigma import (
     gamma_convergence,
     sigma_convergence,
 )
+from evidence.convergence.stochastic import StochasticResult, relative_series, stochastic_convergence
 
 __all__ = ["BetaResult", "ClubResult", "GammaResult", "SigmaResult", "beta_convergence",
            "carree_klomp_tests", "club_convergence", "gamma_convergence", "log_t_test",

@@ -53,15 +53,15 @@ def log_t_statistic(x: np.ndarray, *, trim: float = 0.3) -> tuple[float, float, 
     n_years = x.shape[0]
     h = x / x.mean(axis=1, keepdims=True)
     big_h = ((h - 1.0) ** 2).mean(axis=1)
-    first = max(int(math.floor(trim * n_years)), 2)
+    first = max(math.floor(trim * n_years), 2)
     t = np.arange(first, n_years + 1, dtype=float)
     if not (big_h[0] > 0 and np.all(big_h[first - 1:] > 0)):
         # identical units in a year: the regression is undefined, and such a group is not
         # accepted as converging by the test (t is NaN, never above the critical value)
         return math.nan, math.nan, t.size
     y = np.log(big_h[0] / big_h[first - 1:]) - 2.0 * np.log(np.log(t))
-    slope, se, _ = trend_growth_batch(y[:, None], np.log(t))
-    b, se, n = float(slope[0]), float(se[0]), t.size
+    slopes, ses, _ = trend_growth_batch(y[:, None], np.log(t))
+    b, se, n = float(slopes[0]), float(ses[0]), t.size
     return (b / se if se > 0 else math.nan), b, n
 
 
@@ -177,7 +177,8 @@ class ClubResult(ResultProtocol):
         """One row per club: its size, log t statistic, ``b`` and p-value."""
         return pd.DataFrame(
             [{"club": i, "units": len(c), "log_t": t.statistic, "b": t.details["b"],
-              "pvalue": t.pvalue} for i, (c, t) in enumerate(zip(self.clubs, self.tests), start=1)],
+              "pvalue": t.pvalue}
+             for i, (c, t) in enumerate(zip(self.clubs, self.tests, strict=True), start=1)],
             columns=["club", "units", "log_t", "b", "pvalue"])
 
     def summary(self) -> str:
@@ -185,7 +186,7 @@ class ClubResult(ResultProtocol):
         lines = [f"Phillips-Sul clubs: overall log t {self.overall.statistic:.3f} "
                  f"({'rejects' if self.overall.statistic < CRITICAL else 'does not reject'} "
                  f"convergence of all units at 5 %)"]
-        for i, (club, test) in enumerate(zip(self.clubs, self.tests), start=1):
+        for i, (club, test) in enumerate(zip(self.clubs, self.tests, strict=True), start=1):
             lines.append(f"  club {i} ({len(club)} units, log t {test.statistic:.3f}, "
                          f"b {test.details['b']:.3f}): {', '.join(club)}")
         if self.divergent:
@@ -208,7 +209,8 @@ class ClubResult(ResultProtocol):
         plt = pyplot()
         k = max(len(self.clubs), 1)
         fig, axes = plt.subplots(1, k, figsize=(3.2 * k, 3.0), dpi=100, squeeze=False)
-        for ax, club, i in zip(axes[0], self.clubs, range(1, k + 1)):
+        # With no club there is one empty axis and nothing to draw.
+        for ax, club, i in zip(axes[0], self.clubs, range(1, k + 1), strict=False):
             ax.plot(self.transition.index, self.transition[list(club)], linewidth=0.8)
             ax.axhline(1.0, color="0.5", linewidth=0.8)
             ax.set_title(f"club {i}")
@@ -240,7 +242,7 @@ def _find_club(values: np.ndarray, order: list[int], trim: float, sieve: float) 
     threshold = sieve
     while True:
         candidates = [j for j in order if j not in core
-                      and _t(values, core + [j], trim) > threshold]
+                      and _t(values, [*core, j], trim) > threshold]
         club = sorted(core + candidates, key=order.index)
         if not candidates or _t(values, club, trim) > CRITICAL:
             return club
@@ -289,11 +291,11 @@ def club_convergence(panel: Panel, column: str, *, trim: float = 0.3,
                 i += 1
     names = [tuple(units[j] for j in club) for club in clubs]
     tests = tuple(_as_test(*log_t_statistic(values[:, club], trim=trim), name, trim)
-                  for club, name in zip(clubs, names))
+                  for club, name in zip(clubs, names, strict=True))
     transition = pd.DataFrame(index=pd.Index(years, name=panel.time_name))
     for club in clubs:
         block = values[:, club]
-        for j, col in zip(club, (block / block.mean(axis=1, keepdims=True)).T):
+        for j, col in zip(club, (block / block.mean(axis=1, keepdims=True)).T, strict=True):
             transition[units[j]] = col
     return ClubResult(clubs=tuple(names), divergent=tuple(units[j] for j in divergent),
                       tests=tests, overall=overall,

@@ -168,7 +168,7 @@ def _balanced(panel: Panel, columns: list[str], start: int, end: int) -> tuple[d
             if miss[:, j].any() and unit not in reasons:
                 reasons[unit] = (c, format_years(np.asarray(years)[miss[:, j]]))
         lacking |= miss.any(axis=0)
-    keep = [u for u, bad in zip(panel.units, lacking) if not bad]
+    keep = [u for u, bad in zip(panel.units, lacking, strict=True) if not bad]
     if len(keep) < 3:
         raise DataError(f"only {len(keep)} units have complete data in {start}:{end}; "
                         "dispersion needs at least 3.")

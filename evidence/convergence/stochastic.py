@@ -96,8 +96,9 @@ def stochastic_convergence(panel: Panel, column: str, *, tests: Sequence[str] = 
     Stochastic convergence (Carlino & Mills 1993; Bernard & Durlauf 1995) holds for a unit when
     shocks to its relative position ``ln(y_it / ȳ_t)`` die out: the relative series is
     stationary (``trend="constant"``; with ``"trend"`` it may converge along a deterministic
-    trend — "catching up"). The tests and the decision rule are those of :func:`evidence.roots.root_battery` on the
-    relative series (levels only): ``I(0)`` → converging, non-stationary → not converging,
+    trend — "catching up"). The tests and the decision rule are those of
+    :func:`evidence.roots.root_battery` on the relative series (levels only): ``I(0)`` → converging,
+    non-stationary → not converging,
     otherwise inconclusive. Add ``"za"`` or ``"ls"`` to ``tests`` for versions that allow
     structural breaks (Zivot–Andrews; Lee–Strazicich, as in Strazicich, Lee & Day 2004), and
     panel tests on the same relative series with ``panel_tests`` (row ``"(panel)"``).

@@ -47,7 +47,7 @@ def build_design(panel: Panel, pressure: str, activity: str, *, controls: Sequen
     """
     controls = (controls,) if isinstance(controls, str) else tuple(controls)
     panel.require(pressure, activity, *controls)
-    if len(set((pressure, activity) + controls)) != 2 + len(controls):
+    if len(set((pressure, activity, *controls))) != 2 + len(controls):
         raise DataError("pressure, activity and controls must be different columns.")
     if window is not None:
         panel = panel.window(check_window(window, panel.years))

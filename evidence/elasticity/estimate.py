@@ -28,6 +28,7 @@ from evidence.results import Estimate, ResultProtocol, TestResult, excluded_fram
 __all__ = ["ESTIMATORS", "elasticity", "decoupling_tests", "time_varying_elasticity",
            "ElasticityPath"]
 
+#: The estimators of ``elasticity`` (``estimator=``).
 ESTIMATORS = ("fe", "twfe", "mg", "ccemg", "ccep", "amg")
 
 
@@ -93,7 +94,7 @@ def elasticity(panel: Panel, pressure: str, activity: str, *, controls: Sequence
     design = build_design(panel, pressure, activity, controls=controls, log=log, window=window,
                           drop_short=drop_short)
     if estimator in ("fe", "twfe"):
-        est = fit_fixed_effects(design, estimator=estimator, cov=cov, hac_lags=hac_lags)
+        est = fit_fixed_effects(design, estimator=estimator, cov=cov or "driscoll-kraay", hac_lags=hac_lags)
     else:
         est = fit_mean_group(design, estimator=estimator, trend=trend, robust_mean=robust_mean)
     details = dict(est.details)
@@ -217,7 +218,7 @@ def time_varying_elasticity(panel: Panel, pressure: str, activity: str, *,
         raise SpecError("give exactly one of width= (rolling windows) or periods= (sub-periods).")
     years = panel.years
     if width is not None:
-        width = int(check_int("width", width, minimum=5))  # type: ignore[arg-type]
+        width = int(check_int("width", width, minimum=5))
         if width > len(years):
             raise SpecError(f"width={width} exceeds the panel's {len(years)} years.")
         windows = [(years[i], years[i + width - 1]) for i in range(len(years) - width + 1)]

@@ -23,8 +23,8 @@ from typing import Any
 import numpy as np
 import pandas as pd
 
-from evidence.elasticity._design import Design
 from evidence._hac import newey_west_lags
+from evidence.elasticity._design import Design
 from evidence.errors import EstimationError, SpecError
 from evidence.results import Estimate
 

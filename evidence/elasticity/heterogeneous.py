@@ -186,7 +186,7 @@ def _cce_pooled(design: Design, extra: pd.DataFrame | None, trend: str, used: li
     n = b.shape[0]
     psi = np.mean(cross, axis=0)
     dev = b - b.mean(axis=0)
-    r = sum(c @ np.outer(d, d) @ c for c, d in zip(cross, dev)) / (n - 1)
+    r = sum(c @ np.outer(d, d) @ c for c, d in zip(cross, dev, strict=True)) / (n - 1)
     psi_inv = np.linalg.inv(psi)
     return pooled, psi_inv @ r @ psi_inv / n
 

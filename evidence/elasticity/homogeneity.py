@@ -73,10 +73,10 @@ def delta_statistics(blocks: Sequence[tuple[np.ndarray, np.ndarray]]) -> tuple[f
         sigma2.append(float(e @ e) / (y.size - 1))
     if min(sigma2) <= 0:
         raise DataError("a unit fits exactly (zero residual variance); the Δ test cannot weight it.")
-    beta_wfe = np.linalg.solve(sum(m / s for m, s in zip(xmx, sigma2)),
-                               sum(v / s for v, s in zip(xmy, sigma2)))
+    beta_wfe = np.linalg.solve(sum(m / s for m, s in zip(xmx, sigma2, strict=True)),
+                               sum(v / s for v, s in zip(xmy, sigma2, strict=True)))
     s_tilde = 0.0
-    for m, v, s in zip(xmx, xmy, sigma2):
+    for m, v, s in zip(xmx, xmy, sigma2, strict=True):
         b_i = np.linalg.solve(m, v)
         d = b_i - beta_wfe
         s_tilde += float(d @ m @ d) / s
@@ -89,14 +89,15 @@ def delta_statistics(blocks: Sequence[tuple[np.ndarray, np.ndarray]]) -> tuple[f
 def _s_tilde_batch(xs: Sequence[np.ndarray], ys: Sequence[np.ndarray]) -> np.ndarray:
     """S̃ for every replication: ``xs[i]`` (T_i, k) demeaned, ``ys[i]`` (R, T_i) demeaned."""
     xmx = [x.T @ x for x in xs]
-    xmy = [y @ x for x, y in zip(xs, ys)]                                  # (R, k)
+    xmy = [y @ x for x, y in zip(xs, ys, strict=True)]                                  # (R, k)
     beta_fe = np.linalg.solve(sum(xmx), sum(xmy).T).T                     # (R, k)
-    sigma2 = [np.sum((y - beta_fe @ x.T) ** 2, axis=1) / (x.shape[0] - 1) for x, y in zip(xs, ys)]
-    num = sum(v / s[:, None] for v, s in zip(xmy, sigma2))                 # (R, k)
-    den = sum(m[None] / s[:, None, None] for m, s in zip(xmx, sigma2))     # (R, k, k)
+    sigma2 = [np.sum((y - beta_fe @ x.T) ** 2, axis=1) / (x.shape[0] - 1)
+              for x, y in zip(xs, ys, strict=True)]
+    num = sum(v / s[:, None] for v, s in zip(xmy, sigma2, strict=True))                 # (R, k)
+    den = sum(m[None] / s[:, None, None] for m, s in zip(xmx, sigma2, strict=True))     # (R, k, k)
     beta_wfe = np.linalg.solve(den, num[..., None])[..., 0]
     total = np.zeros(beta_fe.shape[0])
-    for m, v, s in zip(xmx, xmy, sigma2):
+    for m, v, s in zip(xmx, xmy, sigma2, strict=True):
         d = np.linalg.solve(m, v.T).T - beta_wfe
         total += np.einsum("ri,ij,rj->r", d, m, d) / s
     return total
@@ -106,12 +107,13 @@ def _null_model(blocks: Sequence[tuple[np.ndarray, np.ndarray]], max_lags: int) 
     """Common-slope fit, its residuals and a bias-corrected pooled AR filter of them."""
     xs = [_demean(x) for _, x in blocks]
     ys = [_demean(y) for y, _ in blocks]
-    beta = np.linalg.solve(sum(x.T @ x for x in xs), sum(x.T @ y for x, y in zip(xs, ys)))
-    resid = [y - x @ beta for x, y in zip(xs, ys)]
+    beta = np.linalg.solve(sum(x.T @ x for x in xs), sum(x.T @ y for x, y in zip(xs, ys, strict=True)))
+    resid = [y - x @ beta for x, y in zip(xs, ys, strict=True)]
     sizes = {r.size for r in resid}
     balanced = len(sizes) == 1
     order = 0
     coef = np.zeros((0, 1, 1))
+    innov: Any  # (N, S, 1) array when balanced, else one array per unit
     if balanced:
         u = np.stack(resid)[:, :, None]                                     # (N, T, 1)
         n_obs = u.shape[1]
@@ -158,7 +160,7 @@ def _draw(task: tuple[dict[str, Any], Any, int, int]) -> np.ndarray:
         paths = [errors[:, i] for i in range(errors.shape[1])]
     else:
         paths = [rng.choice(e, size=(reps, e.size), replace=True) for e in model["innov"]]
-    ys = [f[None, :] + u - u.mean(axis=1, keepdims=True) for f, u in zip(model["fitted"], paths)]
+    ys = [f[None, :] + u - u.mean(axis=1, keepdims=True) for f, u in zip(model["fitted"], paths, strict=True)]
     return _s_tilde_batch(model["xs"], ys)
 
 
@@ -213,7 +215,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
     """
     inference = check_choice("inference", INFERENCES[0] if inference is None else inference,
                              INFERENCES)
-    reps = int(check_int("reps", reps, minimum=19))  # type: ignore[arg-type]
+    reps = int(check_int("reps", reps, minimum=19))
     length = check_int("block_length", block_length, minimum=1, allow_none=True) or 1
     seed = check_seed(seed)
     design = build_design(panel, pressure, activity, controls=controls, log=log, window=window,
@@ -222,7 +224,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
     blocks = [(y, x) for _, _, y, x in units]
     if len(blocks) < 2:
         raise DataError("the slope homogeneity test needs at least 2 units.")
-    for (unit, _, y, x) in units:
+    for (unit, _, _, x) in units:
         if np.linalg.matrix_rank(_demean(x)) < x.shape[1]:
             raise DataError(f"unit '{unit}' has no variation in a regressor; its own slope cannot "
                             "be estimated. Drop the unit or the regressor.")
@@ -243,7 +245,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
         lag_cap = check_int("max_lags", max_lags, minimum=0, allow_none=True)
         model = _null_model(blocks, default_max_lags(int(t_bar)) if lag_cap is None else lag_cap)
         sizes = [_CHUNK] * (reps // _CHUNK) + ([reps % _CHUNK] if reps % _CHUNK else [])
-        tasks = [(model, s, n, length) for s, n in zip(task_seeds(seed, len(sizes)), sizes)]
+        tasks = [(model, s, n, length) for s, n in zip(task_seeds(seed, len(sizes)), sizes, strict=True)]
         with using_executor(executor) as runner:
             draws = np.concatenate(runner.map(_draw, tasks))
         draws = draws[np.isfinite(draws)]
@@ -257,7 +259,7 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
                         "common_shocks": bool(model["common"]),
                         "seed": seed if isinstance(seed, int) else "generator"})
     warnings = []
-    note = size_note(name, n_units, int(round(t_bar)), options=f"inference={inference}")
+    note = size_note(name, n_units, round(t_bar), options=f"inference={inference}")
     if note:
         details["size"] = note
         if not note.get("controlled", True):

@@ -126,7 +126,7 @@ class NullTable:
         out = {}
         for a in levels:
             q = a if tail == "lower" else 1 - a
-            out[a] = float(draws[order][min(np.searchsorted(cum, q), draws.size - 1)])
+            out[a] = float(draws[order][min(int(np.searchsorted(cum, q)), draws.size - 1)])
         return out
 
     def moments(self, phi: np.ndarray, *, n_obs: int | None = None) -> tuple[np.ndarray, np.ndarray]:

@@ -26,12 +26,11 @@ import numpy as np
 
 from evidence._cache import load_cached, save_cached
 from evidence._typing import DEFAULT_SEED, Seed
-from evidence._validation import check_int, check_lags, check_seed, check_trend
+from evidence._validation import check_choice, check_int, check_lags, check_seed, check_trend
 from evidence.errors import SpecError
 from evidence.parallel import ExecutorLike, task_seeds, using_executor
 from evidence.results import TestResult
 from evidence.roots import _cips_tables as tables
-from evidence._validation import check_choice
 from evidence.roots._common import (
     INFERENCE,
     N_DETERMINISTIC,
@@ -66,7 +65,10 @@ def cadf_tstats(y: np.ndarray, trend: str, lags: int) -> np.ndarray:
     dy, dbar = np.diff(y, axis=1), np.diff(ybar, axis=1)
     rows = nobs - lags - 1
     sl = slice(lags, nobs - 1)                       # Δ index for t = p+2..T
-    full = lambda a: np.broadcast_to(a, (reps, rows, n_units))
+
+    def full(a: np.ndarray) -> np.ndarray:
+        return np.broadcast_to(a, (reps, rows, n_units))
+
     cols = [y[:, lags:nobs - 1, :], full(ybar[:, lags:nobs - 1, :]), full(dbar[:, sl, :])]
     for j in range(1, lags + 1):
         cols.append(full(dbar[:, lags - j:nobs - 1 - j, :]))
@@ -122,7 +124,7 @@ def simulate_cips(n_units: int, nobs: int, *, trend: str = "constant", lags: int
     sizes = [_CHUNK] * (reps // _CHUNK) + ([reps % _CHUNK] if reps % _CHUNK else [])
     seeds = task_seeds(seed, len(sizes))
     tasks = [(s, r, int(n_units), int(nobs), trend, int(lags), bool(truncate))
-             for s, r in zip(seeds, sizes)]
+             for s, r in zip(seeds, sizes, strict=True)]
     with using_executor(executor) as runner:
         draws = np.sort(np.concatenate(runner.map(_simulate_chunk, tasks)))
     if cacheable:
@@ -211,7 +213,7 @@ def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 1
             source = f"simulated under white-noise increments ({reps} replications, seed {seed})"
         details["critical_values_source"] = source
     details["pvalue_mc_error"] = math.sqrt(max(pvalue * (1 - pvalue), 1e-12) / reps)
-    details["unit_cadf"] = dict(zip(block.units, np.round(t, 6).tolist()))
+    details["unit_cadf"] = dict(zip(block.units, np.round(t, 6).tolist(), strict=True))
     warn = ([f"{len(block.excluded)} item(s) left out; see details['excluded']."]
             if len(block.excluded) else [])
     if n < 10 or nobs < 10:

@@ -10,7 +10,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 import pandas as pd
@@ -26,7 +26,7 @@ __all__ = ["ARCH_TREND", "TREND_WORDS", "N_DETERMINISTIC", "lag_bound", "ColumnB
            "card_options"]
 
 #: The package's deterministic terms and arch's names for them.
-ARCH_TREND = {"none": "n", "constant": "c", "trend": "ct"}
+ARCH_TREND: dict[str, Literal["n", "c", "ct"]] = {"none": "n", "constant": "c", "trend": "ct"}
 #: The deterministic terms in words, for hypotheses.
 TREND_WORDS = {"none": "no deterministic terms", "constant": "a constant",
                "trend": "a constant and a linear trend"}

@@ -63,17 +63,17 @@ def lookup(model: str, fractions: tuple[float, ...]) -> tuple[dict[float, float]
         row = CRASH_ONE if len(fractions) == 1 else CRASH_TWO
         paper = "Lee & Strazicich (2004), Table 1" if len(fractions) == 1 else \
             "Lee & Strazicich (2003), Table 2"
-        return dict(zip(LEVELS, row)), f"{paper}, crash model, T=100 (from memory)"
+        return dict(zip(LEVELS, row, strict=True)), f"{paper}, crash model, T=100 (from memory)"
     if len(fractions) == 1:
         lam = min(fractions[0], 1.0 - fractions[0])
         keys = np.array(sorted(BREAK_ONE))
         key = float(keys[np.argmin(np.abs(keys - lam))])
-        return (dict(zip(LEVELS, BREAK_ONE[key])),
+        return (dict(zip(LEVELS, BREAK_ONE[key], strict=True)),
                 f"Lee & Strazicich (2004), Table 1, break model, lambda={key:.1f} (nearest to "
                 f"{fractions[0]:.2f}), T=100 (from memory)")
     pairs = sorted(BREAK_TWO)
     dist = [abs(a - fractions[0]) + abs(b - fractions[1]) for a, b in pairs]
     key2 = pairs[int(np.argmin(dist))]
-    return (dict(zip(LEVELS, BREAK_TWO[key2])),
+    return (dict(zip(LEVELS, BREAK_TWO[key2], strict=True)),
             f"Lee & Strazicich (2003), Table 2, break model, lambda=({key2[0]:.1f}, {key2[1]:.1f}) "
             f"(nearest to ({fractions[0]:.2f}, {fractions[1]:.2f})), T=100 (from memory)")

@@ -28,15 +28,15 @@ import json
 import math
 import sys
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-import numpy as np
-
 from evidence._montecarlo import rejection_rates
 from evidence.panel import Panel
-from evidence.roots import dependence, panel as panel_tests, series
+from evidence.roots import dependence, series
+from evidence.roots import panel as panel_tests
 from evidence.roots._common import card_options
 
 __all__ = ["CELLS", "DEFAULTS", "make_card", "markdown", "summary_table", "defaults_table",
@@ -124,7 +124,7 @@ def _key(test: str, inference: str, trend: str) -> str:
     return f"{test}|{card_options(inference, trend)}"
 
 
-def _unit_root_tests(data: Panel, trend: str, column: str, inference: str) -> dict[str, float]:
+def _unit_root_tests(data: Panel, trend: Any, column: str, inference: str) -> dict[str, float]:
     out: dict[str, float] = {}
     ips = panel_tests.ips_test(data, column, trend=trend, inference=inference)
     out[_key("IPS W-tbar", inference, trend)] = ips.pvalue
@@ -154,7 +154,7 @@ def _unit_root_tests(data: Panel, trend: str, column: str, inference: str) -> di
     return out
 
 
-def _break_tests(y: Any, trend: str, k: int, inference: str) -> dict[str, float]:
+def _break_tests(y: Any, trend: Any, k: int, inference: str) -> dict[str, float]:
     """Zivot–Andrews and Lee–Strazicich (one break) with the model the battery uses for
     ``trend``; with ``inference="asymptotic"`` Lee–Strazicich has no p-value, so its draw is 0
     (reject at 5 %) or 1."""
@@ -167,16 +167,16 @@ def _break_tests(y: Any, trend: str, k: int, inference: str) -> dict[str, float]
             f"Lee-Strazicich|inference={inference}; model={model}; n_breaks=1#{k}": ls_p}
 
 
-def _cips(data: Panel, trend: str, column: str, inference: str = "simulated") -> dict[str, float]:
+def _cips(data: Panel, trend: Any, column: str, inference: str = "simulated") -> dict[str, float]:
     res = panel_tests.cips_test(data, column, trend=trend, inference=inference)
     return {_key("CIPS*", inference, trend): res.pvalue}
 
 
-def _factor_tests(data: Panel, trend: str, column: str, inference: str) -> dict[str, float]:
+def _factor_tests(data: Panel, trend: Any, column: str, inference: str) -> dict[str, float]:
     return _cips(data, trend, column, inference)
 
 
-def _stationarity_tests(data: Panel, trend: str, column: str, inference: str) -> dict[str, float]:
+def _stationarity_tests(data: Panel, trend: Any, column: str, inference: str) -> dict[str, float]:
     out: dict[str, float] = {}
     out[_key("Hadri (robust)", inference, trend)] = panel_tests.hadri_test(
         data, column, trend=trend, inference=inference).pvalue
@@ -186,7 +186,7 @@ def _stationarity_tests(data: Panel, trend: str, column: str, inference: str) ->
     return out
 
 
-def _dependence_tests(data: Panel, trend: str, column: str, inference: str) -> dict[str, float]:
+def _dependence_tests(data: Panel, trend: Any, column: str, inference: str) -> dict[str, float]:
     out: dict[str, float] = {}
     funcs = (("Pesaran CD", dependence.pesaran_cd_test), ("Breusch-Pagan LM", dependence.lm_test),
              ("Pesaran scaled LM", dependence.scaled_lm_test),
@@ -200,6 +200,14 @@ def _dependence_tests(data: Panel, trend: str, column: str, inference: str) -> d
             out[_key(f"{name} (unfiltered)", "asymptotic", trend)] = func(
                 data, column, trend=trend, prewhiten=False).pvalue
     return out
+
+
+def _runner(func: Any, trend: str, column: str,
+            inference: str) -> Callable[[Panel], dict[str, float]]:
+    def run(data: Panel) -> dict[str, float]:
+        out: dict[str, float] = func(data, trend, column, inference)
+        return out
+    return run
 
 
 _GROUPS = {"unit_root": _unit_root_tests, "factor": _factor_tests,
@@ -221,8 +229,8 @@ def make_card(*, reps: int, power_reps: int, years: tuple[int, ...] = YEARS,
             count = max(count // 2, 1)
         func = _GROUPS[cell.group]
         rates = rejection_rates(
-            lambda d, f=func, tr=cell.trend, col=cell.column, inf=inference: f(d, tr, col, inf),
-            cell.dgp, N_UNITS, n_years, reps=count, seed=SEED + 1000 * n_years + c,
+            _runner(func, cell.trend, cell.column, inference), cell.dgp, N_UNITS, n_years,
+            reps=count, seed=SEED + 1000 * n_years + c,
             params=dict(cell.params))
         for key, rate in sorted(rates.items()):
             test, options = key.split("|")
@@ -257,7 +265,8 @@ def make_card(*, reps: int, power_reps: int, years: tuple[int, ...] = YEARS,
 _ORDER = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews", "Lee-Strazicich",
           "IPS W-tbar", "Fisher-ADF (Choi Z)", "Fisher-ADF (Maddala-Wu P)",
           "Fisher-ADF (Choi Pm)", "Fisher-ADF (Choi L*)", "Fisher-PP (Choi Z)",
-          "Fisher-PP (Maddala-Wu P)", "Fisher-PP (Choi Pm)", "Fisher-PP (Choi L*)", "LLC", "Breitung", "Hadri (robust)", "CIPS*", "Pesaran CD",
+          "Fisher-PP (Maddala-Wu P)", "Fisher-PP (Choi Pm)", "Fisher-PP (Choi L*)", "LLC",
+          "Breitung", "Hadri (robust)", "CIPS*", "Pesaran CD",
           "Breusch-Pagan LM", "Pesaran scaled LM", "Baltagi-Feng-Kao bias-corrected LM")
 
 
@@ -310,6 +319,12 @@ def defaults_table(card: dict[str, Any]) -> str:
     return summary_table({**card, "entries": rows})
 
 
+def _row_order(key: tuple[str, str, str]) -> tuple[int, str, str, str]:
+    rank = {name: i for i, name in enumerate(_ORDER)}
+    base = key[0].replace(" (unfiltered)", "")
+    return (rank.get(base, len(rank)), key[0], key[1], key[2])
+
+
 def markdown(card: dict[str, Any]) -> str:
     """The card as Markdown: the summary (:func:`summary_table`), then test × process × T →
     rejection %, sizes then power."""
@@ -350,13 +365,7 @@ def markdown(card: dict[str, Any]) -> str:
                   "single series; each entry's draws and Monte Carlo s.e. are in the JSON):", "",
                   "| test | inference, trend | process | " + " | ".join(f"T = {t}" for t in years)
                   + " |", "|---|---|---|" + "---|" * len(years)]
-        rank = {name: i for i, name in enumerate(_ORDER)}
-
-        def order(key: tuple[str, str, str]) -> tuple[int, str, str, str]:
-            base = key[0].replace(" (unfiltered)", "")
-            return (rank.get(base, len(rank)), key[0], key[1], key[2])
-
-        for key in sorted(rows, key=order):
+        for key in sorted(rows, key=_row_order):
             test, options, dgp = key
             cells = " | ".join(rows[key].get(t, "") for t in years)
             lines.append(f"| {test} | {options} | {dgp} | {cells} |")

@@ -145,7 +145,7 @@ def prewhiten_differences(y: np.ndarray, trend: str, lags: np.ndarray, max_lags:
     for p in np.unique(lags):
         cols = [dy[:, max_lags - j:nobs - 1 - j, :] for j in range(1, p + 1)]
         if trend == "trend":
-            cols = [np.ones_like(lhs)] + cols
+            cols = [np.ones_like(lhs), *cols]
         if not cols:
             continue
         x = np.moveaxis(np.stack(cols, axis=3), 2, 1)          # (R, N, rows, k)
@@ -229,7 +229,7 @@ def ips_moments(lags: np.ndarray, nreg: np.ndarray, trend: str) -> tuple[np.ndar
     means = np.full(lags.size, np.nan)
     variances = np.full(lags.size, np.nan)
     outside = False
-    for i, (p, n) in enumerate(zip(lags, nreg)):
+    for i, (p, n) in enumerate(zip(lags, nreg, strict=True)):
         if p > 8:
             continue
         means[i], out = interpolate_in_t(grid, np.array(tables.IPS_MEAN[trend][p], dtype=float), n)

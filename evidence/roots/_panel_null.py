@@ -71,7 +71,7 @@ class PanelNull:
             return one(self.draws[0 if len(self.grid) == 1 else self.grid.index(0.0)])
         grid = np.asarray(self.grid)
         pos = float(np.interp(np.clip(phi, grid[0], grid[-1]), grid, np.arange(grid.size)))
-        lo = int(math.floor(pos))
+        lo = math.floor(pos)
         hi = min(lo + 1, grid.size - 1)
         w = pos - lo
         return (1 - w) * one(self.draws[lo]) + w * one(self.draws[hi])
@@ -84,7 +84,7 @@ class PanelNull:
             row = self.draws[0 if grid.size == 1 else list(self.grid).index(0.0)]
             return {a: float(np.quantile(row, a)) for a in levels}
         pos = float(np.interp(np.clip(phi, grid[0], grid[-1]), grid, np.arange(grid.size)))
-        lo, w = int(math.floor(pos)), pos - math.floor(pos)
+        lo, w = math.floor(pos), pos - math.floor(pos)
         hi = min(lo + 1, grid.size - 1)
         return {a: float((1 - w) * np.quantile(self.draws[lo], a) + w * np.quantile(self.draws[hi], a))
                 for a in levels}

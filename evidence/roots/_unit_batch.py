@@ -98,8 +98,8 @@ def adf_tstats(y: np.ndarray, trend: str, lags: int) -> np.ndarray:
     return ols_tstat_batch(dy, x, 0)[1]
 
 
-def _ssr_and_last_t(dy: np.ndarray, x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Sum of squared residuals and the (MLE-variance) t-ratio of the last lag column."""
+def _ssr_and_last_t(dy: np.ndarray, x: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Sum of squared residuals, coefficients and ``X'X`` (for the t-ratio of the last lag column)."""
     xtx = np.einsum("bnk,bnl->bkl", x, x)
     xty = np.einsum("bnk,bn->bk", x, dy)
     beta = np.linalg.solve(xtx, xty[..., None])[..., 0]

@@ -115,7 +115,7 @@ class RootBatteryResult(ResultProtocol):
         t = self.table.copy()
         t["cell"] = [format_pvalue(p) if not math.isnan(p) else
                      ("reject" if r is True else "no reject" if r is False else "n/a")
-                     for p, r in zip(t["pvalue"], t["reject"])]
+                     for p, r in zip(t["pvalue"], t["reject"], strict=True)]
         t["key"] = t["test"] + " " + np.where(t["series"] == "level", "level", "diff")
         wide = t.pivot_table(index="unit", columns="key", values="cell", aggfunc="first", sort=False)
         order = [f"{test} {s}" for test in self.tests for s in ("level", "diff")
@@ -155,12 +155,12 @@ def _reject(test: str, res: TestResult, alpha: float) -> bool | None:
     return bool(res.statistic < cv)
 
 
-def _with_constant(trend: str) -> str:
+def _with_constant(trend: str) -> Trend:
     """The tests that need deterministic terms use a constant where none was asked."""
     return "trend" if trend == "trend" else "constant"
 
 
-def _series_test(test: str, y: pd.Series, trend: str, lags: Any, max_lags: Any) -> TestResult:
+def _series_test(test: str, y: pd.Series, trend: Trend, lags: Any, max_lags: Any) -> TestResult:
     if test == "adf":
         return series_tests.adf_test(y, trend=trend, lags=lags, max_lags=max_lags)
     if test == "pp":
@@ -176,7 +176,7 @@ def _series_test(test: str, y: pd.Series, trend: str, lags: Any, max_lags: Any) 
     return series_tests.lee_strazicich_test(y, model="both" if trend == "trend" else "level")
 
 
-def _panel_test(test: str, panel: Panel, column: str, trend: str, lags: Any, max_lags: Any) -> TestResult:
+def _panel_test(test: str, panel: Panel, column: str, trend: Trend, lags: Any, max_lags: Any) -> TestResult:
     if test == "ips":
         return panel_tests.ips_test(panel, column, trend=_with_constant(trend), lags=lags,
                                     max_lags=max_lags)
@@ -296,7 +296,7 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
     lags = check_lags(lags)
     max_lags = check_max_lags(max_lags)
     is_panel = isinstance(data, Panel)
-    if is_panel:
+    if isinstance(data, Panel):
         if column is None:
             raise SpecError("column= is needed with a Panel (the variable to test).")
         data.require(column)
@@ -305,12 +305,13 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
     chosen = tuple(check_choice("tests", t, allowed) for t in chosen)
     if not chosen:
         raise SpecError("tests=() is empty; name at least one test, e.g. ('adf', 'kpss').")
-    diff_trend = "none" if trend == "none" else "constant"
+    diff_trend: Trend = "none" if trend == "none" else "constant"
     name = column or "series"
     diff_name = derived_name("diff", name)
     rows: list[dict[str, Any]] = []
     skipped: list[dict[str, str]] = []
     if is_panel:
+        assert isinstance(data, Panel) and column is not None  # checked above
         dpanel = data.with_difference(column, name=diff_name) if differences else None
         units = [(u, data.series(u, column).rename(f"{u}: {column}")) for u in data.units]
     else:
@@ -319,7 +320,7 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
             np.asarray(data, dtype=float), index=np.arange(1, np.asarray(data).size + 1))
         units = [(str(y.name) if y.name is not None else "series", y)]
     for unit, y in units:
-        diff = dpanel.series(unit, diff_name) if dpanel is not None else y.diff()
+        diff = dpanel.series(unit, diff_name) if is_panel and dpanel is not None else y.diff()
         for series, values, tr in (("level", y, trend), ("difference", diff, diff_trend)):
             if series == "difference" and not differences:
                 continue
@@ -333,6 +334,7 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
                                     "column": name if series == "level" else diff_name,
                                     "years": _span(values), "reason": f"{test}: {exc}"})
     if is_panel and any(t in PANEL_TESTS for t in chosen):
+        assert isinstance(data, Panel) and column is not None  # checked above
         for series, pan, col, tr in (("level", data, column, trend),
                                      ("difference", dpanel, diff_name, diff_trend)):
             if pan is None:
@@ -354,7 +356,8 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
     warn = []
     if len(excluded):
         warn.append(f"{len(excluded)} test(s) not run for bad data; see 'excluded'.")
-    return RootBatteryResult(table=table, decisions=pd.DataFrame(decisions, columns=["unit", "decision", "reason"]),
+    return RootBatteryResult(table=table,
+                             decisions=pd.DataFrame(decisions, columns=["unit", "decision", "reason"]),
                              excluded=excluded, column=column, tests=chosen, trend=trend,
                              alpha=alpha, differences=differences, warnings=tuple(warn),
                              details={"difference_trend": diff_trend, "lags": lags,

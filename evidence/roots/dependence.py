@@ -103,7 +103,7 @@ class Correlations(ResultProtocol):
         """One row per pair used: the two units, their overlap and correlation."""
         iu = np.triu_indices(self.n_units, k=1)
         dropped = {(a, b) for a, b, _ in self.excluded_pairs}
-        pairs = [(self.units[i], self.units[j]) for i, j in zip(*iu)
+        pairs = [(self.units[i], self.units[j]) for i, j in zip(*iu, strict=True)
                  if (self.units[i], self.units[j]) not in dropped]
         return pd.DataFrame({"unit_a": [a for a, _ in pairs], "unit_b": [b for _, b in pairs],
                              "overlap": self.overlap.astype(int), "correlation": self.rho})
@@ -187,7 +187,7 @@ def _as_wide(data: Any, column: str | None, trend: str, min_overlap: int,
     rho, overlap, keep = pairwise_correlations(wide, min_overlap)
     iu = np.triu_indices(len(units), k=1)
     excluded_pairs = tuple((units[i], units[j], int(c)) for i, j, c, k in
-                           zip(iu[0], iu[1], overlap, keep) if not k)
+                           zip(iu[0], iu[1], overlap, keep, strict=True) if not k)
     if not keep.any():
         raise DataError(f"no pair of units shares {min_overlap} years in {label}; lower "
                         "min_overlap or use a longer panel.")
@@ -220,7 +220,7 @@ def _detrend(wide: np.ndarray, trend: str) -> np.ndarray:
 
 
 def _check(min_overlap: Any) -> int:
-    return check_int("min_overlap", min_overlap, minimum=3)  # type: ignore[return-value]
+    return check_int("min_overlap", min_overlap, minimum=3)
 
 
 def _details(c: Correlations, trend: str, min_overlap: int) -> dict[str, Any]:
@@ -294,7 +294,7 @@ def _dependence(kind: str, data: Any, column: str | None, *, trend: str, min_ove
         raise SpecError(f"prewhiten={prewhiten!r} must be True or False.")
     if inference is not None:
         inference = check_choice("inference", inference, INFERENCE)
-    reps = check_int("reps", reps, minimum=100)  # type: ignore[assignment]
+    reps = check_int("reps", reps, minimum=100)
     c = _as_wide(data, column, trend, min_overlap, prewhiten)
     warn = _warnings(c)
     details = _details(c, trend, min_overlap)
@@ -309,7 +309,7 @@ def _dependence(kind: str, data: Any, column: str | None, *, trend: str, min_ove
             w = rng.choice([-1.0, 1.0], size=c.n_units)
             iu = np.triu_indices(c.n_units, k=1)
             dropped = {(a, b) for a, b, _ in c.excluded_pairs}
-            weights = np.array([w[i] * w[j] for i, j in zip(*iu)
+            weights = np.array([w[i] * w[j] for i, j in zip(*iu, strict=True)
                                 if (c.units[i], c.units[j]) not in dropped])
             details["seed"] = seed if isinstance(seed, (int, np.integer)) else str(seed)
         elif c.demeaned_by_time:

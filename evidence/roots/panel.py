@@ -7,7 +7,8 @@ Second generation: Pesaran's CIPS (in ``_cips.py``). All are re-exported here.
 By default the p-values are simulated for the data's own T (and N): IPS standardises t-bar with
 each unit's finite-sample moments, the Fisher tests combine finite-sample unit p-values
 (``_calibrate``). ``inference="asymptotic"`` gives the published tables (IPS 2003 Table 3) and
-MacKinnon's asymptotic p-values; their measured size is in ``details["size"]``. Every test takes a :class:`~evidence.panel.Panel` and a column.
+MacKinnon's asymptotic p-values; their measured size is in ``details["size"]``. Every test takes
+a :class:`~evidence.panel.Panel` and a column.
 IPS and the Fisher tests accept unbalanced panels (units may start or end in different years);
 LLC, Breitung, Hadri and CIPS need a balanced panel and say which unit breaks it. A unit without
 any value is left out and listed in ``details["excluded"]`` (unit, column, years, reason); a gap
@@ -165,7 +166,7 @@ def ips_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int 
                 means[sub], variances[sub] = table.moments(ph, n_obs=int(length) - 1)
                 phi[sub] = ph
                 details["moments"] = table.label
-        details["unit_phi"] = dict(zip(block.units, np.round(phi, 4).tolist()))
+        details["unit_phi"] = dict(zip(block.units, np.round(phi, 4).tolist(), strict=True))
     else:
         if p.max() > IPS_TABLE_MAX_LAGS:
             unit = block.units[int(np.argmax(p))]
@@ -188,7 +189,7 @@ def ips_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int 
     details.update({"tbar": tbar, "regression_obs": n_reg.tolist(),
                     "mean_moment": float(means.mean()), "var_moment": float(variances.mean()),
                     "balanced": block.balanced,
-                    "unit_tstats": dict(zip(block.units, t.round(6).tolist()))})
+                    "unit_tstats": dict(zip(block.units, t.round(6).tolist(), strict=True))})
     if (p == 0).all() and trend == "constant":
         zm, _ = interpolate_in_t(np.array(tables.IPS_ZBAR_T), np.array(tables.IPS_ZBAR_MEAN),
                                  float(n_reg.mean()))
@@ -290,8 +291,8 @@ def fisher_test(panel: Panel, column: str, *, combine: str = "z", unit_test: str
     details.update({
         "tail": "lower" if combine in ("z", "l") else "upper", "units": n,
         "combinations": {k: {"statistic": v[0], "pvalue": v[1]} for k, v in combos.items()},
-        "unit_statistics": dict(zip(block.units, units.stat.round(6).tolist())),
-        "unit_pvalues": dict(zip(block.units, pvals.round(6).tolist())),
+        "unit_statistics": dict(zip(block.units, units.stat.round(6).tolist(), strict=True)),
+        "unit_pvalues": dict(zip(block.units, pvals.round(6).tolist(), strict=True)),
         "unit_lags": units.lags.tolist(), "balanced": block.balanced})
     card = f"Fisher-{unit_test.upper()} ({_FISHER_NAMES[combine]})"
     details["size"], size_warn = size_details(card, n, int(np.median(units.lengths)), inference,

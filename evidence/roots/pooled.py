@@ -168,7 +168,7 @@ def llc_test(panel: Panel, column: str, *, trend: Trend = "constant", lags: int 
     nobs, n = y.shape
     top = lags if isinstance(lags, int) else (lag_bound(nobs, trend) if max_lags is None else max_lags)
     if hac_lags is None:
-        hac_lags = int(round(3.21 * nobs ** (1.0 / 3.0)))
+        hac_lags = round(3.21 * nobs ** (1.0 / 3.0))
     unit_lags = _unit_lags(y[None], trend, lags, top)
     pieces = {k: float(v[0]) for k, v in llc_batch(y[None], trend, unit_lags, hac_lags).items()}
     stat = pieces["statistic"]
@@ -305,7 +305,7 @@ def hadri_test(panel: Panel, column: str, *, trend: Trend = "constant", robust: 
     lm = float(unit_lm.mean()) if robust else float(s2.mean() / lrv.mean())
     details: dict[str, Any] = {"trend": trend, "robust": robust, "hac_lags": bandwidth,
                                "inference": inference, "lm": lm, "units": n,
-                               "unit_lm": dict(zip(block.units, unit_lm.round(6).tolist()))}
+                               "unit_lm": dict(zip(block.units, unit_lm.round(6).tolist(), strict=True))}
     if inference == "simulated":
         table = unit_null("kpss", nobs, trend, hac_lags=bandwidth)
         phi = table.phi_tilde(phi_hat_of("kpss", y, trend))
@@ -313,7 +313,7 @@ def hadri_test(panel: Panel, column: str, *, trend: Trend = "constant", robust: 
         z = float(np.sqrt(n) * (lm - mean.mean()) / np.sqrt(var.mean()))
         details.update({"moments": table.label, "mean_moment": float(mean.mean()),
                         "var_moment": float(var.mean()),
-                        "unit_phi": dict(zip(block.units, np.round(phi, 4).tolist()))})
+                        "unit_phi": dict(zip(block.units, np.round(phi, 4).tolist(), strict=True))})
     else:
         xi, zeta2 = HADRI_MOMENTS[trend]
         z = float(np.sqrt(n) * (lm - xi) / np.sqrt(zeta2))

@@ -39,7 +39,7 @@ from __future__ import annotations
 
 import math
 import warnings
-from typing import Any
+from typing import Any, Literal
 
 import numpy as np
 from arch.unitroot import ADF, DFGLS, KPSS, PhillipsPerron, ZivotAndrews
@@ -48,7 +48,14 @@ from arch.utility.exceptions import InfeasibleTestException
 from evidence._arrays import SeriesData, clean_series, series_values
 from evidence._hac import newey_west_lags
 from evidence._typing import Trend
-from evidence._validation import check_choice, check_int, check_lags, check_max_lags, check_number, check_trend
+from evidence._validation import (
+    check_choice,
+    check_int,
+    check_lags,
+    check_max_lags,
+    check_number,
+    check_trend,
+)
 from evidence.errors import DataError, SpecError
 from evidence.results import TestResult
 from evidence.roots import _lee_strazicich_tables as ls_tables
@@ -70,7 +77,7 @@ UNIT_ROOT = "the series has a unit root"
 STATIONARY = "the series is stationary"
 _TREND_WORDS = TREND_WORDS
 #: Zivot–Andrews models: what breaks, and arch's name for it.
-ZA_MODELS = {"level": "c", "trend": "t", "both": "ct"}
+ZA_MODELS: dict[str, Literal["c", "t", "ct"]] = {"level": "c", "trend": "t", "both": "ct"}
 #: Lee–Strazicich models: "level" (crash: level shifts) and "both" (level and trend shifts).
 LS_MODELS = ("level", "both")
 
@@ -105,7 +112,10 @@ def _run(factory: Any, data: SeriesData, what: str) -> Any:
 
 
 #: arch's name of each lag rule.
-_ARCH_METHOD = {"aic": "aic", "bic": "bic", "sequential-t": "t-stat"}
+#: arch's spelling for the tests that take only a constant or a constant and trend (KPSS, DF-GLS).
+_CONSTANT_OR_TREND: dict[str, Literal["c", "ct"]] = {"constant": "c", "trend": "ct"}
+_ARCH_METHOD: dict[str, Literal["aic", "bic", "t-stat"]] = {"aic": "aic", "bic": "bic",
+                                                            "sequential-t": "t-stat"}
 
 
 def _lag_options(lags: Any, max_lags: Any) -> tuple[int | None, str, int | None]:
@@ -268,7 +278,7 @@ def kpss_test(y: Any, *, trend: Trend = "constant", hac_lags: int | None = None,
     trend = check_trend(trend, ("constant", "trend"))
     data = _series(y, min_obs=_min_obs(None, trend), purpose="a KPSS test")
     bandwidth = _hac_lags(hac_lags, data.nobs)
-    res = _run(lambda: KPSS(data.values, lags=bandwidth, trend=ARCH_TREND[trend]), data,
+    res = _run(lambda: KPSS(data.values, lags=bandwidth, trend=_CONSTANT_OR_TREND[trend]), data,
                "a KPSS test")
     pvalue, cv, extra, warn = _inference("kpss", "KPSS", res, data, trend, inference,
                                          hac_lags=bandwidth)
@@ -301,7 +311,7 @@ def dfgls_test(y: Any, *, trend: Trend = "constant", lags: int | str = "aic",
     fixed, method, max_lags = _lag_options(lags, max_lags)
     data = _series(y, min_obs=_min_obs(fixed, trend), purpose="a DF-GLS test")
     bound = None if fixed is not None else _search_bound(max_lags, data.nobs, trend)
-    res = _run(lambda: DFGLS(data.values, lags=fixed, trend=ARCH_TREND[trend], max_lags=bound,
+    res = _run(lambda: DFGLS(data.values, lags=fixed, trend=_CONSTANT_OR_TREND[trend], max_lags=bound,
                              method=_ARCH_METHOD[method]), data, "a DF-GLS regression")
     pvalue, cv, extra, warn = _inference("dfgls", "DF-GLS", res, data, trend, inference,
                                          lags=fixed, max_lags=bound or 0, rule=method)
@@ -357,7 +367,7 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
     if trim == 0:
         raise SpecError("trim=0 leaves no room at the ends; use a fraction such as 0.15.")
     fixed, method, max_lags = _lag_options(lags, max_lags)
-    data = _series(y, min_obs=max(_min_obs(fixed, "trend", 2), int(math.ceil(3 / trim))),
+    data = _series(y, min_obs=max(_min_obs(fixed, "trend", 2), math.ceil(3 / trim)),
                    purpose="a Zivot-Andrews test")
     bound = None if fixed is not None else _search_bound(max_lags, data.nobs, "trend")
     res = _run(lambda: ZivotAndrews(data.values, lags=fixed, trend=ZA_MODELS[model],
@@ -366,6 +376,7 @@ def za_test(y: Any, *, model: str = "level", lags: int | str = "aic", max_lags: 
     all_stats = np.asarray(res._all_stats, dtype=float)  # arch keeps the statistic by index
     bp = int(np.nanargmin(np.where(np.isfinite(all_stats), all_stats, np.inf)))
     last_old = bp - 2 if model == "trend" else bp - 1
+    extra: dict[str, Any]
     if inference == "asymptotic":
         pvalue, cv = float(res.pvalue), _cv(res.critical_values)
         extra = {"pvalue_source": "Zivot & Andrews (1992) quantiles (T = 100) via arch"}
@@ -405,7 +416,7 @@ def lee_strazicich_test(y: Any, *, model: str = "level", n_breaks: int = 1,
     n_breaks : {1, 2}
     lags : int or "sequential-t"
         Augmentation lags; "sequential-t" chooses them at every break date by the
-        general-to-specific rule (start at ``max_lags``, drop the last lag while |t| < 1.645), as
+        general-to-specific rule (start at ``max_lags``, drop the last lag while :math:`|t| < 1.645`), as
         in the papers.
     max_lags : int, optional
         Largest lag order; default ``floor(4 (T/100)^(1/4))`` bounded by T (the papers use 8 at

@@ -18,6 +18,7 @@ Safety rules, checked before anything is written:
 
 from __future__ import annotations
 
+import contextlib
 import ctypes
 import errno
 import fcntl
@@ -236,10 +237,8 @@ class OutputFolder:
     def _release(self) -> None:
         if self._lock is None:
             return
-        try:
+        with contextlib.suppress(OSError):
             os.unlink(self._lock_path)
-        except OSError:
-            pass
         os.close(self._lock)
         self._lock = None
 

@@ -14,7 +14,7 @@ import time
 from collections.abc import Callable
 from contextlib import ExitStack
 from dataclasses import dataclass, replace
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from importlib import metadata
 from pathlib import Path
 from typing import Any
@@ -31,9 +31,11 @@ from evidence.parallel import ExecutorLike, using_executor
 from evidence.results import ResultProtocol
 from evidence.study import figures as figs
 from evidence.study._output import OutputFolder, file_hash
-from evidence.study.report import Section, render_report
+from evidence.study.figures import RUNG_COLOURS
+from evidence.study.report import Answer, Figure, Section, Table, render_report
 from evidence.study.spec import StudySpec, check_against_data, check_executor, read_spec
-from evidence.study.steps import AUDIT, STEPS, StepOutput
+from evidence.study.steps import AUDIT, STEPS, TITLES, StepOutput, TableOut
+from evidence.study.verdict import FLAG_MEANINGS, RUNG_TEXT, verdicts
 from evidence.tables import html_to_docx
 
 __all__ = ["StudyResult", "run_study", "run_into"]
@@ -97,24 +99,30 @@ class _Writer:
     def __init__(self, folder: OutputFolder, formats: tuple[str, ...]) -> None:
         self.folder, self.formats = folder, formats
         self.not_drawn: dict[str, str] = {}
+        self.top: list[Figure] = []
         folder.path("tables/.").mkdir(exist_ok=True)
         folder.path("figures/.").mkdir(exist_ok=True)
 
-    def table(self, name: str, render: Callable[[str], str], source: str | None = None) -> str:
+    def table(self, table: TableOut) -> Table:
+        """Every format written with the caution (once per file); the report's HTML without it
+        (the report carries the caution once, at the top)."""
+        files = []
         for fmt in self.formats:
-            relative = f"tables/{name}.{_EXT[fmt]}"
+            relative = f"tables/{table.name}.{_EXT[fmt]}"
             if fmt == "docx":
-                html_to_docx(render("html"), self.folder.path(relative))
+                html_to_docx(table.render("html", True), self.folder.path(relative))
             else:
-                self.folder.path(relative).write_text(render(fmt), encoding="utf-8")
-            self.folder.record(relative, source)
-        return render("html")
+                self.folder.path(relative).write_text(table.render(fmt, True), encoding="utf-8")
+            self.folder.record(relative, table.source)
+            files.append(relative)
+        html = table.render("html", False) if table.shown != "file" else ""
+        return Table(html, shown=table.shown, files=tuple(files), summary=table.summary)
 
     def section(self, output: StepOutput) -> Section:
         """Write the step's tables and figures; the report section that shows them."""
         import matplotlib
 
-        fragments = tuple(self.table(t.name, t.render, t.source) for t in output.tables)
+        fragments = tuple(self.table(t) for t in output.tables)
         shown = []
         for figure in output.figures:
             # data-derived text (unit names) is shown as written, never parsed as mathtext
@@ -127,9 +135,15 @@ class _Writer:
                 paths = figs.save(drawn, self.folder.path(f"figures/{figure.name}"))
             for path in paths:
                 self.folder.record(f"figures/{path.name}", figure.source)
-            if figure.in_report:
-                shown.append(paths[0])
-        return Section(output.title, fragments, tuple(shown), note=output.note)
+            item = Figure(paths[0], figure.caption,
+                          tuple(f"figures/{path.name}" for path in paths))
+            if figure.top:
+                self.top.append(item)
+            elif figure.in_report:
+                shown.append(item)
+        return Section(output.title, tuple(f for f in fragments if f.shown != "file" or f.files),
+                       tuple(shown), note=output.note, lead=output.lead,
+                       more_figures=output.more_figures)
 
 
 def _versions() -> dict[str, str]:
@@ -221,7 +235,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
 def _input_hashes(spec: StudySpec, source: Path | None) -> dict[str, Any]:
     """Hashes of the inputs, taken before anything is written."""
     check_source(spec.data_file)
-    out = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
+    out: dict[str, Any] = {"file": spec.data_file.name, "sha256": file_hash(spec.data_file)}
     if source is not None:
         out["study_file"] = {"file": source.name, "sha256": file_hash(source)}
     return out
@@ -232,7 +246,7 @@ def run_into(spec: StudySpec, folder: OutputFolder, executor: ExecutorLike,
              progress: Callable[[int, int], None] | None = None) -> StudyResult:
     """Run ``spec`` into an open output folder and commit it (the runner behind ``run_study``
     and ``run_demo``)."""
-    started, clock = datetime.now(timezone.utc), time.perf_counter()
+    started, clock = datetime.now(UTC), time.perf_counter()
     panel = _load(spec)
     stack = ExitStack()
     try:
@@ -244,7 +258,8 @@ def run_into(spec: StudySpec, folder: OutputFolder, executor: ExecutorLike,
             spec = replace(spec, executor=opened)
             writer = _Writer(folder, spec.formats)
             results, sections, grade, steps = _steps(panel, spec, writer, progress)
-            _write_outputs(spec, folder, results, sections)
+            answer = _answer(spec, grade, writer.top, results["not_run"])
+            _write_outputs(spec, folder, results, sections, answer)
             manifest = {"versions": _versions(), "input": inputs, "spec": json_safe(spec.raw),
                         "seeds": {"study": spec.seed},
                         "executor": getattr(opened, "name", str(opened)),
@@ -270,27 +285,56 @@ def _steps(panel: Panel, spec: StudySpec, writer: _Writer,
     sections: list[Section] = []
     steps = [name for name in STEPS if spec.analyses.get(name)]
     grade = None
-    for name in steps:
+    total = len(steps) + 1
+    for number, name in enumerate(steps):
+        if progress is not None:
+            progress(number, total)
         try:
             output = STEPS[name](panel, spec)
             section = writer.section(output)
         except EvidenceError as exc:
             results["not_run"][name] = str(exc)
-            sections.append(Section(f"{name}: not run", note=str(exc)))
+            sections.append(Section(f"{TITLES.get(name, name)}: not run",
+                                    lead=(f"This analysis could not run on these data: {exc}",)))
         else:
             results.update(output.results)
             grade = output.value if name == "grade" else grade
             sections.append(section)
-        if progress is not None:
-            progress(len(sections), len(steps) + 1)
+    if progress is not None:
+        progress(len(steps), total)
     sections.append(writer.section(AUDIT(panel, spec)))
+    if progress is not None:
+        progress(total, total)
     if writer.not_drawn:
         results["figures_not_drawn"] = dict(writer.not_drawn)
     return results, sections, grade, steps
 
 
+def _answer(spec: StudySpec, grade: Any, top: list[Figure], not_run: dict[str, str]) -> Answer:
+    """The verdict and grade figure the report opens with."""
+    if grade is None:
+        reason = not_run.get("grade")
+        text = (f"The grade could not be computed: {reason}" if reason else
+                "The grade is turned off in this study ([analyses] grade = false); the sections "
+                "below report each analysis on its own.")
+        return Answer(headline="No verdict on the claim.", paragraphs=(text,))
+    found = verdicts(grade, spec.unit_words)
+    first = found[0]
+    paragraphs = (first.intro, *(v.text for v in found[1:]))
+    counts = tuple((rung, n, RUNG_TEXT.get(rung, ""), RUNG_COLOURS.get(rung, ""))
+                   for rung, n in reversed(list(first.rungs.items())))
+    meanings = {**FLAG_MEANINGS, "short-window": (
+        f"graded on fewer than {grade.criteria.short_window} years ([criteria] short_window)")}
+    counts += tuple((f"flagged {flag}", n, meanings.get(flag, ""), "")
+                    for flag, n in first.flags.items())
+    return Answer(headline=first.headline, paragraphs=paragraphs, counts=counts,
+                  figure=top[0] if top else None, link="grade")
+
+
 def _write_outputs(spec: StudySpec, folder: OutputFolder, results: dict[str, Any],
-                   sections: list[Section]) -> None:
-    folder.write_text("report.html", render_report(spec.title, spec.claim, spec.source, sections))
+                   sections: list[Section], answer: Answer) -> None:
+    source = " ".join(x for x in (spec.source, spec.release and f"(release {spec.release})") if x)
+    folder.write_text("report.html", render_report(spec.title, spec.claim, source, sections,
+                                                   answer))
     payload = json.dumps(json_safe(results), indent=2, sort_keys=True, allow_nan=False) + "\n"
     folder.write_text("results.json", payload)

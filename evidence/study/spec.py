@@ -18,8 +18,7 @@ from pathlib import Path
 from typing import Any
 
 from evidence._typing import ADJUSTMENTS, DEFAULT_SEED
-from evidence._validation import (check_choice, check_columns, check_int, check_number,
-                                  check_window, suggest)
+from evidence._validation import check_choice, check_columns, check_int, check_number, check_window, suggest
 from evidence.elasticity import ESTIMATORS
 from evidence.errors import DataError, EvidenceError, SpecError
 from evidence.parallel import BACKENDS
@@ -27,17 +26,25 @@ from evidence.roots.battery import PANEL_TESTS, SERIES_TESTS
 
 __all__ = ["StudySpec", "PressureSpec", "read_spec", "parse_spec", "check_executor",
            "check_against_data", "SCHEMA", "ANALYSIS_DEFAULTS", "TABLE_FORMATS",
-           "CONVERGENCE_METHODS", "MAX_SPEC_BYTES"]
+           "CONVERGENCE_METHODS", "COINTEGRATION_TESTS", "BREAK_SERIES", "UNIT_FIGURES",
+           "MAX_SPEC_BYTES"]
 
 TABLE_FORMATS = ("text", "markdown", "latex", "html", "csv", "json", "docx")
 #: Address schemes of a Dask scheduler (``executor = "tcp://host:8786"``).
 SCHEDULER_SCHEMES = ("tcp://", "tls://", "inproc://", "ucx://")
 #: The convergence analyses a study can run.
 CONVERGENCE_METHODS = ("beta", "sigma", "stochastic", "clubs")
+#: The panel cointegration tests a study can run.
+COINTEGRATION_TESTS = ("pedroni", "kao", "westerlund")
+#: The series a break screen can test: the log intensity and the log pressure.
+BREAK_SERIES = ("intensity", "pressure")
+#: Which units get their own figures: those chosen by interest, or every unit.
+UNIT_FIGURES = ("chosen", "all")
 #: What runs when ``[analyses]`` does not say: on/off, or the methods of an analysis.
 ANALYSIS_DEFAULTS: dict[str, Any] = {
-    "rates": True, "grade": True, "elasticity": ["fe", "ccemg"], "roots": [],
-    "dependence": False, "convergence": ["beta", "sigma", "clubs"], "decomposition": True}
+    "rates": True, "grade": True, "breaks": True, "elasticity": ["fe", "ccemg"], "ekc": False,
+    "roots": [], "dependence": False, "cointegration": [],
+    "convergence": ["beta", "sigma", "clubs"], "decomposition": True}
 #: A study file larger than this is not a study file.
 MAX_SPEC_BYTES = 1 << 20
 #: Years a window may name (a sanity bound; the window must also overlap the data).
@@ -68,7 +75,7 @@ def _name(value: Any, where: str) -> str:
 def _int(low: int | None, high: int | None) -> Check:
     def check(value: Any, where: str) -> int:
         try:
-            return int(check_int("value", value, minimum=low, maximum=high))  # type: ignore[arg-type]
+            return int(check_int("value", value, minimum=low, maximum=high))
         except SpecError as exc:
             raise _fail(where, str(exc).replace("value=", "", 1)) from None
     return check
@@ -114,6 +121,12 @@ def _labels(value: Any, where: str) -> dict[str, str]:
     if not all(isinstance(k, str) and k and isinstance(v, str) and v for k, v in value.items()):
         raise _fail(where, 'must map names to the text tables show, e.g. {log_gdp = "ln GDP"}.')
     return dict(value)
+
+
+def _names(value: Any, where: str) -> list[str]:
+    if not all(isinstance(v, str) and v.strip() for v in value):
+        raise _fail(where, 'must list unit names as text, e.g. ["Aldwyr", "Vellmark"].')
+    return [_text(v, where) for v in dict.fromkeys(value)]
 
 
 def _budgets(value: Any, where: str) -> dict[str, float]:
@@ -162,14 +175,18 @@ SCHEMA: dict[str, dict[str, Key]] = {
                                                        "perron-yabu-normal", "hac-fixed-b",
                                                        "hac")))},
     "breaks": {"max_breaks": Key(int, check=_int(1, 10)),
-               "trim": Key(float, check=_number(0.0, 0.5, hint=", e.g. 0.15"))},
-    "analyses": {"rates": Key(bool), "grade": Key(bool),
-                 "elasticity": Key(list, check=_choices(ESTIMATORS)),
+               "trim": Key(float, check=_number(0.0, 0.5, hint=", e.g. 0.15")),
+               "series": Key(list, check=_choices(BREAK_SERIES))},
+    "analyses": {"rates": Key(bool), "grade": Key(bool), "breaks": Key(bool),
+                 "elasticity": Key(list, check=_choices(ESTIMATORS)), "ekc": Key(bool),
                  "roots": Key(list, check=_choices(SERIES_TESTS + PANEL_TESTS)),
                  "dependence": Key(bool),
+                 "cointegration": Key(list, check=_choices(COINTEGRATION_TESTS)),
                  "convergence": Key(list, check=_choices(CONVERGENCE_METHODS)),
                  "decomposition": Key(bool)},
     "output": {"formats": Key(list, check=_choices(TABLE_FORMATS)), "figures": Key(bool),
+               "unit_figures": Key(str, check=_choice(UNIT_FIGURES)),
+               "figure_units": Key(list, check=_names),
                "labels": Key(dict, check=_labels),
                "seed": Key(int, check=_int(0, 2**63 - 1))},
     "run": {"executor": Key(str, check=lambda v, w: check_executor(v, w))},
@@ -206,6 +223,8 @@ class StudySpec:
     analyses: dict[str, Any] = field(default_factory=dict)
     formats: tuple[str, ...] = ("markdown", "latex", "html", "csv")
     figures: bool = True
+    unit_figures: str = "chosen"
+    figure_units: tuple[str, ...] = ()
     labels: dict[str, str] = field(default_factory=dict)
     seed: int = DEFAULT_SEED
     executor: Any = "serial"
@@ -224,6 +243,19 @@ class StudySpec:
     def consumption(self) -> dict[str, str]:
         """``{pressure column: its consumption-basis column}`` where the file names one."""
         return {p.column: p.consumption for p in self.pressures if p.consumption}
+
+    @property
+    def unit_words(self) -> tuple[str, str]:
+        """What a unit is called in sentences, singular and plural (from ``[data] unit`` when
+        it is a plain word, e.g. ``("region", "regions")``; else ``("unit", "units")``)."""
+        word = (self.unit or "").strip().lower()
+        if not re.fullmatch(r"[a-z]{3,30}", word) or word in ("unit", "units", "id", "name"):
+            return ("unit", "units")
+        if word.endswith("y") and word[-2] not in "aeiou":
+            return (word, word[:-1] + "ies")
+        if word.endswith(("s", "x", "ch", "sh")):
+            return (word, word + "es")
+        return (word, word + "s")
 
     def where(self, table: str, key: str | None = None) -> str:
         """``[table] key (line n)`` for messages (the line when the spec came from a file)."""
@@ -337,6 +369,8 @@ def _build(text: str, raw: dict[str, Any], checked: dict[str, Any], base: Path |
         criteria=criteria, breaks=dict(checked.get("breaks", {})),
         analyses=dict(checked.get("analyses", {})), formats=formats,
         figures=bool(output.get("figures", True)), labels=dict(output.get("labels", {})),
+        unit_figures=output.get("unit_figures", "chosen"),
+        figure_units=tuple(output.get("figure_units", ())),
         seed=int(output.get("seed", DEFAULT_SEED)),
         executor=checked.get("run", {}).get("executor", "serial"), raw=raw, text=text)
 
@@ -368,6 +402,10 @@ def check_against_data(spec: StudySpec, columns: tuple[str, ...], units: tuple[s
             check_columns([column], list(columns))
         except DataError as exc:
             raise DataError(f"{spec.where(table, key)}: {exc}") from None
+    for unit in spec.figure_units:
+        if unit not in units:
+            raise SpecError(f"{spec.where('output', 'figure_units')}: '{unit}' is not a unit of "
+                            f"the data.{suggest(unit, units)}")
     for unit in (spec.criteria.get("budgets") or {}):
         if unit not in units:
             raise SpecError(f"{spec.where('criteria', 'budgets')}: '{unit}' is not a unit of the "

@@ -145,7 +145,7 @@ def latex_escape(text: Any) -> str:
     while i < len(chars):
         ch = chars[i]
         accent = _COMBINING.get(chars[i + 1]) if i + 1 < len(chars) else None
-        if accent and (ch.isalpha() and ch.isascii() or ch in _GREEK):
+        if accent and ((ch.isalpha() and ch.isascii()) or ch in _GREEK):
             base = f"\\{_GREEK[ch]}" if ch in _GREEK else ch
             out.append(f"$\\{accent}{{{base}}}$")
             i += 2

@@ -6,7 +6,7 @@ rows, notes), so the Word table has the same formatted cells as the other human 
 
 from __future__ import annotations
 
-from datetime import datetime, timezone
+from datetime import UTC, datetime
 from html.parser import HTMLParser
 from pathlib import Path
 
@@ -14,16 +14,21 @@ from evidence.errors import SpecError
 
 __all__ = ["html_to_docx"]
 
-_FIXED_TIME = datetime(2000, 1, 1, tzinfo=timezone.utc)
+_FIXED_TIME = datetime(2000, 1, 1, tzinfo=UTC)
 
 
 class _TableParser(HTMLParser):
     def __init__(self) -> None:
         super().__init__()
-        self.caption, self.header, self.rows, self.notes = "", [], [], []
-        self._part, self._cell, self._row = "", None, None
+        self.caption = ""
+        self.header: list[str] = []
+        self.rows: list[list[str]] = []
+        self.notes: list[str] = []
+        self._part = ""
+        self._cell: str | None = None
+        self._row: list[str] | None = None
 
-    def handle_starttag(self, tag: str, attrs: list) -> None:  # noqa: ARG002
+    def handle_starttag(self, tag: str, attrs: list) -> None:
         if tag in ("caption", "thead", "tbody", "tfoot"):
             self._part = tag
         elif tag == "tr":
@@ -77,5 +82,5 @@ def html_to_docx(html_text: str, path: str | Path) -> Path:
         for note in parser.notes:
             document.add_paragraph(note)
     path = Path(path)
-    document.save(path)
+    document.save(str(path))
     return path

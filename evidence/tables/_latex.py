@@ -60,7 +60,8 @@ def _cell(value: object, numeric: bool) -> str:
 
 
 def _head(text: str, numeric: bool, width: int) -> str:
-    lines = textwrap.wrap(text, width=max(width, _HEAD_WIDTH)) if len(text) > max(width, _HEAD_WIDTH) else [text]
+    fit = max(width, _HEAD_WIDTH)
+    lines = textwrap.wrap(text, width=fit) if len(text) > fit else [text]
     body = r"\\".join(latex_escape(line) for line in lines)
     align = "c" if numeric else "l"
     if len(lines) > 1:
@@ -80,7 +81,7 @@ def _chunks(table: Table, widths: list[int], *, wrapped: list[bool],
     per_line = 2 * _WRAP_EM
 
     def cost(row: list[object]) -> int:
-        return max([1] + [-(-_plain_width(v) // per_line) for v, w in zip(row, wrapped) if w])
+        return max([1] + [-(-_plain_width(v) // per_line) for v, w in zip(row, wrapped, strict=True) if w])
 
     note_chars = 170 if landscape else 110
     notes = sum(0.8 * (-(-len(n) // note_chars)) for n in table.notes)
@@ -118,7 +119,7 @@ def render_latex(table: Table) -> str:
         packages.append("dcolumn")
     if wraps:
         packages.append("array")
-    estimate = sum(max(w, min(len(h), _HEAD_WIDTH)) + 2 for w, h in zip(widths, table.header))
+    estimate = sum(max(w, min(len(h), _HEAD_WIDTH)) + 2 for w, h in zip(widths, table.header, strict=True))
     fit = table.fit
     if fit == "auto":
         fit = ("landscape" if len(table.header) >= LANDSCAPE_COLUMNS or estimate > 130
@@ -129,10 +130,11 @@ def render_latex(table: Table) -> str:
     if landscape:
         packages.append("pdflscape")
     label = table.label or default_label(table.title)
-    head = " & ".join(_head(h, n, w) for h, n, w in zip(table.header, table.numeric, widths)) + r" \\"
+    head = " & ".join(_head(h, n, w)
+                      for h, n, w in zip(table.header, table.numeric, widths, strict=True)) + r" \\"
     columns = f"@{{}}{' '.join(spec)}@{{}}"
     chunks = _chunks(table, widths, wrapped=[w > _WRAP_TEXT and not n for w, n in
-                                             zip(widths, table.numeric)],
+                                             zip(widths, table.numeric, strict=True)],
                      landscape=landscape) if fit != "none" else [list(range(len(table.rows)))]
     out = [f"% Preamble: \\usepackage{{{','.join(packages)}}}"]
     if landscape:
@@ -155,7 +157,7 @@ def render_latex(table: Table) -> str:
             if i in table.rules and i != chunk[0]:
                 out.append("\\midrule")
             row = table.rows[i]
-            out.append(" & ".join(_cell(v, n) for v, n in zip(row, table.numeric)) + " \\\\")
+            out.append(" & ".join(_cell(v, n) for v, n in zip(row, table.numeric, strict=True)) + " \\\\")
         out += ["\\bottomrule", "\\end{tabular}"]
         if boxed:
             out += ["}%", f"\\ifdim\\wd{_BOX}>\\linewidth\\resizebox{{\\linewidth}}{{!}}"

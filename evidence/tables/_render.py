@@ -23,14 +23,24 @@ from evidence._cautions import CAUTION
 from evidence._json import json_safe
 from evidence._validation import check_choice, check_int
 from evidence.errors import SpecError
-from evidence.tables._cells import (CONTROL_CHARS, NUMERIC_TEXT, Number, html_escape, is_missing,
-                                    latex_escape, markdown_escape, minus, table_pvalue)
+from evidence.tables._cells import (
+    CONTROL_CHARS,
+    NUMERIC_TEXT,
+    Number,
+    html_escape,
+    is_missing,
+    latex_escape,
+    markdown_escape,
+    minus,
+    table_pvalue,
+)
 from evidence.tables._latex import FITS, render_latex
 from evidence.tables._names import check_labels, header_name, relabel
 
 __all__ = ["FORMATS", "render_frame", "latex_escape", "format_cell", "Table", "render",
            "check_label", "finish_notes"]
 
+#: The formats every table renders to (``fmt=``).
 FORMATS = ("text", "markdown", "latex", "html", "csv", "json")
 _PVALUE_HEAD = re.compile(r"(?:^|[\s_(])(?:p|p-?value|pvalue)(?:$|[\s_)])", re.I)
 _LABEL = re.compile(r"[A-Za-z0-9:._/-]+")
@@ -154,7 +164,7 @@ def render_frame(frame: pd.DataFrame, fmt: str = "text", *, title: str = "",
     for j in range(len(columns)):
         rename = (lambda s: relabel(s, labels)) if j < n_stub else (lambda s: labels.get(s, s))
         columns[j] = [rename(c) if isinstance(c, str) and c else c for c in columns[j]]
-    rows = [list(r) for r in zip(*columns)] if columns else []
+    rows = [list(r) for r in zip(*columns, strict=True)] if columns else []
     spec = Table(header=[header_name(str(c), labels) for c in table.columns], rows=rows,
                  numeric=[is_numeric_column(col) for col in columns],
                  title=relabel(title, labels), notes=all_notes, label=label, fit=fit)
@@ -171,19 +181,19 @@ def _aligned(cells: list[str], numeric: bool) -> list[str]:
     """Numeric text cells aligned on the decimal point (text cells right-aligned)."""
     if not numeric:
         return cells
-    parts = []
+    parts: list[tuple[str, str] | None] = []
     for c in cells:
-        if NUMERIC_TEXT.search(c):
-            match = NUMERIC_TEXT.search(c)
+        match = NUMERIC_TEXT.search(c)
+        if match:
             point = c.find(".", match.start()) if "." in c[match.start():match.end()] else match.end()
             parts.append((c[:point], c[point:]))
         else:
             parts.append(None)
     left = max([len(p[0]) for p in parts if p] + [0])
     right = max([len(p[1]) for p in parts if p] + [0])
-    width = max([left + right] + [len(c) for c, p in zip(cells, parts) if p is None])
+    width = max([left + right] + [len(c) for c, p in zip(cells, parts, strict=True) if p is None])
     return [(p[0].rjust(left) + p[1].ljust(right)).rjust(width) if p else c.center(width)
-            for c, p in zip(cells, parts)]
+            for c, p in zip(cells, parts, strict=True)]
 
 
 def _plain(value: Any, numeric: bool) -> str:
@@ -194,16 +204,17 @@ def _plain(value: Any, numeric: bool) -> str:
 def _text(t: Table) -> str:
     body_cols = [_aligned([_plain(r[j], n) for r in t.rows], n) for j, n in enumerate(t.numeric)]
     heads = []
-    for h, col in zip(t.header, body_cols):
+    for h, col in zip(t.header, body_cols, strict=True):
         width = max([len(c) for c in col] + [max((len(w) for w in h.split()), default=0), 16])
         heads.append(textwrap.wrap(h, width=width) or [""])
     depth = max((len(h) for h in heads), default=1)
     heads = [[""] * (depth - len(h)) + h for h in heads]
-    widths = [max([len(c) for c in col] + [len(x) for x in h]) for col, h in zip(body_cols, heads)]
+    widths = [max([len(c) for c in col] + [len(x) for x in h])
+              for col, h in zip(body_cols, heads, strict=True)]
 
     def line(cells: list[str]) -> str:
         return "  ".join(c.rjust(w) if num else c.ljust(w)
-                         for c, w, num in zip(cells, widths, t.numeric)).rstrip()
+                         for c, w, num in zip(cells, widths, t.numeric, strict=True)).rstrip()
 
     rule = "-" * (sum(widths) + 2 * (len(widths) - 1))
     out = [t.title] if t.title else []
@@ -254,7 +265,7 @@ def _html(t: Table) -> str:
     for i, row in enumerate(t.rows):
         if i in t.rules and i > 0:
             out += ["</tbody>", "<tbody>"]
-        out.append("<tr>" + "".join(_html_cell(c, n) for c, n in zip(row, t.numeric)) + "</tr>")
+        out.append("<tr>" + "".join(_html_cell(c, n) for c, n in zip(row, t.numeric, strict=True)) + "</tr>")
     out.append("</tbody>")
     if t.notes:
         out.append("<tfoot>" + "".join(f'<tr><td colspan="{len(t.header)}">{html_escape(n)}</td></tr>'

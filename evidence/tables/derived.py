@@ -15,12 +15,16 @@ from evidence.convergence.beta import BetaResult
 from evidence.elasticity.ekc import EKCResult
 from evidence.tables._cells import Number, table_pvalue
 from evidence.tables._names import display_name, test_name
-from evidence.tables.regression import (check_table_options, estimate_columns, render_frame,
-                                        table_of_columns)
+from evidence.tables.regression import check_table_options, estimate_columns, render_frame, table_of_columns
 
 __all__ = ["beta_table", "ekc_table"]
 
 _FORMS = {"cross_section": "Cross-section", "panel": "Panel, unit effects"}
+
+
+def _plain_pvalue(p: float) -> str:
+    cell = table_pvalue(p)
+    return cell.plain() if math.isfinite(p) and isinstance(cell, Number) else "n/a"
 
 
 def _pair(value: float, se: float, digits: int) -> tuple[Any, Any]:
@@ -62,7 +66,7 @@ def beta_table(result: BetaResult, fmt: str = "text", *, title: str = "",
               ("p-value", [table_pvalue(test.pvalue)])]
     more = [] if meaningful else [
         f"Speed of convergence and half-life not shown: the slope is not significantly negative "
-        f"(one-sided p = {table_pvalue(test.pvalue).plain() if math.isfinite(test.pvalue) else 'n/a'})."]
+        f"(one-sided p = {_plain_pvalue(test.pvalue)})."]
     more.append("Speed β from the slope b over τ years: β = −ln(1 + bτ)/τ; half-life ln 2/β; "
                 "delta-method standard errors in parentheses.")
     if len(result.excluded):

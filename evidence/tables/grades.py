@@ -54,7 +54,9 @@ def _interval(low: Any, high: Any) -> str:
 def _gap(g: Any, low: Any, high: Any) -> str:
     if g is None or (isinstance(g, float) and math.isnan(g)):
         return ""
-    return f"{100 * g:.2f} [{100 * low:.2f}, {100 * high:.2f}]"
+    cells = [_pct(v) for v in (g, low, high)]
+    texts = [c.plain() if isinstance(c, Number) else "n/a" for c in cells]
+    return f"{texts[0]} [{texts[1]}, {texts[2]}]"
 
 
 def _break_label(rec: Mapping[str, Any]) -> str:
@@ -131,14 +133,15 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         "run on trends": [Number(float(v), 0) for v in t["smoothed_run"]],
         "duration": list(t["duration"]),
         "p latest": [table_pvalue(p) for p in t["p_latest_regime"]],
-        "latest break": [_break_label(records[(u, pr)]) for u, pr in zip(t["unit"], t["pressure"])],
+        "latest break": [_break_label(records[(u, pr)])
+                         for u, pr in zip(t["unit"], t["pressure"], strict=True)],
         "sub-windows": ["" if s != s else f"{100 * s:.0f}%" for s in t["subwindow_share"]],
         "consumption basis": list(t["consumption_direction"].fillna("n/a")),
         "gap %/yr": [_gap(g, lo, hi) for g, lo, hi in zip(t["gap_trend"], t["gap_lower"],
-                                                           t["gap_upper"])],
+                                                           t["gap_upper"], strict=True)],
         "change %/yr": [_pct(v) for v in t["observed_change"]],
         "interval": [_interval(a, b) for a, b in zip(t["observed_change_lower"],
-                                                     t["observed_change_upper"])],
+                                                     t["observed_change_upper"], strict=True)],
         "required %/yr": [_pct(v) for v in t["required_change"]],
         "sufficiency": list(t["sufficiency"]),
     }
@@ -147,13 +150,13 @@ def grade_table(result: GradeResult, fmt: str = "text", *, notes: Sequence[str] 
         if name not in shown:
             continue
         values = [v.plain() if isinstance(v, Number) else str(v) for v in shown[name]]
-        if len(values) > 1 and len(set(values)) == 1 or (values and all(v == "" for v in values)):
+        if (len(values) > 1 and len(set(values)) == 1) or (values and all(v == "" for v in values)):
             del shown[name]
             if values[0] and name not in ("pressure", "span"):
                 fixed.append(f"{name} {values[0]}")
     caption = title or _caption(shown, t, labels)
     moved = [f"Same on every row: {'; '.join(fixed)}."] if fixed else []
-    table = Table(header=list(shown), rows=[list(r) for r in zip(*shown.values())],
+    table = Table(header=list(shown), rows=[list(r) for r in zip(*shown.values(), strict=True)],
                   numeric=[is_numeric_column(v) for v in shown.values()],
                   title=relabel(caption, labels),
                   notes=finish_notes([*moved, *base_notes], caution, labels), label=label, fit=fit)

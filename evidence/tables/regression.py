@@ -84,10 +84,10 @@ def _unique_heads(estimates: Sequence[Estimate], labels: Mapping[str, str]) -> l
     if len(set(heads)) < len(heads):
         deps = [display_name(est.dependent, labels) for est in estimates]
         if len(set(deps)) > 1:
-            heads = [f"{h}: {d}" for h, d in zip(heads, deps)]
+            heads = [f"{h}: {d}" for h, d in zip(heads, deps, strict=True)]
     if len(set(heads)) < len(heads):
         covs = [est.cov_type.split(",")[0] for est in estimates]
-        heads = [f"{h}, {c}" for h, c in zip(heads, covs)]
+        heads = [f"{h}, {c}" for h, c in zip(heads, covs, strict=True)]
     if len(set(heads)) < len(heads):
         heads = [f"{h} {chr(ord('A') + i)}" for i, h in enumerate(heads)]
     return heads
@@ -119,7 +119,8 @@ def estimate_columns(estimates: Sequence[Estimate], *, stat: str = "se", digits:
         terms += [t for t in est.params.index if t not in terms]
     out = EstimateColumns(heads)
     for term in terms:
-        top, below = [], []
+        top: list[Number | str] = []
+        below: list[Number | str] = []
         for est in estimates:
             if term not in est.params.index:
                 top.append("")
@@ -171,7 +172,7 @@ def _errors_notes(estimates: Sequence[Estimate], heads: list[str], stat: str,
     if len(set(covs)) == 1:
         return [f"{word}: {covs[0]}."]
     groups: dict[str, list[str]] = {}
-    for head, cov in zip(heads, covs):
+    for head, cov in zip(heads, covs, strict=True):
         groups.setdefault(cov, []).append(head)
     return [f"{word}, {' and '.join(who)}: {cov}." for cov, who in groups.items()]
 
@@ -179,7 +180,7 @@ def _errors_notes(estimates: Sequence[Estimate], heads: list[str], stat: str,
 def _exclusions(estimates: Sequence[Estimate], heads: list[str]) -> list[str]:
     """Notes listing what each estimate left out (rows, units), so no table hides an exclusion."""
     out = []
-    for head, est in zip(heads, estimates):
+    for head, est in zip(heads, estimates, strict=True):
         for key in ("excluded", "skipped_units"):
             frame = est.details.get(key)
             if isinstance(frame, pd.DataFrame) and not frame.empty:
@@ -191,7 +192,7 @@ def _exclusions(estimates: Sequence[Estimate], heads: list[str]) -> list[str]:
 
 def _tidy(estimates: Sequence[Estimate], heads: list[str]) -> pd.DataFrame:
     frames = []
-    for head, est in zip(heads, estimates):
+    for head, est in zip(heads, estimates, strict=True):
         frame = est.to_frame().rename_axis("term").reset_index()
         frame.insert(0, "model", head)
         frame.insert(1, "estimator", est.estimator)
@@ -229,8 +230,8 @@ def regression_table(estimates: Sequence[Estimate] | Estimate, fmt: str = "text"
                      caution: bool = True, fit: str = "auto") -> str:
     """Estimates side by side, each column headed by its estimator.
 
-    Each coefficient carries a superscript mark of its two-sided p-value (*** < 0.01, ** < 0.05,
-    * < 0.10) and, beneath it, its standard error (``stat="se"``), t statistic (``"t"``) or
+    Each coefficient carries a superscript mark of its two-sided p-value (``***`` < 0.01, ``**`` < 0.05,
+    ``*`` < 0.10) and, beneath it, its standard error (``stat="se"``), t statistic (``"t"``) or
     p-value (``"p"``) in parentheses. Below a rule: unit and year effects, observations, units,
     years per unit and R² where the estimates have them. The notes name the dependent variable and
     the errors of each column, then ``notes``, what each estimate left out and (``caution=True``)

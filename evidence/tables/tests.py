@@ -46,12 +46,12 @@ def hypothesis_notes(results: Sequence[TestResult], names: Sequence[str]) -> lis
         notes.append(f"H0 of {'every test' if len(results) > 1 else 'the test'}: {nulls[0]}.")
     else:
         seen: dict[str, list[str]] = {}
-        for name, null in zip(names, nulls):
+        for name, null in zip(names, nulls, strict=True):
             if null:
                 seen.setdefault(null, []).append(name)
         notes += [f"H0 of {', '.join(dict.fromkeys(who))}: {null}." for null, who in seen.items()]
     warned: dict[str, list[str]] = {}
-    for name, res in zip(names, results):
+    for name, res in zip(names, results, strict=True):
         if not res.applicable:
             notes.append(f"{name}: not computed ({res.details['inapplicable']}).")
             continue
@@ -93,7 +93,7 @@ def test_table(results: Sequence[TestResult | TestGroupResult] | TestResult, fmt
     columns = {k: [("" if isinstance(c, Number) and not c.plain() else c) for c in v]
                for k, v in columns.items()}
     columns = {k: v for k, v in columns.items() if k == "Test" or any(c != "" for c in v)}
-    table = Table(header=list(columns), rows=[list(r) for r in zip(*columns.values())],
+    table = Table(header=list(columns), rows=[list(r) for r in zip(*columns.values(), strict=True)],
                   numeric=[False] + [True] * (len(columns) - 1), title=relabel(title, labels),
                   notes=finish_notes([*explained, *notes], caution, labels), label=label, fit=fit)
     return render(table, fmt)

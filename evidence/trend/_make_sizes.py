@@ -32,7 +32,7 @@ def _noise(rng: np.random.Generator, n: int, rho: float) -> np.ndarray:
 
 def entries() -> list[dict]:
     out = []
-    for t_index, n in enumerate(YEARS):
+    for n in YEARS:
         for test in TREND_TESTS:
             rng = np.random.default_rng([SEED, n, TREND_TESTS.index(test)])
             cells = [(name, "null", _noise(rng, n, rho)) for name, rho in PROCESSES.items()]

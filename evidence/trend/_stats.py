@@ -20,8 +20,8 @@ import numpy as np
 
 from evidence._hac import long_run_cov
 
-__all__ = ["Design", "design", "with_columns", "perron_yabu_parts", "park_j", "j_degree", "daniell_lrv", "robust_t", "hac_t",
-           "perron_yabu_t", "DAN_BANDWIDTH"]
+__all__ = ["Design", "design", "with_columns", "perron_yabu_parts", "park_j", "j_degree", "daniell_lrv",
+           "robust_t", "hac_t", "perron_yabu_t", "DAN_BANDWIDTH"]
 
 #: Daniell bandwidth as a fraction of T (fixed-b). Chosen by our own power comparison at T = 30
 #: among 0.1, 0.2, 0.3, 0.5 and 1.0 (sizes equally balanced; 0.3 had the best power against a

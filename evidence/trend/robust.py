@@ -61,7 +61,7 @@ import numpy as np
 from scipy import stats
 
 from evidence._arrays import clean_series
-from evidence._hac import long_run_cov, newey_west_lags
+from evidence._hac import newey_west_lags
 from evidence._validation import check_alpha, check_choice, check_int
 from evidence.errors import SpecError
 from evidence.results import TestResult
@@ -70,10 +70,13 @@ from evidence.trend import _stats
 __all__ = ["TREND_TESTS", "DEFAULT_TREND_TEST", "ALTERNATIVES", "trend_test", "trend_batch",
            "test_label", "MIN_YEARS"]
 
+#: The trend tests ``trend_test`` and ``grade`` offer (``test=``); the default is ``DEFAULT_TREND_TEST``.
 TREND_TESTS = ("perron-yabu", "dan-j", "ps-j", "perron-yabu-normal", "hac-fixed-b", "hac")
+#: The default trend test (``test=``); its measured size is on the size card (docs/methods/size.md).
 DEFAULT_TREND_TEST = "perron-yabu"
 #: Tests whose critical values are simulated per T (and segment), and their calibration kind.
 CALIBRATED = {"perron-yabu": "py", "dan-j": "dan", "ps-j": "ps"}
+#: The alternatives of a trend test (``alternative=``).
 ALTERNATIVES = ("decrease", "increase", "two-sided")
 #: Fewest years a trend test is computed on (the J-scaled tests are tabulated from 8).
 MIN_YEARS = 8
@@ -107,9 +110,9 @@ def test_label(test: str, *, short: bool = False) -> str:
 # ----------------------------------------------------------------------------- critical values
 def _table(kind: str, nobs: int, segment: int | None) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """``(alphas, b_J, c)`` for a J-scaled test at length ``nobs``."""
-    from evidence.trend import _calibrate
-
     import importlib
+
+    from evidence.trend import _calibrate
 
     alphas = np.asarray(_calibrate.ALPHAS)
     try:
@@ -189,8 +192,8 @@ def _fixed_b_null(b: float, reps: int = 20000, nsim: int = 200) -> np.ndarray:
     hit = load_cached("trend_fixed_b", params)
     if hit is not None:
         return hit["t"]
-    rng = np.random.default_rng([20261202, int(round(b * 1e6))])
-    lags = max(int(round(b * nsim)) - 1, 0)
+    rng = np.random.default_rng([20261202, round(b * 1e6)])
+    lags = max(round(b * nsim) - 1, 0)
     out = []
     for _ in range(reps // 2000):
         out.append(_stats.hac_t(rng.standard_normal((nsim, 2000)), lags)[0])

@@ -21,7 +21,8 @@ from evidence.cointegration._sieve import fit_sieve, sieve_draws
 from evidence.cointegration.causality import unit_wald
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from _timing import best_of  # noqa: E402
+from _timing import best_of
+
 
 def main(n_units: int = 500, n_years: int = 40) -> None:
     rng = np.random.default_rng(0)

@@ -10,7 +10,6 @@ from __future__ import annotations
 import sys
 from pathlib import Path
 
-
 import numpy as np
 import pandas as pd
 import statsmodels.api as sm
@@ -22,8 +21,7 @@ from evidence.roots._panel_math import adf_tstats
 from evidence.roots.dependence import pesaran_cd_test
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from _timing import best_of  # noqa: E402
-
+from _timing import best_of
 
 
 def _report(name: str, ref_name: str, t_ref: float, t_ours: float) -> None:

@@ -16,8 +16,7 @@ from evidence._hac import newey_west_lags
 from evidence.indicators import trend_growth_batch
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
-from _timing import best_of  # noqa: E402
-
+from _timing import best_of
 
 
 def main(n_series: int = 2000, n_years: int = 34) -> None:

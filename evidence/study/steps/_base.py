@@ -8,6 +8,7 @@ place and a step stays a small pure function ``(panel, spec) -> StepOutput``.
 from __future__ import annotations
 
 import hashlib
+import math
 import re
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
@@ -16,48 +17,66 @@ from typing import Any
 from evidence.panel import Panel
 from evidence.study.spec import StudySpec
 
-__all__ = ["Step", "StepOutput", "TableOut", "FigureOut", "data_notes", "safe_name"]
+__all__ = ["Step", "StepOutput", "TableOut", "FigureOut", "data_notes", "safe_name", "p_words",
+           "size_notes"]
 
 
 @dataclass(frozen=True)
 class TableOut:
-    """A table written as ``tables/<name>.<ext>`` in every format; ``render(fmt)`` gives its text.
+    """A table written as ``tables/<name>.<ext>`` in every format.
 
+    ``render(fmt, caution)`` gives its text: the runner asks for the caution note in every file
+    (once per file) and leaves it out of the report, which carries it once at the top.
     ``source`` is the data-derived name (a column) behind the file name, kept in the manifest.
+    ``shown``: ``"open"`` (in the report), ``"folded"`` (in the report, folded away under its
+    caption) or ``"file"`` (only linked from the report); ``summary`` is the line that stands
+    for a folded or linked table.
     """
 
     name: str
-    render: Callable[[str], str]
+    # Called as render(fmt, caution); typed loosely because the steps bind their data as lambda
+    # defaults, which mypy cannot infer against a fixed signature.
+    render: Callable[..., str]
     source: str | None = None
+    shown: str = "open"
+    summary: str = ""
 
 
 @dataclass(frozen=True)
 class FigureOut:
     """A figure written as ``figures/<name>.png`` and ``.svg``; ``draw()`` makes it.
 
-    ``in_report`` puts the PNG into the report section. When drawing fails on the data, the
+    ``in_report`` puts the PNG into the report section (``top``: into the answer the report opens
+    with, beside the verdict); ``caption`` is its caption. When drawing fails on the data, the
     reason is recorded in ``results.json`` under ``figures_not_drawn[label]``. ``source`` is the
     data-derived name (a unit) behind the file name, kept in the manifest.
     """
 
     name: str
-    draw: Callable[[], Any]
+    draw: Callable[..., Any]  # called as draw(); loose for the same reason as TableOut.render
     label: str = ""
     in_report: bool = False
     source: str | None = None
+    caption: str = ""
+    top: bool = False
 
 
 @dataclass(frozen=True)
 class StepOutput:
     """One report section (title, tables, figures, note) and its entries of ``results.json``.
 
-    ``value`` is a result object the runner hands back to the caller (the grade).
+    ``lead`` are the section's opening paragraphs (plain text: what was tested, on which series,
+    what it found, the decision rule); ``note`` a closing remark; ``more_figures`` says which
+    figures are in ``figures/`` but not in the report. ``value`` is a result object the
+    runner hands back to the caller (the grade).
     """
 
     title: str
     tables: tuple[TableOut, ...] = ()
     figures: tuple[FigureOut, ...] = ()
     note: str = ""
+    lead: tuple[str, ...] = ()
+    more_figures: str = ""
     results: Mapping[str, Any] = field(default_factory=dict)
     value: Any = None
 
@@ -96,3 +115,50 @@ def safe_name(text: str) -> str:
         return text
     stem = re.sub(r"[^a-z0-9]+", "-", text.lower()).strip("-")[:40].strip("-") or "n"
     return f"{stem}-{hashlib.sha256(text.encode('utf-8', 'surrogatepass')).hexdigest()[:8]}"
+
+
+def p_words(p: float) -> str:
+    """A p-value in running text: ``"p = 0.028"``, ``"p < 0.001"``, ``"p n/a"`` when missing.
+
+    >>> p_words(0.0284), p_words(1e-9)
+    ('p = 0.028', 'p < 0.001')
+    """
+    if p is None or not math.isfinite(float(p)):
+        return "p n/a"
+    return "p < 0.001" if p < 0.001 else f"p = {p:.3f}"
+
+
+def _pct(value: float) -> str:
+    return f"{100 * value:.1f} %"
+
+
+def size_notes(results: Any) -> list[str]:
+    """Which p-values are calibrated: one note per test table from each result's
+    ``details["size"]`` (the size card's entry nearest the result's N and T).
+
+    Tests without an entry are named together: their p-values were not checked by simulation at
+    panels of this size.
+    """
+    from evidence.tables.tests import flatten_tests
+
+    tests = flatten_tests(results)
+    known, unknown = [], []
+    for res in tests:
+        size = res.details.get("size") if isinstance(res.details, Mapping) else None
+        if not res.applicable:
+            continue
+        if isinstance(size, Mapping) and "measured" in size:
+            where = ", ".join(f"{k}={v}" for k, v in (("N", size.get("n_units")),
+                                                      ("T", size.get("n_years"))) if v)
+            state = ("within" if size.get("controlled") else "OUTSIDE")
+            known.append(f"{res.test} {_pct(size['measured'])} at {where} ({state} 3 %–7.5 %)")
+        else:
+            unknown.append(res.test)
+    notes = []
+    if known:
+        notes.append("Size at 5 % nominal, measured by Monte Carlo at the size card's point "
+                     "nearest this N and T (docs/methods/size.md): " + "; ".join(known) + ".")
+    if unknown:
+        notes.append("Not on the size card (p-values not checked by simulation at this N and T): "
+                      + ", ".join(dict.fromkeys(unknown)) + ".")
+    return notes

@@ -1,21 +1,29 @@
-"""Study step ``grade``: the four axes and the rung per unit and pressure, with unit figures."""
+"""Study step ``grade``: the four axes and the grade per unit and pressure, with its figures.
+
+The grade figure (every unit's observed change with its interval, coloured by grade) opens the
+report beside the verdict. Unit figures (indexed series, sub-window maps) are drawn for the units
+:func:`evidence.study.choice.choose_units` picks — or for every unit with
+``[output] unit_figures = "all"`` — and a small-multiples figure shows every unit at a glance.
+"""
 
 from __future__ import annotations
 
-from typing import Any
+from dataclasses import replace
 
-from evidence.breaks import find_breaks
-from evidence.grading import Criteria, GradeResult, grade
-from evidence.panel import Panel, derived_name
+import pandas as pd
+
+from evidence.grading import RUNGS, Criteria, GradeResult, grade
+from evidence.panel import Panel
 from evidence.study import figures as figs
+from evidence.study.choice import Pick, choose_units
 from evidence.study.spec import StudySpec
 from evidence.study.steps._base import FigureOut, StepOutput, TableOut, data_notes, safe_name
 from evidence.tables import grade_table
 
-__all__ = ["run", "criteria"]
+__all__ = ["run", "criteria", "for_people", "SMALL_MULTIPLES", "BREAK_SERIES_NOTE"]
 
-#: Unit figures shown in the report (the rest are in figures/).
-SHOWN = 6
+#: Units drawn in the small-multiples figure (the chosen units first, then in panel order).
+SMALL_MULTIPLES = 48
 
 
 def criteria(spec: StudySpec) -> Criteria:
@@ -25,56 +33,128 @@ def criteria(spec: StudySpec) -> Criteria:
                        **{k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}})
 
 
+#: Which series the grade's break years were searched on (and which the Breaks section).
+BREAK_SERIES_NOTE = ("Latest break: Bai–Perron trend breaks searched on the log of the pressure (ln "
+            "pressure, not the intensity), reported only; the Structural breaks section screens "
+            "the log intensity, so its years can differ.")
+
+
+def for_people(res: GradeResult) -> tuple[GradeResult, list[str]]:
+    """The grade ordered for a reader (strongest grade first, then the largest decline) with a
+    flag that every row carries moved to a note; CSV and JSON keep the result's own order."""
+    table = res.table.copy()
+    strength = {rung: i for i, rung in enumerate(reversed(RUNGS))}
+    table["_order"] = table["rung"].map(strength)
+    table = table.sort_values(["pressure", "_order", "observed_change", "unit"],
+                              kind="stable").drop(columns="_order")
+    table["pressure"] = pd.Categorical(table["pressure"], list(dict.fromkeys(res.table["pressure"])))
+    table = table.sort_values("pressure", kind="stable")
+    table["pressure"] = table["pressure"].astype(str)
+    lists = [[f.strip() for f in str(c or "").split(",") if f.strip()] for c in table["flags"]]
+    common = [f for f in (lists[0] if lists else []) if all(f in row for row in lists)]
+    notes = []
+    if common and len(table) > 1:
+        table["flags"] = [", ".join(f for f in row if f not in common) for row in lists]
+        notes.append(f"Every row is flagged {', '.join(common)}"
+                     + (f" (graded on fewer than {res.criteria.short_window} years)"
+                        if "short-window" in common else "") + "; the flag is left out of the "
+                     "flags column.")
+    return replace(res, table=table.reset_index(drop=True)), notes
+
+
 def run(panel: Panel, spec: StudySpec) -> StepOutput:
-    """Grade every unit on every pressure; figures per unit when the spec asks for them."""
+    """Grade every unit on every pressure; figures when the spec asks for them."""
     pressures = spec.pressure_columns
     res = grade(panel, list(pressures), spec.activity, window=spec.window,
                 criteria=criteria(spec), consumption=spec.consumption)
-    notes = data_notes(spec)
-    figures = _unit_figures(panel, spec, res) if spec.figures else ()
-    return StepOutput(
-        "Grade", (TableOut("grade", lambda f: grade_table(res, f, notes=notes,
-                                                                  labels=spec.labels)),), figures,
-        note="Each axis is reported separately; the grade summarises them and never replaces "
-             "them. Figures for every unit are in figures/.",
-        results={"grade": res.to_dict()}, value=res)
+    notes = [*data_notes(spec), BREAK_SERIES_NOTE]
+    figures: tuple[FigureOut, ...] = ()
+    more = ""
+    if spec.figures:
+        figures, more = _figures(panel, spec, res)
+    one, _many = spec.unit_words
+    lead = (f"Each {one} is graded on four axes, reported separately: direction (is the decline "
+            "significant?), duration (how long?), robustness (in how many sub-windows, and on "
+            "the consumption basis?) and sufficiency (fast enough for the stated target?). The "
+            "grade summarises them; the notes under the table define every grade and flag.",)
+    shown, common = for_people(res)
+    people_notes = [*common, *notes]
+    tables = (TableOut("grade", lambda f, c=True: grade_table(
+        res if f in ("csv", "json") else shown, f, notes=notes if f in ("csv", "json")
+        else people_notes, labels=spec.labels, caution=c)),)
+    return StepOutput("Grade", tables, figures, lead=lead, more_figures=more,
+                      results={"grade": res.to_dict()}, value=res)
 
 
-def _unit_figures(panel: Panel, spec: StudySpec, res: GradeResult) -> tuple[FigureOut, ...]:
+def _figures(panel: Panel, spec: StudySpec, res: GradeResult) -> tuple[tuple[FigureOut, ...], str]:
     pressures = spec.pressure_columns
-    records = res.records
-    window = tuple(res.details["windows"][pressures[0]])
-    shown = [*pressures, *spec.consumption.values()]
+    table = res.table
+    one, many = spec.unit_words
+    required = res.criteria.required_rate
     out: list[FigureOut] = []
-    for number, unit in enumerate(panel.units):
+    for number, pressure in enumerate(pressures):
+        rows = table[table["pressure"] == pressure]
+        if rows.empty:
+            continue
+        out.append(FigureOut(
+            f"grade_{safe_name(pressure)}", lambda p=pressure: figs.grade_figure(
+                table, p, required=None if required is None else -required, unit_word=one),
+            top=number == 0, in_report=True,
+            caption=(f"Grade across {many}: the observed annual change of {pressure} with its "
+                     f"interval ({res.details['tests']['interval']}), {many} sorted by it, "
+                     "coloured by grade; † marks a basis gap"
+                     + (f"; dashed: the required change of −{100 * required:.1f} % a year"
+                        if required is not None else "") + ".")))
+    picks = choose_units(table, named=spec.figure_units)
+    chosen = [p.unit for p in picks]
+    first = pressures[0]
+    rungs = {str(r.unit): str(r.rung) for r in table[table["pressure"] == first].itertuples()}
+    window = tuple(res.details["windows"][first])
+    units = list(dict.fromkeys([*chosen, *panel.units]))[:SMALL_MULTIPLES]
+    shown_note = "" if len(panel.units) <= SMALL_MULTIPLES else (
+        f" (the first {SMALL_MULTIPLES} of {len(panel.units)}: the chosen {many} first)")
+    out.append(FigureOut("all_units", lambda: figs.small_multiples(
+        panel, units, spec.activity, first, window, rungs=rungs), in_report=True,
+        caption=f"Every {one}{shown_note}: {spec.activity} and {first} indexed to the first "
+                f"year of the window = 100; each title is coloured by the {one}'s grade."))
+    drawn = picks if spec.unit_figures == "chosen" else [
+        *picks, *(Pick(u, "") for u in panel.units if u not in chosen)]
+    records = res.records
+    consumption = list(spec.consumption.values())
+    for pick in drawn:
+        unit = pick.unit
+        rec = records.get((unit, first))
+        if rec is None:
+            continue
+        why = f" — shown as {pick.reason}" if pick.reason else ""
         breaks = {p: records[(unit, p)].get("break_years") or []
                   for p in pressures if (unit, p) in records}
         out.append(FigureOut(
             f"indexed_{safe_name(unit)}", lambda u=unit, b=breaks: figs.indexed_figure(
-                panel, u, spec.activity, shown, window, b), in_report=number < SHOWN, source=unit))
-        out.append(FigureOut(f"intensity_{safe_name(unit)}",
-                             lambda u=unit: _intensity_figure(panel, u, pressures[0], spec, window),
-                             label=f"intensity {unit}", source=unit))
-        rec = records.get((unit, pressures[0]))
-        if rec is not None:
-            out.append(FigureOut(f"subwindows_{safe_name(unit)}", lambda u=unit, r=rec: figs.heatmap_figure(
+                panel, u, spec.activity, [*pressures, *consumption], window, b),
+            in_report=bool(pick.reason), source=unit,
+            caption=(f"{unit}, graded {rec['rung']}{why}: {spec.activity} and the pressures "
+                     f"indexed to the first year = 100; dotted lines follow the break years "
+                     f"found in ln {first} (log pressure).")))
+        share = rec.get("subwindow_share")
+        share_text = "" if share is None or share != share else f" ({100 * share:.0f} % of them)"
+        out.append(FigureOut(
+            f"subwindows_{safe_name(unit)}", lambda u=unit, r=rec: figs.heatmap_figure(
                 r["subwindow_matrix"], _span_years(r["span"]),
-                f"{u}: sub-windows where the {r['claim_tested']} claim holds"), source=unit))
-    return tuple(out)
+                f"{u}: sub-windows where the {r['claim_tested']} claim holds"),
+            in_report=bool(pick.reason), source=unit,
+            caption=(f"{unit}: every sub-window (first year × last year, at least "
+                     f"{res.criteria.min_window} years) in which the {rec['claim_tested']} claim "
+                     f"holds (green) or not (orange){share_text}.")))
+    more = ""
+    if spec.unit_figures == "chosen" and len(picks) < len(panel.units):
+        more = (f"Unit figures are drawn for the {len(picks)} {many} chosen above (decoupled, "
+                f"basis gaps, flags); set [output] unit_figures = \"all\" for every {one}, or "
+                f"name {many} in [output] figure_units.")
+    return tuple(out), more
 
 
 def _span_years(span: str) -> list[int]:
     start, end = (int(v) for v in span.split("-"))
     return list(range(start, end + 1))
 
-
-def _intensity_figure(panel: Panel, unit: str, pressure: str, spec: StudySpec,
-                      window: tuple[int, int]) -> Any:
-    """Log intensity of one unit with its fitted trend regimes and break-date intervals."""
-    intensity = derived_name("per", pressure, spec.activity)
-    logged = derived_name("log", intensity)
-    work = (panel.with_intensity(pressure, spec.activity, name=intensity)
-            .with_log(intensity, name=logged))
-    series = work.series(unit, logged).loc[window[0]:window[1]].dropna()
-    options = {k: v for k, v in spec.breaks.items() if k in ("max_breaks", "trim")}
-    return find_breaks(series, model="trend", **options).plot()
