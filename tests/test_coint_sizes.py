@@ -42,9 +42,15 @@ def test_defaults_hold_their_size_on_the_card():
     mine = card[card["family"].isin(list(FAMILIES)) & (card["options"] == "inference=bootstrap")]
     null = mine[mine["hypothesis"] == "null"]
     low, high = CONTROLLED
-    outside = null[(null["rejection"] < low) | (null["rejection"] > high)]
+    # A cell fails when its whole Monte Carlo interval (±2 s.e., about ±2.2 points at 400 panels)
+    # lies outside the band: with 160 cells a true 5 % lands outside [3, 7.5] at face value in
+    # about 7 of them by chance. The cells outside at face value are listed in size.md.
+    outside = null[(null["rejection"] + 2 * null["mc_se"] < low)
+                   | (null["rejection"] - 2 * null["mc_se"] > high)]
     assert len(null) >= 100
     assert outside.empty, outside[["test", "dgp", "n_years", "rejection"]].to_string()
+    # and the defaults are centred on 5 %: the mean over all cells within half a point
+    assert abs(null["rejection"].mean() - 0.05) < 0.005
 
 
 def test_every_test_has_power_beside_its_size():
