@@ -15,6 +15,9 @@ units; ``e`` iid standard normal unless ``errors`` says otherwise):
 ``common_factor``     random walks ``y = λ_i f_t + u``, ``f`` a random walk, ``u`` a random walk (``share``)
 ``cointegrated``      ``x`` a random walk with ``drift``, ``y = β x + u``, ``u`` AR(1) with ``rho``
 ``trend_ar``          ``y = a_i + g t + u``, ``u`` AR(1) (``rho``; ``rho=1`` a random walk), slope ``g``
+``unit_root``         ``y`` random walks whose increments are ``drift`` plus a stationary AR(1) (``rho``) of
+                      ``e_it + factor λ_i f_t`` (a common shock ``f``, loadings U(0.5, 1.5)); ``x`` the same,
+                      independent of ``y``
 ``walks``             ``y`` and ``x`` unrelated I(1): ``Δy``, ``Δx`` AR(1) with ``rho``, ``drift`` added to
                       ``Δx`` (in shock s.d.), a common shock with loadings in [0.5, 1.5] taking the
                       share ``factor`` of the variance of ``y``'s and (another one) of ``x``'s shocks
@@ -34,7 +37,7 @@ import numpy as np
 from evidence.panel import Panel
 from evidence.parallel import task_seeds
 
-__all__ = ["DGPS", "simulate", "rejection_rate", "ar1"]
+__all__ = ["DGPS", "simulate", "rejection_rate", "rejection_rates", "ar1"]
 
 
 def ar1(shocks: np.ndarray, rho: float) -> np.ndarray:
@@ -85,6 +88,15 @@ def _trend_ar(rng: np.random.Generator, n: int, t: int, *, rho: float = 0.5,
             "x": 0.02 * time + 0.02 * rng.standard_normal((t, n)).cumsum(axis=0)}
 
 
+def _unit_root(rng: np.random.Generator, n: int, t: int, *, rho: float = 0.0, drift: float = 0.0,
+               factor: float = 0.0) -> dict[str, np.ndarray]:
+    out = {}
+    for name in ("y", "x"):
+        e = rng.standard_normal((t, n))
+        if factor:
+            e = e + factor * rng.standard_normal((t, 1)) * rng.uniform(0.5, 1.5, n)
+        out[name] = (drift + ar1(e, rho)).cumsum(axis=0)
+    return out
 def _shocks(rng: np.random.Generator, t: int, n: int, factor: float) -> np.ndarray:
     """Standard normal shocks ``(t, n)`` with a common component taking the share ``factor``."""
     own = rng.standard_normal((t, n))
@@ -125,8 +137,8 @@ def _slopes(rng: np.random.Generator, n: int, t: int, *, rho: float = 0.5, rho_x
 #: The named processes (see the module docstring).
 DGPS: dict[str, Callable[..., dict[str, np.ndarray]]] = {
     "random_walks": _random_walks, "ar": _ar, "common_factor": _common_factor,
-    "cointegrated": _cointegrated, "trend_ar": _trend_ar, "walks": _walks, "granger": _granger,
-    "slopes": _slopes,
+    "cointegrated": _cointegrated, "trend_ar": _trend_ar, "unit_root": _unit_root,
+    "walks": _walks, "granger": _granger, "slopes": _slopes,
 }
 
 
@@ -161,3 +173,37 @@ def rejection_rate(pvalue_of: Callable[[Panel], float], dgp: str, n_units: int, 
     rate = float(np.mean(np.where(failed, False, pvalues < alpha)))
     return {"rejection": rate, "mc_se": float(np.sqrt(max(rate * (1 - rate), 1e-12) / reps)),
             "failed": float(failed.mean()), "reps": float(reps)}
+
+
+def _many(task: tuple[Callable[[Panel], dict[str, float]], str, int, int, dict[str, Any], Any]
+          ) -> dict[str, float]:
+    pvalues_of, dgp, n_units, n_years, params, seed = task
+    rng = np.random.default_rng(seed)
+    return {k: float(v) for k, v in pvalues_of(simulate(dgp, n_units, n_years, rng=rng, **params)).items()}
+
+
+def rejection_rates(pvalues_of: Callable[[Panel], dict[str, float]], dgp: str, n_units: int,
+                    n_years: int, *, reps: int, seed: int, alpha: float = 0.05,
+                    params: dict[str, Any] | None = None,
+                    executor: Any = None) -> dict[str, dict[str, float]]:
+    """:func:`rejection_rate` for several tests on the same draws.
+
+    ``pvalues_of`` maps a panel to ``{name: p-value}`` (a name may have several p-values per
+    panel when it returns ``name#k`` keys: all count as draws of ``name``). Returns
+    ``{name: {"rejection", "mc_se", "failed", "reps"}}``, ``reps`` the number of draws.
+    """
+    tasks = [(pvalues_of, dgp, n_units, n_years, dict(params or {}), s)
+             for s in task_seeds(seed, reps)]
+    rows = [_many(t) for t in tasks] if executor is None else executor.map(_many, tasks)
+    draws: dict[str, list[float]] = {}
+    for row in rows:
+        for key, value in row.items():
+            draws.setdefault(key.split("#")[0], []).append(value)
+    out = {}
+    for name, values in draws.items():
+        p = np.asarray(values, dtype=float)
+        failed = ~np.isfinite(p)
+        rate = float(np.mean(np.where(failed, False, p < alpha)))
+        out[name] = {"rejection": rate, "mc_se": float(np.sqrt(max(rate * (1 - rate), 1e-12) / p.size)),
+                     "failed": float(failed.mean()), "reps": float(p.size)}
+    return out

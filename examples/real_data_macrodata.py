@@ -24,7 +24,8 @@ def main() -> None:
     data = sm.datasets.macrodata.load_pandas().data
     log_gdp = np.log(data["realgdp"].to_numpy())
 
-    ours = ev.adf_test(log_gdp, trend="trend", lags=4)
+    # MacKinnon p-values, as statsmodels (the default simulates the p-value for T)
+    ours = ev.adf_test(log_gdp, trend="trend", lags=4, inference="asymptotic")
     with warnings.catch_warnings():  # newer statsmodels announce a change of adfuller's return type
         warnings.simplefilter("ignore", FutureWarning)
         stat, pvalue, *_ = adfuller(log_gdp, maxlag=4, autolag=None, regression="ct")

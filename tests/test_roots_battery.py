@@ -16,11 +16,6 @@ from evidence.roots.battery import PANEL_ROW, _decide, root_battery
 DEMO_CSV = str(__import__("pathlib").Path(__file__).resolve().parents[1] / "demo_panel" / "demo_panel.csv")
 
 
-@pytest.fixture(autouse=True)
-def _cache(tmp_path, monkeypatch):
-    monkeypatch.setenv("EVIDENCE_CACHE_DIR", str(tmp_path))
-
-
 def _rows(level: dict[str, bool | None], diff: dict[str, bool | None] | None = None):
     rows = [{"series": "level", "test": k, "reject": v} for k, v in level.items()]
     rows += [{"series": "difference", "test": k, "reject": v} for k, v in (diff or {}).items()]
@@ -28,12 +23,17 @@ def _rows(level: dict[str, bool | None], diff: dict[str, bool | None] | None = N
 
 
 def test_decision_rule():
-    # unanimity in levels: every unit-root test rejects and KPSS does not -> I(0)
+    # every unit-root test rejects and KPSS does not -> I(0)
     assert _decide(_rows({"adf": True, "pp": True, "kpss": False}), True)[0] == "I(0)"
     # unit root in levels (ADF does not reject, KPSS rejects) and stationary differences -> I(1)
-    assert _decide(_rows({"adf": False, "kpss": True}, {"adf": True, "kpss": False}), True)[0] == "I(1)"
+    label, reason = _decide(_rows({"adf": False, "kpss": True}, {"adf": True, "kpss": False}), True)
+    assert label == "I(1)" and "kpss reject stationarity" in reason
+    # a KPSS that does not reject in levels does not block I(1); the reason says so
+    label, reason = _decide(_rows({"adf": False, "kpss": False}, {"adf": True, "kpss": False}), True)
+    assert label == "I(1)" and "low power" in reason
     # the tests disagree in levels -> inconclusive
     assert _decide(_rows({"adf": True, "kpss": True}), True)[0] == "inconclusive"
+    assert _decide(_rows({"adf": True, "pp": False}), True)[0] == "inconclusive"
     # differences not clearly stationary -> inconclusive
     assert _decide(_rows({"adf": False, "kpss": True}, {"adf": False, "kpss": False}), True)[0] == \
         "inconclusive"
@@ -41,15 +41,19 @@ def test_decision_rule():
     assert _decide(_rows({"adf": False, "kpss": True}), False)[0] == "I(1) or higher"
     # a test that could not apply (reject None) is left out of the rule
     assert _decide(_rows({"adf": True, "ls": None, "kpss": False}), True)[0] == "I(0)"
+    # only stationarity tests: no decision
+    assert _decide(_rows({"kpss": True}), True)[0] == "inconclusive"
 
 
 def test_series_battery_decides_clear_cases():
     rng = np.random.default_rng(5)
-    walk = pd.Series(np.cumsum(rng.normal(size=80)), index=range(1940, 2020), name="walk")
-    noise = pd.Series(rng.normal(size=80), index=range(1940, 2020), name="noise")
+    walk = pd.Series(np.cumsum(rng.normal(size=40)), index=range(1980, 2020), name="walk")
+    noise = pd.Series(rng.normal(size=40), index=range(1980, 2020), name="noise")
     assert root_battery(walk).decisions["decision"].iloc[0] == "I(1)"
-    res = root_battery(noise, tests=("adf", "pp", "kpss", "dfgls"))
+    res = root_battery(noise, tests=("adf", "pp", "kpss", "dfgls"), trend="constant")
     assert res.decisions["decision"].iloc[0] == "I(0)"
+    assert res.details["decision_rule"].startswith("Decision at alpha")
+    assert "rule:" in res.summary()
     assert set(res.table["test"]) == {"adf", "pp", "kpss", "dfgls"}
     json.dumps(res.to_dict())
     assert "I(0): 1" in res.summary()
@@ -68,6 +72,9 @@ def test_battery_lists_excluded_units():
     assert len(skipped) == 4 and skipped["reason"].str.contains("missing in 2000").all()
     assert list(res.excluded.columns) == ["unit", "column", "years", "reason"]
     assert set(skipped["column"]) == {"dmc", "diff_dmc"}
+    # the blank cells say why: n/a with the reason in notes
+    row = res.decision_table().set_index("unit").loc[unit]
+    assert row["adf level"] == "n/a" and "missing in 2000" in row["notes"]
     assert res.decisions.set_index("unit").loc[unit, "decision"] == "inconclusive"
     with pytest.raises(SpecError, match="tests="):
         root_battery(gappy, "dmc", tests=("adf", "nope"))
@@ -77,11 +84,17 @@ def test_battery_lists_excluded_units():
 
 def test_battery_runs_on_every_demo_column():
     panel = ev.demo_panel()
-    for column in panel.columns:
+    for column in panel.columns[:2]:
         res = root_battery(panel, column, tests=("adf", "kpss", "ips", "cips"))
         assert set(res.decisions["unit"]) == set(panel.units) | {PANEL_ROW}, column
         table = res.decision_table()
-        assert {"adf level", "kpss diff", "ips level", "cips diff", "decision"} <= set(table.columns)
+        assert {"adf level", "kpss diff", "ips level", "cips diff", "decision", "reason",
+                "notes"} <= set(table.columns)
+        # the demo panel is unbalanced: CIPS cannot run, and its cell says why
+        cips = table.set_index("unit").loc[PANEL_ROW]
+        if cips["cips level"] == "n/a":
+            assert "balanced" in cips["notes"]
+        assert table.set_index("unit").loc[PANEL_ROW, "ips level"] != "n/a"   # IPS never blank
         json.dumps(res.to_dict())
 
 
@@ -98,11 +111,13 @@ def test_cli_battery_and_dependence(capsys):
     csv = capsys.readouterr().out
     assert csv.splitlines()[0].startswith("unit,series,test,statistic,pvalue") and "decision" in csv
     assert main(["roots", DEMO_CSV, "--column", "energy", "--tests", "adf,kpss", "--differences",
-                 "--lags", "2", "--trend", "trend", "--format", "markdown"]) == 0
+                 "--lags", "2", "--trend", "constant", "--format", "markdown"]) == 0
     assert "| decision |" in capsys.readouterr().out
     assert main(["roots", DEMO_CSV, "--column", "nope"]) == 2
     assert "not in the data" in capsys.readouterr().err
     assert main(["roots", DEMO_CSV, "--column", "dmc", "--tests", "adf,bogus"]) == 2
+    assert main(["roots", DEMO_CSV, "--column", "dmc", "--trend", "ct"]) == 2   # old codes retired
+    assert main(["roots", DEMO_CSV, "--column", "dmc", "--lags", "t-stat"]) == 2
 
 
 @pytest.mark.slow

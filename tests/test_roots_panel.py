@@ -66,7 +66,7 @@ def test_ips_moments_interpolate_and_refuse_untabulated_cells():
 
 def test_ips_w_by_hand_from_arch_unit_statistics():
     y = walks(34, 10, seed=2)
-    res = ips_test(make_panel(y), "x", lags="aic", max_lags=4)
+    res = ips_test(make_panel(y), "x", lags="aic", max_lags=4, inference="asymptotic")
     t, p, n = [], [], []
     for j in range(10):
         a = ADF(y[:, j], trend="c", max_lags=4, method="aic")   # arch, reference library
@@ -122,14 +122,14 @@ def test_fisher_formulas_on_known_pvalues():
 
 def test_fisher_test_combines_arch_pvalues():
     y = walks(30, 7, seed=5)
-    res = fisher_test(make_panel(y), "x", combine="p", lags=1)
+    res = fisher_test(make_panel(y), "x", combine="p", lags=1, inference="asymptotic")
     pvals = [ADF(y[:, j], lags=1).pvalue for j in range(7)]   # arch, reference library
     assert_allclose(res.statistic, -2 * np.log(pvals).sum(), rtol=1e-10)
     assert set(res.details["combinations"]) == {"p", "z", "pm", "l"}
     pp = fisher_test(make_panel(y), "x", unit_test="pp", hac_lags=None)
     assert pp.details["unit_test"] == "pp" and pp.applicable
     y[:4, 3] = np.nan                                         # unbalanced: u03 starts late
-    late = fisher_test(make_panel(y), "x", combine="p", lags=1)
+    late = fisher_test(make_panel(y), "x", combine="p", lags=1, inference="asymptotic")
     assert late.details["balanced"] is False
     assert_allclose(late.details["unit_pvalues"]["u03"], ADF(y[4:, 3], lags=1).pvalue, atol=1e-6)
 
@@ -171,7 +171,7 @@ def _llc_loop(y: np.ndarray, p: int, bandwidth: int) -> float:
 
 def test_llc_equals_plain_loop():
     y = walks(40, 6, seed=6)
-    res = llc_test(make_panel(y), "x", lags=1, hac_lags=5)
+    res = llc_test(make_panel(y), "x", lags=1, hac_lags=5, inference="asymptotic")
     assert_allclose(res.statistic, _llc_loop(y, 1, 5), rtol=1e-9)
     # LLC (2002) Table 2, T~=25, intercept: mu* = -0.554, sigma* = 0.919 (also from memory)
     table = np.array(_ips_tables.LLC)
@@ -215,7 +215,7 @@ def _breitung_loop(y: np.ndarray, trend: str) -> float:
 @pytest.mark.parametrize("trend", ["constant", "trend"])
 def test_breitung_equals_plain_loop(trend):
     y = walks(25, 5, seed=8)
-    assert_allclose(breitung_test(make_panel(y), "x", trend=trend).statistic,
+    assert_allclose(breitung_test(make_panel(y), "x", trend=trend, lags=0).statistic,
                     _breitung_loop(y, trend), rtol=1e-10)
 
 
@@ -225,14 +225,15 @@ def test_breitung_equals_plain_loop(trend):
 def test_hadri_robust_is_mean_of_arch_kpss(trend, lags):
     rng = np.random.default_rng(9)
     y = rng.standard_normal((30, 6)) + rng.normal(size=6)
-    res = hadri_test(make_panel(y), "x", trend=trend, hac_lags=lags)
+    res = hadri_test(make_panel(y), "x", trend=trend, hac_lags=lags, inference="asymptotic")
     # each unit's LM is its KPSS statistic (arch, reference library, same bandwidth)
     kpss = [KPSS(y[:, j], trend=ARCH_TREND[trend], lags=lags).stat for j in range(6)]
     assert_allclose(list(res.details["unit_lm"].values()), kpss, rtol=1e-5)
     # Hadri (2000), eq. (14)/(22): xi = 1/6, zeta^2 = 1/45 (constant); 1/15, 11/6300 (trend)
     xi, z2 = (1 / 6, 1 / 45) if trend == "constant" else (1 / 15, 11 / 6300)
     assert_allclose(res.statistic, math.sqrt(6) * (np.mean(kpss) - xi) / math.sqrt(z2), rtol=1e-5)
-    plain = hadri_test(make_panel(y), "x", trend=trend, hac_lags=lags, robust=False)
+    plain = hadri_test(make_panel(y), "x", trend=trend, hac_lags=lags, robust=False,
+                       inference="asymptotic")
     assert plain.test == "Hadri" and plain.statistic != res.statistic
 
 
@@ -295,10 +296,11 @@ def test_cips_simulated_critical_values_match_table_ii(n, t, trend, trunc, tmp_p
 def test_cips_test_on_a_tabulated_panel(tmp_path, monkeypatch):
     monkeypatch.setenv("EVIDENCE_CACHE_DIR", str(tmp_path))
     y = walks(20, 20, seed=11)
-    res = cips_test(make_panel(y), "x", truncate=False, reps=500, seed=3)
+    res = cips_test(make_panel(y), "x", truncate=False, lags=0, reps=500, seed=3,
+                    inference="asymptotic")
     assert res.critical_values[0.05] == -2.21 and "Table II" in res.details["critical_values_source"]
     assert_allclose(res.statistic, np.mean(cadf_tstats(y, "constant", 0)), rtol=1e-12)
-    trunc = cips_test(make_panel(y), "x", lags=1, reps=500, seed=3)
+    trunc = cips_test(make_panel(y), "x", lags=1, reps=500, seed=3, inference="asymptotic")
     assert "simulated" in trunc.details["critical_values_source"] and trunc.details["seed"] == 3
     with pytest.raises(SpecError, match="reps"):
         cips_test(make_panel(y), "x", reps=10)

@@ -47,9 +47,9 @@ def _ar1(n: int = 60, phi: float = 0.5, seed: int = 8) -> np.ndarray:
 @pytest.mark.parametrize("lags", ["aic", "bic", "sequential-t", 0, 3])
 def test_adf_equals_arch(trend, lags):
     y = _walk()
-    ours = adf_test(y, trend=trend, lags=lags, max_lags=6)
+    ours = adf_test(y, trend=trend, lags=lags, max_lags=6, inference="asymptotic")
     # reference library: arch.unitroot.ADF called directly with the same options (arch's name of
-    # the sequential-t rule is "t-stat")
+    # the sequential-t rule is "t-stat"); inference="asymptotic" keeps arch's MacKinnon p-value
     method = {"sequential-t": "t-stat"}.get(lags, lags) if isinstance(lags, str) else "aic"
     ref = ADF(y.to_numpy(), trend=ARCH_TREND[trend], lags=lags if isinstance(lags, int) else None,
               max_lags=6, method=method)
@@ -65,7 +65,7 @@ def test_pp_equals_arch(trend):
     y = _walk()
     for hac_lags, arch_lags in ((None, 4), (4, 4), (2, 2)):
         # default bandwidth: floor(4 (60/100)^(2/9)) = 3 (Newey & West 1994) -- checked below
-        ours = pp_test(y, trend=trend, hac_lags=hac_lags)
+        ours = pp_test(y, trend=trend, hac_lags=hac_lags, inference="asymptotic")
         expected = 3 if hac_lags is None else arch_lags
         ref = PhillipsPerron(y.to_numpy(), trend=ARCH_TREND[trend], lags=expected)  # arch
         assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
@@ -75,7 +75,7 @@ def test_pp_equals_arch(trend):
 @pytest.mark.parametrize("trend", ["constant", "trend"])
 def test_kpss_equals_arch(trend):
     y = _ar1()
-    ours = kpss_test(y, trend=trend, hac_lags=3)
+    ours = kpss_test(y, trend=trend, hac_lags=3, inference="asymptotic")
     ref = KPSS(y, trend=ARCH_TREND[trend], lags=3)  # arch, reference library
     assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
     auto = kpss_test(y, trend=trend)
@@ -88,7 +88,7 @@ def test_kpss_equals_arch(trend):
 @pytest.mark.parametrize("trend", ["constant", "trend"])
 def test_dfgls_equals_arch(trend):
     y = _walk()
-    ours = dfgls_test(y, trend=trend, lags="bic", max_lags=5)
+    ours = dfgls_test(y, trend=trend, lags="bic", max_lags=5, inference="asymptotic")
     ref = DFGLS(y.to_numpy(), trend=ARCH_TREND[trend], max_lags=5, method="bic")  # arch
     assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
     assert ours.details["lags"] == ref.lags
@@ -101,7 +101,8 @@ def test_za_equals_arch_and_break_year_is_last_old_year(model, arch_trend, offse
     values = np.cumsum(rng.normal(size=60))
     values[35:] += 5.0
     y = pd.Series(values, index=range(1960, 2020))
-    ours = za_test(y, model=model, lags=2)
+    # inference="asymptotic" gives arch's p-value too (the default simulates it for T)
+    ours = za_test(y, model=model, lags=2, inference="asymptotic")
     ref = ZivotAndrews(values, lags=2, trend=arch_trend)  # arch, reference library
     assert_allclose([ours.statistic, ours.pvalue], [ref.stat, ref.pvalue], rtol=1e-12)
     # Independent regression (statsmodels OLS) with our convention: the break year b is the last
@@ -175,7 +176,8 @@ def test_lee_strazicich_search_is_the_minimum_over_the_grid():
     loop = [_ls_oracle(y, [int(d[0])], "level", 1) for d in dates]
     assert_allclose(all_stats, loop, rtol=1e-9)
     assert stat == pytest.approx(min(loop)) and int(best[0]) == int(dates[np.argmin(loop)][0])
-    res = lee_strazicich_test(pd.Series(y, index=range(1980, 2020)), lags=1)
+    res = lee_strazicich_test(pd.Series(y, index=range(1980, 2020)), lags=1,
+                              inference="asymptotic")   # the T = 100 tables, no p-value
     assert res.details["n_breaks"] == 1
     assert res.details["break_years"] == [1980 + int(best[0]) - 1]
     assert math.isnan(res.pvalue) and res.statistic == pytest.approx(stat)

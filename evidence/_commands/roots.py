@@ -20,15 +20,10 @@ from evidence.roots import (
     root_battery,
     scaled_lm_test,
 )
-from evidence.roots.battery import PANEL_TESTS, SERIES_TESTS
+from evidence.roots.battery import CELLS, DECISION_RULE, PANEL_TESTS, SERIES_TESTS
 from evidence.tables import render_frame
 
 __all__ = ["command"]
-
-_RULE = ("Decision at the chosen alpha: I(0) when every unit-root test rejects and no stationarity "
-         "test (KPSS, Hadri) rejects in levels; I(1) when the levels show a unit root by the same "
-         "unanimity and the first differences are stationary; otherwise inconclusive. Cells are "
-         "p-values ('reject'/'no reject' for tests without one).")
 
 
 def _parse_tests(text: str | None) -> tuple[str, ...] | None:
@@ -66,9 +61,8 @@ def _dependence_frame(panel, column: str, trend: str, min_overlap: int) -> pd.Da
               + " (default adf,kpss,ips,cips).")
 @click.option("--trend", type=click.Choice(["none", "constant", "trend"], case_sensitive=False),
               default="trend", show_default=True,
-              help="Deterministic terms in levels: none, a constant, or a constant and a linear "
-                   "trend (the default: trending series such as GDP or emissions call for it). "
-                   "First differences are tested with a constant.")
+              help="Deterministic terms in levels: none, a constant, or a constant and a trend "
+                   "(the default, for trending series; differences get a constant).")
 @click.option("--lags", default="aic", show_default=True,
               help="Lags: an integer, aic, bic or sequential-t.")
 @click.option("--max-lags", type=int, default=None, help="Largest lag order searched.")
@@ -98,16 +92,19 @@ def command(data: Path, unit_col: str | None, time_col: str | None, layout: str,
     if dependence:
         frame = _dependence_frame(panel, column, "trend" if trend.lower() == "trend" else "constant",
                                   min_overlap)
-        notes = ["H0 of every test: no cross-sectional correlation. "
-                 "mean_abs_correlation: average |rho_ij| over the pairs used.", CAUTION]
+        notes = ["H0 of every test: no cross-sectional correlation. Correlations of the residuals "
+                 "of each unit's own autoregression (prewhitened); p-values simulated for this N "
+                 "and T when the panel is balanced. mean_abs_correlation: average |rho_ij| over "
+                 "the pairs used.", CAUTION]
         emit(render_frame(frame, fmt, title=f"Cross-sectional dependence: {column}", notes=notes,
                           index=False), output)
         return
     result = root_battery(panel, column, tests=_parse_tests(tests), trend=cast(Trend, trend.lower()),
                           lags=_parse_lags(lags), max_lags=max_lags, alpha=alpha,
                           differences=differences)
-    notes = [_RULE] + [f"not run: {r.unit} {r.column} {r.years}: {r.reason}"
-                       for r in result.excluded.itertuples()] + [CAUTION]
+    notes = [DECISION_RULE, CELLS] + [f"not run: {r.unit} {r.column} {r.years}: {r.reason}"
+                                       for r in result.excluded.itertuples()] + [CAUTION]
     frame = result.to_frame() if fmt in ("csv", "json") else result.decision_table()
-    emit(render_frame(frame, fmt, title=f"Unit-root battery: {column} (trend '{result.trend}', "
+    emit(render_frame(frame, fmt, title=f"Unit-root battery: {column} (levels with "
+                      f"{'a constant and a trend' if result.trend == 'trend' else result.trend}, "
                       f"alpha {result.alpha:g})", notes=notes, index=False), output)

@@ -2,13 +2,15 @@
 
 * ``series``: ADF, Phillips–Perron, KPSS, DF-GLS, Zivot–Andrews (through arch) and the
   Lee–Strazicich minimum LM test with one or two breaks.
-* ``panel``: Levin–Lin–Chu, Im–Pesaran–Shin, Fisher-type (Maddala–Wu, Choi), Breitung, Hadri and
-  Pesaran's CIPS.
+* ``panel``: Im–Pesaran–Shin, Fisher-type (Maddala–Wu, Choi) and, re-exported, Levin–Lin–Chu,
+  Breitung and Hadri (``pooled``) and Pesaran's CIPS (``_cips``).
 * ``dependence``: Pesaran CD, Breusch–Pagan LM, Pesaran's scaled LM, Baltagi–Feng–Kao
   bias-corrected LM.
 * ``battery``: levels and differences, several tests, one decision per series.
 
-Methods, formulas and references: ``docs/methods/roots.md``.
+P-values are simulated for the data's own T (and N) by default (``inference="simulated"``;
+``_calibrate``, ``_panel_null``); measured sizes in ``docs/methods/size.md``. Methods, formulas,
+conventions and references: ``docs/methods/roots.md``.
 """
 
 from evidence.roots.battery import RootBatteryResult, root_battery

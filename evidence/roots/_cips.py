@@ -1,11 +1,15 @@
 """Pesaran's (2007) CADF regressions, the CIPS statistic and its simulated null distribution.
 
-Critical values come from Pesaran (2007) Table II (``_cips_tables``) when the panel's N and T are
-tabulated and no lags are used; otherwise, and always for the p-value, from a seeded simulation
-of the statistic under the null (independent Gaussian random walks, the same N, T, deterministic
-terms, lags and truncation), run through :mod:`evidence.parallel` and cached on disk with
-:mod:`evidence._cache`. Regenerate a table with ``simulate_cips(...)``; its replications and
-seed are recorded in the result's ``details``.
+Default (``inference="simulated"``): the p-value and critical values come from the statistic
+simulated for the panel's N, T, deterministic terms, lags and truncation under independent
+Gaussian random walks whose increments are AR(1), read at the panel's pooled autocorrelation of
+Δy (``_panel_null``); with one lag this holds the size under AR(0.5) increments and a common
+factor (``docs/methods/size.md``). ``inference="asymptotic"``: Pesaran (2007) Table II critical
+values (``_cips_tables``) when N and T are tabulated and no lags are used, otherwise quantiles,
+and the p-value, of the simulation under independent Gaussian random walks with white-noise
+increments (``simulate_cips``), which over-rejects when the increments are autocorrelated.
+Simulations run through :mod:`evidence.parallel` and are cached with :mod:`evidence._cache`;
+their replications and seed are recorded in the result's ``details``.
 
 References
 ----------
@@ -22,18 +26,27 @@ import numpy as np
 
 from evidence._cache import load_cached, save_cached
 from evidence._typing import DEFAULT_SEED, Seed
-from evidence._validation import check_int, check_lags, check_seed, check_trend
+from evidence._validation import check_choice, check_int, check_lags, check_seed, check_trend
 from evidence.errors import SpecError
 from evidence.parallel import ExecutorLike, task_seeds, using_executor
 from evidence.results import TestResult
 from evidence.roots import _cips_tables as tables
-from evidence.roots._common import N_DETERMINISTIC, column_block, excluded_records, require_balanced
+from evidence.roots._common import (
+    INFERENCE,
+    N_DETERMINISTIC,
+    column_block,
+    excluded_records,
+    require_balanced,
+    size_details,
+)
+from evidence.roots._panel_null import panel_null, pooled_phi, register
 from evidence.roots._unit_batch import ols_tstat_batch, trend_columns
 
 __all__ = ["cips_test", "cadf_tstats", "cips_statistic", "simulate_cips", "table_critical_values"]
 
-#: Default number of simulated panels for p-values and untabulated critical values.
-REPS = 5000
+#: Default number of simulated panels for p-values and untabulated critical values (per grid point
+#: of the increments' autocorrelation with ``inference="simulated"``).
+REPS = 2000
 _CHUNK = 250
 
 
@@ -79,6 +92,11 @@ def cips_statistic(t: np.ndarray, trend: str, truncate: bool) -> np.ndarray:
     return np.mean(t, axis=-1)
 
 
+@register("cips")
+def _cips_draws(y: np.ndarray, trend: str, options: dict[str, Any]) -> np.ndarray:
+    return cips_statistic(cadf_tstats(y, trend, options["lags"]), trend, options["truncate"])
+
+
 def _simulate_chunk(task: tuple[Any, ...]) -> np.ndarray:
     seed, reps, n_units, nobs, trend, lags, truncate = task
     rng = np.random.default_rng(seed)
@@ -122,9 +140,9 @@ def table_critical_values(n_units: int, nobs: int, trend: str, truncate: bool) -
     return {a: tables.CIPS_CV[(trend, truncate, a)][i][j] for a in (0.01, 0.05, 0.10)}
 
 
-def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 0,
-              truncate: bool = True, reps: int = REPS, seed: Seed = DEFAULT_SEED,
-              executor: ExecutorLike = "serial") -> TestResult:
+def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 1,
+              truncate: bool = True, inference: str = "simulated", reps: int = REPS,
+              seed: Seed = DEFAULT_SEED, executor: ExecutorLike = "serial") -> TestResult:
     """Pesaran's CIPS panel unit-root test, robust to one common factor (balanced panel).
 
     Parameters
@@ -132,20 +150,22 @@ def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 0
     trend : {"none", "constant", "trend"}
         Case I, II or III of Pesaran (2007).
     lags : int
-        Lags p of the CADF regressions (the same for every unit).
+        Lags p of the CADF regressions (the same for every unit); default 1 (with 0 the test has
+        no size under autocorrelated increments: 0 % rejections under AR(0.5) at T = 30).
     truncate : bool
         True: CIPS*, the mean of CADF statistics truncated to [-K1, K2] (robust at small T).
+    inference : {"simulated", "asymptotic"}
+        See the module docstring; "asymptotic" rejects up to 10 % of the time at 5 % with
+        autocorrelated increments (``details["size"]``).
     reps, seed, executor
-        Simulation of the null distribution (p-value; critical values when not tabulated).
+        Simulated panels (per grid point with "simulated"), their seed, where to run them.
 
     Notes
     -----
     ``CADF_i`` is the t-ratio of b_i in the cross-sectionally augmented regression (see
     :func:`cadf_tstats`); ``CIPS = N⁻¹ Σ CADF_i``. H0: every unit has a unit root; H1: some
-    units are stationary. Reject for small values. The statistic's null distribution is
-    non-standard: critical values come from Pesaran (2007) Table II when p = 0 and (N, T) is
-    tabulated, otherwise from the simulation; the p-value is always the share of simulated
-    values at or below the statistic (its Monte Carlo error is about sqrt(p(1-p)/R)).
+    units are stationary. Reject for small values. The p-value is the share of simulated values
+    at or below the statistic (its Monte Carlo error is about sqrt(p(1-p)/R)).
 
     References
     ----------
@@ -155,8 +175,11 @@ def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 0
     lags = check_lags(lags, rules=())  # type: ignore[assignment]
     if not isinstance(truncate, bool):
         raise SpecError(f"truncate={truncate!r} must be True or False.")
+    inference = check_choice("inference", inference, INFERENCE)
     reps = check_int("reps", reps, minimum=100)
     seed = check_seed(seed)
+    if isinstance(seed, np.random.Generator):
+        seed = int(seed.integers(0, 2**62))
     block = column_block(panel, column, min_obs=2 * lags + N_DETERMINISTIC[trend] + 6,
                          purpose="the CIPS test")
     require_balanced(block, purpose="the CIPS test")
@@ -168,27 +191,38 @@ def cips_test(panel: Any, column: str, *, trend: str = "constant", lags: int = 0
         raise SpecError(f"the CADF regression of unit '{unit}' is singular with lags={lags}; "
                         "use fewer lags.")
     stat = float(cips_statistic(t, trend, truncate))
-    draws = simulate_cips(n, nobs, trend=trend, lags=lags, truncate=truncate, reps=reps,
+    details: dict[str, Any] = {"trend": trend, "lags": lags, "truncated": truncate,
+                               "inference": inference, "units": n, "periods": nobs,
+                               "reps": reps, "seed": seed}
+    if inference == "simulated":
+        null = panel_null("cips", n, nobs, trend, {"lags": lags, "truncate": truncate}, reps=reps,
                           seed=seed, executor=executor)
-    pvalue = float((np.sum(draws <= stat) + 1) / (draws.size + 1))
-    table = table_critical_values(n, nobs, trend, truncate) if lags == 0 else None
-    seed_label = seed if isinstance(seed, (int, np.integer)) else str(seed)
-    if table is not None:
-        cv, source = table, "Pesaran (2007), Table II"
+        phi = pooled_phi(y)
+        pvalue = null.pvalue(stat, phi, tail="lower")
+        cv = null.quantiles(phi)
+        details.update({"critical_values_source": null.label, "pooled_phi": round(phi, 6)})
     else:
-        cv = {a: float(np.quantile(draws, a)) for a in (0.01, 0.05, 0.10)}
-        source = f"simulated ({reps} replications, seed {seed_label})"
+        draws = simulate_cips(n, nobs, trend=trend, lags=lags, truncate=truncate, reps=reps,
+                              seed=seed, executor=executor)
+        pvalue = float((np.sum(draws <= stat) + 1) / (draws.size + 1))
+        table = table_critical_values(n, nobs, trend, truncate) if lags == 0 else None
+        if table is not None:
+            cv, source = table, "Pesaran (2007), Table II"
+        else:
+            cv = {a: float(np.quantile(draws, a)) for a in (0.01, 0.05, 0.10)}
+            source = f"simulated under white-noise increments ({reps} replications, seed {seed})"
+        details["critical_values_source"] = source
+    details["pvalue_mc_error"] = math.sqrt(max(pvalue * (1 - pvalue), 1e-12) / reps)
+    details["unit_cadf"] = dict(zip(block.units, np.round(t, 6).tolist(), strict=True))
     warn = ([f"{len(block.excluded)} item(s) left out; see details['excluded']."]
             if len(block.excluded) else [])
     if n < 10 or nobs < 10:
         warn.append(f"N={n}, T={nobs}: below Pesaran's smallest tabulated panel (N=10, T=10).")
+    name = "CIPS*" if truncate else "CIPS"
+    details["size"], size_warn = size_details(name, n, nobs, inference, trend)
+    details["excluded"] = excluded_records(block.excluded)
     return TestResult(
-        test="CIPS*" if truncate else "CIPS", statistic=stat, pvalue=pvalue, critical_values=cv,
+        test=name, statistic=stat, pvalue=pvalue, critical_values=cv,
         null="every unit has a unit root", alternative="some units are stationary",
-        nobs=int((nobs - lags - 1) * n),
-        details={"trend": trend, "lags": lags, "truncated": truncate, "units": n, "periods": nobs,
-                 "critical_values_source": source, "reps": reps, "seed": seed_label,
-                 "pvalue_mc_error": math.sqrt(max(pvalue * (1 - pvalue), 1e-12) / reps),
-                 "unit_cadf": dict(zip(block.units, np.round(t, 6).tolist(), strict=True)),
-                 "excluded": excluded_records(block.excluded)},
-        reference="pesaran2007", warnings=tuple(warn))
+        nobs=int((nobs - lags - 1) * n), details=details, reference="pesaran2007",
+        warnings=tuple(warn + size_warn))

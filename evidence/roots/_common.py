@@ -22,7 +22,8 @@ from evidence.errors import DataError
 from evidence.panel import Panel
 
 __all__ = ["ARCH_TREND", "TREND_WORDS", "N_DETERMINISTIC", "lag_bound", "ColumnBlock",
-           "column_block", "require_balanced", "excluded_records"]
+           "column_block", "require_balanced", "excluded_records", "INFERENCE", "size_details",
+           "card_options"]
 
 #: The package's deterministic terms and arch's names for them.
 ARCH_TREND: dict[str, Literal["n", "c", "ct"]] = {"none": "n", "constant": "c", "trend": "ct"}
@@ -119,3 +120,40 @@ def finite_or_nan(value: Any) -> float:
     except (TypeError, ValueError):
         return math.nan
     return out if math.isfinite(out) else math.nan
+
+
+#: How p-values are obtained: simulated for the data's own N and T (the default wherever it holds
+#: the size), or the published tables and asymptotic approximations (fast; size stated).
+INFERENCE = ("simulated", "asymptotic")
+
+
+def card_options(inference: str, trend: str) -> str:
+    """How the size card labels a test's options."""
+    return f"inference={inference}; trend={trend}"
+
+
+def _where(note: dict[str, Any]) -> str:
+    n_units = note.get("n_units")
+    return (f"N={n_units}, " if n_units and n_units > 1 else "") + f"T={note['n_years']}"
+
+
+def size_details(test: str, n_units: int | None, n_years: int, inference: str,
+                 trend: str = "constant", *, options: str | None = None
+                 ) -> tuple[dict[str, Any], list[str]]:
+    """The size card's note for a result (``details["size"]``) and, when the card measured this
+    option outside the controlled band, a warning with the figure.
+
+    ``options`` replaces the card's label built from ``inference`` and ``trend`` (for tests
+    without an ``inference`` option, e.g. ``"model=level"``)."""
+    from evidence._size_card import size_note
+
+    label = card_options(inference, trend) if options is None else options
+    note = size_note(test, n_units, n_years, options=label)
+    warn = []
+    if note and not note.get("controlled", True):
+        what = f"inference='{inference}'" if options is None else options.replace("; ", ", ")
+        warn.append(f"the size of {test} with {what} is not controlled: it "
+                    f"rejected {100 * note['measured']:.1f} % of the time at 5 % nominal "
+                    f"({note['process']}, {_where(note)}; see "
+                    "docs/methods/size.md).")
+    return note, warn

@@ -64,7 +64,9 @@ def ols_tstat_batch(y: np.ndarray, x: np.ndarray, which: int = 0) -> tuple[np.nd
     unit = np.zeros((x.shape[0], k, 1))
     unit[:, which, 0] = 1.0
     var = s2 * np.linalg.solve(xtx, unit)[:, which, 0]
-    coef, tstat = beta[:, which], beta[:, which] / np.sqrt(var)
+    with np.errstate(divide="ignore", invalid="ignore"):   # a near-singular regression: NaN
+        tstat = beta[:, which] / np.sqrt(np.where(var > 0, var, np.nan))
+    coef = beta[:, which]
     coef[singular] = np.nan
     tstat[singular] = np.nan
     return coef, tstat

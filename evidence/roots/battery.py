@@ -1,21 +1,28 @@
 """The unit-root battery: levels and first differences, several tests, one decision per series.
 
-Decision rule (at level ``alpha``, default 5 %), for a unit (or for the panel, from the panel
-tests): tests whose null is a unit root (ADF, PP, DF-GLS, Zivot–Andrews, Lee–Strazicich, IPS,
-LLC, Fisher, Breitung, CIPS) "reject" when p < alpha (Lee–Strazicich, which has no p-value: when
-the statistic is below the critical value at alpha); tests whose null is stationarity (KPSS,
-Hadri) "reject" when p < alpha. A series is
+Deterministic terms: by default the levels are tested with a constant and a linear trend
+(``trend="trend"``), the specification a referee expects for trending series such as GDP,
+emissions or material use; pass ``trend="constant"`` for series without a trend (ratios, shares,
+relative series). First differences are tested with a constant (without one when the levels have
+none).
 
-* **stationary** in a transform when every unit-root test rejects and no stationarity test does;
-* **non-stationary** when no unit-root test rejects and every stationarity test rejects (or none
-  was run).
+Decision rule (at level ``alpha``, default 5 %), for a unit, or for the panel from the panel
+tests (row ``(panel)``). Tests whose null is a unit root (ADF, PP, DF-GLS, Zivot–Andrews,
+Lee–Strazicich, IPS, LLC, Fisher, Breitung, CIPS) "reject" when p < alpha (a test without a
+p-value: when the statistic is below the critical value at alpha); tests whose null is
+stationarity (KPSS, Hadri) "reject" when p < alpha. In one transform the series is
+
+* **stationary** when every unit-root test rejects and no stationarity test does;
+* **non-stationary** when no unit-root test rejects (a stationarity test that also rejects
+  confirms it; one that does not is reported, not required: at T = 25–40 a KPSS test that holds
+  its size finds a random walk non-stationary only 7–25 % of the time).
 
 The decision is ``I(0)`` when the levels are stationary; ``I(1)`` when the levels are
 non-stationary and the first differences stationary; ``I(1) or higher`` when the levels are
-non-stationary and differences were not tested; otherwise ``inconclusive`` (the tests
-disagree, or the differences are not clearly stationary). Tests that could not apply are left
-out of the rule and named in the ``note`` column. Differences are tested with a constant when
-the levels have a constant or a trend, without one when the levels have none.
+non-stationary and differences were not tested; otherwise ``inconclusive`` (the tests disagree,
+or the differences are not clearly stationary). The ``reason`` column says which. Tests that
+could not apply or could not run are left out of the rule; their cells read ``n/a`` and the
+``notes`` column (and the long table's ``note``) says why.
 """
 
 from __future__ import annotations
@@ -28,14 +35,22 @@ import numpy as np
 import pandas as pd
 
 from evidence._typing import Trend
-from evidence._validation import check_alpha, check_choice, check_trend, format_years
+from evidence._validation import (
+    check_alpha,
+    check_choice,
+    check_lags,
+    check_max_lags,
+    check_trend,
+    format_years,
+)
 from evidence.errors import DataError, EvidenceError, SpecError
 from evidence.panel import Panel, derived_name
 from evidence.results import ResultProtocol, TestResult, excluded_frame, format_pvalue
 from evidence.roots import panel as panel_tests
 from evidence.roots import series as series_tests
 
-__all__ = ["root_battery", "RootBatteryResult", "SERIES_TESTS", "PANEL_TESTS", "STATIONARITY_NULL"]
+__all__ = ["root_battery", "RootBatteryResult", "SERIES_TESTS", "PANEL_TESTS", "STATIONARITY_NULL",
+           "DECISION_RULE", "CELLS"]
 
 SERIES_TESTS = ("adf", "pp", "kpss", "dfgls", "za", "ls")
 PANEL_TESTS = ("ips", "llc", "fisher", "breitung", "hadri", "cips")
@@ -44,6 +59,22 @@ STATIONARITY_NULL = ("kpss", "hadri")
 DEFAULT_SERIES = ("adf", "kpss")
 DEFAULT_PANEL = ("adf", "kpss", "ips", "cips")
 PANEL_ROW = "(panel)"
+#: The decision rule in words, carried by every result and printed under every table.
+DECISION_RULE = (
+    "Decision at alpha: a transform is stationary when every unit-root test (ADF, PP, DF-GLS, ZA, "
+    "LS, IPS, LLC, Fisher, Breitung, CIPS) rejects and no stationarity test (KPSS, Hadri) rejects; "
+    "non-stationary when no unit-root test rejects (a stationarity test that rejects confirms it). "
+    "I(0): levels stationary. I(1): levels non-stationary, differences stationary. Otherwise "
+    "inconclusive. Tests that could not run are left out (n/a, with the reason in notes).")
+
+
+#: What the cells of :meth:`RootBatteryResult.decision_table` mean, printed under every table.
+CELLS = (
+    "Cells: p-values (simulated for each series' own length; docs/methods/roots.md), 'reject' / "
+    "'no reject' for a test without one (at alpha). 'n/a': the test could not "
+    "run or apply; the notes column says why. Empty: the test does not belong to the row (unit "
+    "tests fill the units' rows, panel tests the (panel) row). Measured sizes: "
+    "docs/methods/size.md.")
 
 
 @dataclass(frozen=True, eq=False, repr=False)
@@ -51,9 +82,10 @@ class RootBatteryResult(ResultProtocol):
     """The battery's results: one row per unit, transform and test, and one decision per unit.
 
     ``table`` (long): unit, series ("level"/"difference"), test, statistic, pvalue, cv (at
-    ``alpha``), lags, reject, note. ``decisions``: unit, decision, reason. ``excluded``: unit,
-    column, years, reason for every test that raised on bad data (the one layout of
-    :data:`evidence.results.EXCLUDED_COLUMNS`).
+    ``alpha``), lags, reject, note (why a test did not run or could not apply, and its
+    warnings). ``decisions``: unit, decision, reason. ``excluded``: unit, column, years, reason
+    for every test that raised on bad data (the layout of
+    :data:`evidence.results.EXCLUDED_COLUMNS`). ``details["decision_rule"]`` states the rule.
     """
 
     table: pd.DataFrame
@@ -75,24 +107,37 @@ class RootBatteryResult(ResultProtocol):
         return self.table.merge(self.decisions[["unit", "decision"]], on="unit", how="left")
 
     def decision_table(self) -> pd.DataFrame:
-        """One row per unit: the p-value of each test in levels (and differences), the decision."""
+        """One row per unit: each test's p-value in levels (and differences), the decision, its
+        reason and notes for the cells that read ``n/a``.
+
+        A cell is empty where the test does not belong to the row (see :data:`CELLS`): a panel
+        test on a unit's row, a unit test on the ``(panel)`` row."""
         t = self.table.copy()
         t["cell"] = [format_pvalue(p) if not math.isnan(p) else
-                     ("reject" if r is True else "no reject" if r is False else "")
+                     ("reject" if r is True else "no reject" if r is False else "n/a")
                      for p, r in zip(t["pvalue"], t["reject"], strict=True)]
         t["key"] = t["test"] + " " + np.where(t["series"] == "level", "level", "diff")
         wide = t.pivot_table(index="unit", columns="key", values="cell", aggfunc="first", sort=False)
         order = [f"{test} {s}" for test in self.tests for s in ("level", "diff")
                  if f"{test} {s}" in wide.columns]
         wide = wide[order].reset_index()
-        return wide.merge(self.decisions, on="unit", how="left").fillna("")
+        notes: dict[str, list[str]] = {}
+        for unit, key, note in t.loc[t["cell"] == "n/a", ["unit", "key", "note"]].itertuples(index=False):
+            notes.setdefault(unit, []).append(f"{key}: {note}")
+        out = wide.merge(self.decisions, on="unit", how="left")
+        out[order] = out[order].fillna("")      # a unit test on the (panel) row, a panel test on a unit
+        out = out.fillna("n/a")
+        out["notes"] = ["; ".join(notes.get(u, [])) for u in out["unit"]]
+        return out
 
     def summary(self) -> str:
-        """Counts of decisions and what was left out."""
+        """Counts of decisions, the rule, and what was left out."""
         lines = [f"Unit-root battery: {self.column or 'series'}, tests {', '.join(self.tests)}, "
-                 f"trend '{self.trend}', alpha {self.alpha:g}"]
+                 f"levels with trend '{self.trend}', alpha {self.alpha:g}"]
         for label, n in self.decisions["decision"].value_counts().sort_index().items():
             lines.append(f"  {label}: {n}")
+        lines.append(f"  rule: {DECISION_RULE}")
+        lines.append(f"  {CELLS}")
         lines += [f"  left out: {r.unit} {r.column} {r.years} ({r.reason})"
                   for r in self.excluded.itertuples()]
         lines += [f"  warning: {w}" for w in self.warnings]
@@ -131,9 +176,7 @@ def _series_test(test: str, y: pd.Series, trend: Trend, lags: Any, max_lags: Any
     return series_tests.lee_strazicich_test(y, model="both" if trend == "trend" else "level")
 
 
-def _panel_test(test: str, panel: Panel, column: str, trend: Trend, lags: Any,
-                max_lags: Any) -> TestResult:
-    lag_int = lags if isinstance(lags, int) else 0
+def _panel_test(test: str, panel: Panel, column: str, trend: Trend, lags: Any, max_lags: Any) -> TestResult:
     if test == "ips":
         return panel_tests.ips_test(panel, column, trend=_with_constant(trend), lags=lags,
                                     max_lags=max_lags)
@@ -142,47 +185,71 @@ def _panel_test(test: str, panel: Panel, column: str, trend: Trend, lags: Any,
     if test == "fisher":
         return panel_tests.fisher_test(panel, column, trend=trend, lags=lags, max_lags=max_lags)
     if test == "breitung":
-        return panel_tests.breitung_test(panel, column, trend=trend, lags=lag_int)
+        return panel_tests.breitung_test(panel, column, trend=trend, lags=lags, max_lags=max_lags)
     if test == "hadri":
         return panel_tests.hadri_test(panel, column, trend=_with_constant(trend))
-    return panel_tests.cips_test(panel, column, trend=trend, lags=lag_int)
+    if isinstance(lags, int):
+        return panel_tests.cips_test(panel, column, trend=trend, lags=lags)
+    return panel_tests.cips_test(panel, column, trend=trend)
 
 
 def _row(unit: str, series: str, test: str, res: TestResult, alpha: float) -> dict[str, Any]:
     lags = res.details.get("lags", res.details.get("hac_lags", ""))
     if isinstance(lags, (list, tuple)):
         lags = f"{min(lags)}-{max(lags)}" if lags else ""
+    note = "; ".join(res.warnings)
+    if not res.applicable:
+        note = f"not applicable: {res.details.get('inapplicable', note)}"
     return {"unit": unit, "series": series, "test": test, "statistic": res.statistic,
             "pvalue": res.pvalue, "cv": res.critical_values.get(round(alpha, 2), math.nan),
-            "lags": str(lags), "reject": _reject(test, res, alpha),
-            "note": "; ".join(res.warnings)}
+            "lags": str(lags), "reject": _reject(test, res, alpha), "note": note}
 
 
-def _stationary(rows: list[dict[str, Any]]) -> tuple[bool, bool]:
+def _not_run(unit: str, series: str, test: str, exc: Exception) -> dict[str, Any]:
+    return {"unit": unit, "series": series, "test": test, "statistic": math.nan,
+            "pvalue": math.nan, "cv": math.nan, "lags": "", "reject": None,
+            "note": f"not run: {exc}"}
+
+
+def _classify(rows: list[dict[str, Any]]) -> tuple[str, str]:
+    """``("stationary" | "non-stationary" | "mixed" | "none", words)`` for one transform."""
     used = [r for r in rows if r["reject"] is not None]
-    root = [r["reject"] for r in used if r["test"] not in STATIONARITY_NULL]
-    stat = [r["reject"] for r in used if r["test"] in STATIONARITY_NULL]
+    root = [r for r in used if r["test"] not in STATIONARITY_NULL]
+    stat = [r for r in used if r["test"] in STATIONARITY_NULL]
     if not used:
-        return False, False
-    stationary = bool(root or stat) and all(root) and not any(stat)
-    nonstationary = (not any(root)) and (all(stat) if stat else bool(root))
-    return stationary, nonstationary
+        return "none", "no test could run"
+    names = lambda rs: ", ".join(r["test"] for r in rs)  # noqa: E731
+    if root and all(r["reject"] for r in root) and not any(r["reject"] for r in stat):
+        return "stationary", f"{names(root)} reject a unit root" + (
+            f" and {names(stat)} do not reject stationarity" if stat else "")
+    if root and not any(r["reject"] for r in root):
+        confirming = [r for r in stat if r["reject"]]
+        words = f"{names(root)} do not reject a unit root"
+        if confirming:
+            words += f"; {names(confirming)} reject stationarity"
+        elif stat:
+            words += f"; {names(stat)} do not reject stationarity (low power at this T)"
+        return "non-stationary", words
+    if not root:
+        rejecting = [r for r in stat if r["reject"]]
+        return "mixed", ("only stationarity tests ran; " + (f"{names(rejecting)} reject stationarity"
+                                                              if rejecting else "none rejects"))
+    return "mixed", "the tests disagree: " + ", ".join(
+        f"{r['test']} {'rejects' if r['reject'] else 'does not reject'}" for r in used)
 
 
 def _decide(rows: list[dict[str, Any]], differences: bool) -> tuple[str, str]:
-    lev = [r for r in rows if r["series"] == "level"]
-    dif = [r for r in rows if r["series"] == "difference"]
-    lev_s, lev_n = _stationary(lev)
-    if lev_s:
-        return "I(0)", "levels: every test points to stationarity"
-    if not lev_n:
-        return "inconclusive", "levels: the tests disagree"
+    level, level_words = _classify([r for r in rows if r["series"] == "level"])
+    if level == "stationary":
+        return "I(0)", f"levels: {level_words}"
+    if level != "non-stationary":
+        return "inconclusive", f"levels: {level_words}"
     if not differences:
-        return "I(1) or higher", "levels: every test points to a unit root; differences not tested"
-    dif_s, _ = _stationary(dif)
-    if dif_s:
-        return "I(1)", "levels: unit root; differences: stationary"
-    return "inconclusive", "levels: unit root; differences: not clearly stationary"
+        return "I(1) or higher", f"levels: {level_words}; differences not tested"
+    diff, diff_words = _classify([r for r in rows if r["series"] == "difference"])
+    if diff == "stationary":
+        return "I(1)", f"levels: {level_words}; differences: {diff_words}"
+    return "inconclusive", f"levels: {level_words}; differences not clearly stationary: {diff_words}"
 
 
 def _span(y: pd.Series) -> str:
@@ -194,7 +261,7 @@ def _span(y: pd.Series) -> str:
 
 
 def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None, *,
-                 tests: tuple[str, ...] | None = None, trend: Trend = "constant",
+                 tests: tuple[str, ...] | None = None, trend: Trend = "trend",
                  lags: int | str = "aic", max_lags: int | None = None, alpha: float = 0.05,
                  differences: bool = True) -> RootBatteryResult:
     """Run unit-root and stationarity tests on levels and first differences, and decide.
@@ -209,9 +276,11 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
         ``PANEL_TESTS`` ("ips", "llc", "fisher", "breitung", "hadri", "cips"). Default
         ("adf", "kpss") for a series, ("adf", "kpss", "ips", "cips") for a panel.
     trend : {"none", "constant", "trend"}
-        Deterministic terms in levels (KPSS, DF-GLS, IPS and Hadri use "constant" for "none").
+        Deterministic terms in levels; default a constant and a trend (see the module docstring).
+        KPSS, DF-GLS, IPS and Hadri use a constant where "none" is asked.
     lags, max_lags
-        Lag choice of the ADF-type tests.
+        Lag choice of the ADF-type tests (and the prewhitening of Breitung; CIPS uses one lag
+        unless ``lags`` is an integer).
     alpha : float
         Level of every decision.
     differences : bool
@@ -220,10 +289,12 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
     Returns
     -------
     RootBatteryResult
-        See the module docstring for the decision rule.
+        See the module docstring for the decision rule (also in ``details["decision_rule"]``).
     """
     trend = check_trend(trend)
     alpha = check_alpha(alpha)
+    lags = check_lags(lags)
+    max_lags = check_max_lags(max_lags)
     is_panel = isinstance(data, Panel)
     if isinstance(data, Panel):
         if column is None:
@@ -258,6 +329,7 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
                     rows.append(_row(unit, series, test, _series_test(test, values, tr, lags,
                                                                        max_lags), alpha))
                 except DataError as exc:
+                    rows.append(_not_run(unit, series, test, exc))
                     skipped.append({"unit": unit,
                                     "column": name if series == "level" else diff_name,
                                     "years": _span(values), "reason": f"{test}: {exc}"})
@@ -272,9 +344,7 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
                     rows.append(_row(PANEL_ROW, series, test,
                                      _panel_test(test, pan, col, tr, lags, max_lags), alpha))
                 except EvidenceError as exc:
-                    rows.append({"unit": PANEL_ROW, "series": series, "test": test,
-                                 "statistic": math.nan, "pvalue": math.nan, "cv": math.nan,
-                                 "lags": "", "reject": None, "note": f"not run: {exc}"})
+                    rows.append(_not_run(PANEL_ROW, series, test, exc))
     table = pd.DataFrame(rows, columns=["unit", "series", "test", "statistic", "pvalue", "cv",
                                         "lags", "reject", "note"])
     decisions = []
@@ -291,4 +361,7 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
                              excluded=excluded, column=column, tests=chosen, trend=trend,
                              alpha=alpha, differences=differences, warnings=tuple(warn),
                              details={"difference_trend": diff_trend, "lags": lags,
-                                      "max_lags": max_lags})
+                                      "max_lags": max_lags, "decision_rule": DECISION_RULE,
+                                      "cells": CELLS,
+                                      "trend_rule": "levels: constant and trend by default (trending "
+                                      "series); differences: a constant"})

@@ -6,6 +6,15 @@ pairwise over the years two units share (``T_ij``); pairs sharing fewer than ``m
 years are left out and listed in ``details["excluded_pairs"]``. The average absolute
 correlation, which reviewers expect beside CD, is in ``details`` of every result.
 
+By default (``prewhiten=True``) each unit's series is first filtered by its own autoregression
+in ADF form (``_prewhiten``): correlations of persistent series are far more variable than 1/T
+even when the series are independent, and CD on levels of independent AR(0.8) series or random
+walks rejects 22–47 % of the time at 5 % for N = 20, T = 30. With a balanced panel the p-values
+are then simulated for the panel's N and T through the same filter (``inference="simulated"``),
+which the LM-type statistics need (their χ² and normal approximations reject 9–18 % of the time
+at N = 20, T = 30). ``prewhiten=False`` correlates the series (or residuals) as given, as other
+programs do; the result then warns when the series are persistent.
+
 After time effects (two-way fixed effects) the residuals sum to zero across units every year,
 which makes the pairwise correlations negative on average: the plain CD is then centred near
 ``-sqrt(T/2)`` under the null. We detect this and, by default, use the CD with random unit signs
@@ -36,11 +45,14 @@ import pandas as pd
 from scipy import stats
 
 from evidence._typing import DEFAULT_SEED, Seed
-from evidence._validation import check_int, check_seed, check_trend
+from evidence._validation import check_choice, check_int, check_seed, check_trend
 from evidence.errors import DataError, SpecError
 from evidence.panel import Panel
 from evidence.results import ResultProtocol, TestResult, excluded_frame
-from evidence.roots._common import excluded_records
+from evidence.roots._calibrate import ar1_coefficient
+from evidence.roots._common import INFERENCE, excluded_records, lag_bound, size_details
+from evidence.roots._panel_null import panel_null
+from evidence.roots._prewhiten import ar_residuals
 from evidence.roots._unit_batch import trend_columns
 
 __all__ = ["pesaran_cd_test", "lm_test", "scaled_lm_test", "bias_corrected_lm_test",
@@ -70,6 +82,11 @@ class Correlations(ResultProtocol):
     excluded_pairs: tuple[tuple[str, str, int], ...]
     label: str
     excluded: pd.DataFrame = field(default_factory=excluded_frame)
+    periods: int = 0
+    persistence: float = math.nan
+    prewhitened: bool = False
+    lag_orders: tuple[int, ...] = ()
+    raw_years: int = 0
 
     _repr_fields = ("n_units", "nobs", "label")
 
@@ -124,7 +141,8 @@ def _residual_table(data: pd.Series | pd.DataFrame, column: str | None
     return table.to_numpy(dtype=float), tuple(str(u) for u in table.columns)
 
 
-def _as_wide(data: Any, column: str | None, trend: str, min_overlap: int) -> Correlations:
+def _as_wide(data: Any, column: str | None, trend: str, min_overlap: int,
+             prewhiten: bool = False) -> Correlations:
     excluded = excluded_frame()
     if isinstance(data, Panel):
         if column is None:
@@ -148,12 +166,24 @@ def _as_wide(data: Any, column: str | None, trend: str, min_overlap: int) -> Cor
     else:
         raise DataError("pass a Panel and a column, or residuals as a pandas Series indexed by "
                         f"(unit, time); got {type(data).__name__}.")
-    wide = _detrend(wide, trend)
     present = ~np.isnan(wide)
     full_rows = present.all(axis=1)
     demeaned = bool(full_rows.sum() >= 3 and np.allclose(
         np.nansum(wide[full_rows], axis=1), 0.0,
         atol=1e-8 * max(float(np.nanmax(np.abs(wide))), 1e-300) * wide.shape[1]))
+    orders: tuple[int, ...] = ()
+    raw_years = int(present.any(axis=1).sum())
+    if prewhiten:
+        short = [units[j] for j in range(wide.shape[1]) if present[:, j].sum() < 8]
+        if short:
+            raise DataError(f"unit '{short[0]}' has {int(present[:, units.index(short[0])].sum())} "
+                            f"years in {label}; prewhitening needs at least 8 (or prewhiten=False).")
+        wide, lag_orders = ar_residuals(wide, trend)
+        orders = tuple(int(v) for v in lag_orders)
+    else:
+        wide = _detrend(wide, trend)
+    persistence = _persistence(wide)
+    present = ~np.isnan(wide)
     rho, overlap, keep = pairwise_correlations(wide, min_overlap)
     iu = np.triu_indices(len(units), k=1)
     excluded_pairs = tuple((units[i], units[j], int(c)) for i, j, c, k in
@@ -162,7 +192,19 @@ def _as_wide(data: Any, column: str | None, trend: str, min_overlap: int) -> Cor
         raise DataError(f"no pair of units shares {min_overlap} years in {label}; lower "
                         "min_overlap or use a longer panel.")
     return Correlations(rho[keep], overlap[keep], tuple(units), len(units), int(present.sum()),
-                        bool(present.all()), demeaned, excluded_pairs, label, excluded)
+                        bool(present[present.any(axis=1)].all()), demeaned, excluded_pairs, label,
+                        excluded, int(present.any(axis=1).sum()), persistence, prewhiten, orders,
+                        raw_years)
+
+
+def _persistence(wide: np.ndarray) -> float:
+    """Mean first-order autocorrelation of the units' (filtered) series."""
+    values = []
+    for j in range(wide.shape[1]):
+        col = wide[~np.isnan(wide[:, j]), j]
+        if col.size > 3:
+            values.append(float(ar1_coefficient(col[:, None])[0]))
+    return float(np.mean(values)) if values else math.nan
 
 
 def _detrend(wide: np.ndarray, trend: str) -> np.ndarray:
@@ -186,7 +228,9 @@ def _details(c: Correlations, trend: str, min_overlap: int) -> dict[str, Any]:
             "min_overlap": min_overlap, "mean_overlap": float(c.overlap.mean()),
             "balanced": c.balanced, "mean_abs_correlation": float(np.mean(np.abs(c.rho))),
             "mean_correlation": float(np.mean(c.rho)),
-            "demeaned_by_time": c.demeaned_by_time,
+            "demeaned_by_time": c.demeaned_by_time, "prewhiten": c.prewhitened,
+            "series_autocorrelation": round(c.persistence, 4),
+            **({"prewhitening_lags": list(c.lag_orders)} if c.prewhitened else {}),
             "excluded_pairs": [{"unit_a": a, "unit_b": b, "overlap": o} for a, b, o in c.excluded_pairs],
             "excluded": excluded_records(c.excluded)}
 
@@ -198,12 +242,132 @@ def _warnings(c: Correlations) -> list[str]:
                     "details['excluded_pairs'].")
     if len(c.excluded):
         warn.append(f"{len(c.excluded)} item(s) left out of the panel; see details['excluded'].")
+    if not c.prewhitened and c.persistence > 0.5:
+        warn.append(f"the series are persistent (mean first-order autocorrelation "
+                    f"{c.persistence:.2f}): correlations of independent persistent series vary far "
+                    "more than 1/T, so this test over-rejects (CD: 22 % at AR(0.8), 44 % for random "
+                    "walks, N = 20-30, T = 30); use prewhiten=True.")
     return warn
+
+
+def _time_effects_warning(c: Correlations) -> list[str]:
+    return (["the data sum to zero across units every year (time effects); LM-type statistics "
+             "are then biased (each correlation has mean near -1/(N-1))."]
+            if c.demeaned_by_time else [])
+
+
+_NAMES = {"cd": "Pesaran CD", "lm": "Breusch-Pagan LM", "scaled": "Pesaran scaled LM",
+          "bc": "Baltagi-Feng-Kao bias-corrected LM"}
+_ROW = {"cd": 0, "lm": 1, "scaled": 2, "bc": 3}
+_REFERENCES = {"cd": "pesaran2004; pesaran2015", "lm": "breuschpagan1980", "scaled": "pesaran2004",
+               "bc": "bfk2012"}
+#: Simulated panels for the dependence nulls.
+REPS = 4000
+
+
+def _statistic(kind: str, c: Correlations, weights: np.ndarray) -> float:
+    if kind == "cd":
+        return float(np.sum(np.sqrt(c.overlap) * weights * c.rho) / math.sqrt(c.rho.size))
+    if kind == "lm":
+        return float(np.sum(c.overlap * c.rho ** 2))
+    scaled = float(np.sum(c.overlap * c.rho ** 2 - 1.0) / math.sqrt(2.0 * c.rho.size))
+    if kind == "scaled":
+        return scaled
+    return scaled - c.n_units / (2.0 * (c.periods - 1))
+
+
+def _asymptotic(kind: str, stat: float, pairs: int) -> tuple[float, dict[float, float]]:
+    levels = (0.01, 0.05, 0.10)
+    if kind == "cd":
+        return float(2 * stats.norm.sf(abs(stat))), {a: float(stats.norm.isf(a / 2)) for a in levels}
+    if kind == "lm":
+        return float(stats.chi2.sf(stat, pairs)), {a: float(stats.chi2.isf(a, pairs)) for a in levels}
+    return float(stats.norm.sf(stat)), {a: float(stats.norm.isf(a)) for a in levels}
+
+
+def _dependence(kind: str, data: Any, column: str | None, *, trend: str, min_overlap: int,
+                prewhiten: bool, inference: str | None, reps: int, seed: Seed, executor: Any,
+                random_signs: bool | None = None) -> TestResult:
+    trend = check_trend(trend, ("constant", "trend"))
+    min_overlap = _check(min_overlap)
+    if not isinstance(prewhiten, bool):
+        raise SpecError(f"prewhiten={prewhiten!r} must be True or False.")
+    if inference is not None:
+        inference = check_choice("inference", inference, INFERENCE)
+    reps = check_int("reps", reps, minimum=100)
+    c = _as_wide(data, column, trend, min_overlap, prewhiten)
+    warn = _warnings(c)
+    details = _details(c, trend, min_overlap)
+    use_signs = False
+    weights = np.ones(c.rho.size)
+    if kind == "cd":
+        use_signs = c.demeaned_by_time if random_signs is None else bool(random_signs)
+        details["random_signs"] = use_signs
+        if use_signs:
+            seed = check_seed(seed)
+            rng = seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
+            w = rng.choice([-1.0, 1.0], size=c.n_units)
+            iu = np.triu_indices(c.n_units, k=1)
+            dropped = {(a, b) for a, b, _ in c.excluded_pairs}
+            weights = np.array([w[i] * w[j] for i, j in zip(*iu, strict=True)
+                                if (c.units[i], c.units[j]) not in dropped])
+            details["seed"] = seed if isinstance(seed, (int, np.integer)) else str(seed)
+        elif c.demeaned_by_time:
+            warn.append("the data sum to zero across units every year (time effects): the plain "
+                        "CD is biased towards -sqrt(T/2); use random_signs=True.")
+    else:
+        warn += _time_effects_warning(c)
+    if kind == "bc" and (not c.balanced or c.excluded_pairs):
+        return TestResult.inapplicable(
+            _NAMES["bc"], reason="the bias correction is derived for balanced panels; this panel "
+            "is unbalanced (use the scaled LM or CD test).", nobs=c.nobs, reference="bfk2012")
+    stat = _statistic(kind, c, weights)
+    can_simulate = prewhiten and c.balanced and not c.excluded_pairs and not use_signs
+    if inference is None:
+        inference = "simulated" if can_simulate else "asymptotic"
+    elif inference == "simulated" and not can_simulate:
+        raise SpecError("inference='simulated' needs prewhiten=True, a balanced panel without "
+                        "left-out pairs and no random signs; use inference='asymptotic'.")
+    details["inference"] = inference
+    pvalue, cv = _asymptotic(kind, stat, c.rho.size)
+    if inference == "simulated":
+        if not isinstance(seed, (int, np.integer)):
+            seed = check_seed(seed)
+            seed = int(seed.integers(0, 2**62)) if isinstance(seed, np.random.Generator) else seed
+        top = lag_bound(c.raw_years, trend)
+        null = panel_null("dependence", c.n_units, c.raw_years, trend, {"max_lags": top},
+                          reps=reps, seed=int(seed), executor=executor, grid=(0.0,))
+        draws = null.draws[0, _ROW[kind]]
+        if kind == "cd":
+            # two-sided on |CD| (the null is symmetric about 0): pooling both tails halves the
+            # Monte Carlo error of separate 2.5 % quantiles (which put the 5 % size at 6-8 %
+            # with 2000 draws)
+            draws, stat_abs = np.sort(np.abs(draws)), abs(stat)
+        else:
+            stat_abs = stat
+        upper = (draws.size - np.searchsorted(draws, stat_abs, side="left") + 1) / (draws.size + 1)
+        pvalue = float(min(1.0, upper))
+        levels = (0.01, 0.05, 0.10)
+        cv = {a: float(np.quantile(draws, 1 - a)) for a in levels}
+        details.update({"null": null.label, "reps": reps, "seed": int(seed)})
+    if kind == "lm":
+        details["df"] = c.rho.size
+    if kind == "bc":
+        details["periods"] = c.periods
+    name = _NAMES[kind] + (" (random signs)" if use_signs else "")
+    card = _NAMES[kind] + ("" if prewhiten else " (unfiltered)")
+    details["size"], size_warn = size_details(card, c.n_units, c.raw_years, inference, trend)
+    reference = _REFERENCES[kind] + ("; juodisreese2022" if use_signs else "")
+    return TestResult(test=name, statistic=stat, pvalue=pvalue, critical_values=cv, null=NULL,
+                      alternative=ALT, nobs=c.nobs, details=details, reference=reference,
+                      warnings=tuple(warn + size_warn))
 
 
 def pesaran_cd_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
                     trend: str = "constant", min_overlap: int = MIN_OVERLAP,
-                    random_signs: bool | None = None, seed: Seed = DEFAULT_SEED) -> TestResult:
+                    prewhiten: bool = True, inference: str | None = None,
+                    random_signs: bool | None = None, reps: int = REPS,
+                    seed: Seed = DEFAULT_SEED, executor: Any = "serial") -> TestResult:
     """Pesaran's CD test of cross-sectional dependence (unbalanced panels by pairwise overlap).
 
     Parameters
@@ -211,15 +375,21 @@ def pesaran_cd_test(data: Panel | pd.Series | pd.DataFrame, column: str | None =
     data : Panel or pandas.Series
         A panel (with ``column``) or residuals indexed by (unit, time).
     trend : {"constant", "trend"}
-        "constant": correlations of the series as they are (each centred); "trend": of each
-        unit's deviations from its own linear trend.
+        Deterministic terms: of the prewhitening regressions, or (``prewhiten=False``) whether
+        each unit's deviations from its own linear trend are correlated instead of the series.
     min_overlap : int
         Fewest shared years for a pair to enter.
+    prewhiten : bool
+        Correlate the residuals of each unit's own autoregression (default; see the module
+        docstring) rather than the series as given (which other programs do).
+    inference : {"simulated", "asymptotic"}, optional
+        Default: "simulated" for a prewhitened balanced panel (the null simulated for this N and
+        T through the same filter), otherwise "asymptotic".
     random_signs : bool, optional
-        Use the CD with random unit signs (Juodis & Reese 2022). ``None`` (default): only when
+        The CD with random unit signs (Juodis & Reese 2022); ``None`` (default) uses it only when
         the data are demeaned across units every year (after time effects).
-    seed
-        Seed of the random signs (recorded).
+    reps, seed, executor
+        Simulated panels, their seed (also of the random signs), where to run them.
 
     Notes
     -----
@@ -232,71 +402,45 @@ def pesaran_cd_test(data: Panel | pd.Series | pd.DataFrame, column: str | None =
     ----------
     pesaran2004; pesaran2015; juodisreese2022 (see the module docstring).
     """
-    trend = check_trend(trend, ("constant", "trend"))
-    min_overlap = _check(min_overlap)
-    c = _as_wide(data, column, trend, min_overlap)
-    use_signs = c.demeaned_by_time if random_signs is None else bool(random_signs)
-    weights = np.ones(c.rho.size)
-    if use_signs:
-        seed = check_seed(seed)
-        rng = seed if isinstance(seed, np.random.Generator) else np.random.default_rng(seed)
-        w = rng.choice([-1.0, 1.0], size=c.n_units)
-        iu = np.triu_indices(c.n_units, k=1)
-        dropped = {(a, b) for a, b, _ in c.excluded_pairs}
-        ww = [w[i] * w[j] for i, j in zip(*iu, strict=True) if (c.units[i], c.units[j]) not in dropped]
-        weights = np.array(ww)
-    stat = float(np.sum(np.sqrt(c.overlap) * weights * c.rho) / math.sqrt(c.rho.size))
-    details = _details(c, trend, min_overlap)
-    details["random_signs"] = use_signs
-    if use_signs:
-        details["seed"] = seed if isinstance(seed, (int, np.integer)) else str(seed)
-    warn = _warnings(c)
-    if c.demeaned_by_time and not use_signs:
-        warn.append("the data sum to zero across units every year (time effects): the plain CD "
-                    "is biased towards -sqrt(T/2); use random_signs=True.")
-    return TestResult(test="Pesaran CD" + (" (random signs)" if use_signs else ""),
-                      statistic=stat, pvalue=float(2 * stats.norm.sf(abs(stat))),
-                      critical_values={a: float(stats.norm.isf(a / 2)) for a in (0.01, 0.05, 0.10)},
-                      null=NULL, alternative=ALT, nobs=c.nobs, details=details,
-                      reference="pesaran2004; pesaran2015" + ("; juodisreese2022" if use_signs else ""),
-                      warnings=tuple(warn))
-
-
-def _time_effects_warning(c: Correlations) -> list[str]:
-    return (["the data sum to zero across units every year (time effects); LM-type statistics "
-             "are then biased (each correlation has mean near -1/(N-1))."]
-            if c.demeaned_by_time else [])
+    return _dependence("cd", data, column, trend=trend, min_overlap=min_overlap,
+                       prewhiten=prewhiten, inference=inference, reps=reps, seed=seed,
+                       executor=executor, random_signs=random_signs)
 
 
 def lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
-            trend: str = "constant", min_overlap: int = MIN_OVERLAP) -> TestResult:
+            trend: str = "constant", min_overlap: int = MIN_OVERLAP, prewhiten: bool = True,
+            inference: str | None = None, reps: int = REPS, seed: Seed = DEFAULT_SEED,
+            executor: Any = "serial") -> TestResult:
     """Breusch–Pagan LM test of cross-sectional correlation (for small N, large T).
+
+    Options as in :func:`pesaran_cd_test` (by default the p-value is simulated for a prewhitened
+    balanced panel: the asymptotic approximations of the LM family reject 9–18 % of the time at
+    5 % for N = 20, T = 30).
 
     Notes
     -----
-    ``LM = Σ_{i<j} T_ij ρ̂²_ij`` ~ χ²(M) under H0, M the number of pairs used (N(N-1)/2 when
-    balanced). H0: no cross-sectional correlation; H1: some pairs correlated. Reject for large
-    values. Oversized when N is large relative to T: use the scaled or bias-corrected versions.
+    ``LM = Σ_{i<j} T_ij ρ̂²_ij`` ~ χ²(M) asymptotically, M the number of pairs used (N(N-1)/2
+    when balanced). H0: no cross-sectional correlation; H1: some pairs correlated. Reject for
+    large values. The χ² approximation is oversized when N is not small relative to T.
 
     References
     ----------
     breuschpagan1980 (see the module docstring).
     """
-    trend = check_trend(trend, ("constant", "trend"))
-    c = _as_wide(data, column, trend, _check(min_overlap))
-    stat = float(np.sum(c.overlap * c.rho ** 2))
-    m = c.rho.size
-    return TestResult(test="Breusch-Pagan LM", statistic=stat, pvalue=float(stats.chi2.sf(stat, m)),
-                      critical_values={a: float(stats.chi2.isf(a, m)) for a in (0.01, 0.05, 0.10)},
-                      null=NULL, alternative=ALT, nobs=c.nobs,
-                      details={**_details(c, trend, min_overlap), "df": m},
-                      reference="breuschpagan1980",
-                      warnings=tuple(_warnings(c) + _time_effects_warning(c)))
+    return _dependence("lm", data, column, trend=trend, min_overlap=min_overlap,
+                       prewhiten=prewhiten, inference=inference, reps=reps, seed=seed,
+                       executor=executor)
 
 
 def scaled_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
-                   trend: str = "constant", min_overlap: int = MIN_OVERLAP) -> TestResult:
+                   trend: str = "constant", min_overlap: int = MIN_OVERLAP, prewhiten: bool = True,
+                   inference: str | None = None, reps: int = REPS, seed: Seed = DEFAULT_SEED,
+                   executor: Any = "serial") -> TestResult:
     """Pesaran's scaled LM test: ``sqrt(1/(2M)) Σ_{i<j} (T_ij ρ̂²_ij - 1)`` → N(0,1).
+
+    Options as in :func:`pesaran_cd_test` (by default the p-value is simulated for a prewhitened
+    balanced panel: the asymptotic approximations of the LM family reject 9–18 % of the time at
+    5 % for N = 20, T = 30).
 
     With all pairs, ``2M = N(N-1)``. H0: no cross-sectional correlation; H1: correlation.
     Reject for large values. Size distorted when N is large relative to T.
@@ -305,19 +449,20 @@ def scaled_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = 
     ----------
     pesaran2004 (see the module docstring).
     """
-    trend = check_trend(trend, ("constant", "trend"))
-    c = _as_wide(data, column, trend, _check(min_overlap))
-    stat = float(np.sum(c.overlap * c.rho ** 2 - 1.0) / math.sqrt(2.0 * c.rho.size))
-    return TestResult(test="Pesaran scaled LM", statistic=stat, pvalue=float(stats.norm.sf(stat)),
-                      critical_values={a: float(stats.norm.isf(a)) for a in (0.01, 0.05, 0.10)},
-                      null=NULL, alternative=ALT, nobs=c.nobs, details=_details(c, trend, min_overlap),
-                      reference="pesaran2004",
-                      warnings=tuple(_warnings(c) + _time_effects_warning(c)))
+    return _dependence("scaled", data, column, trend=trend, min_overlap=min_overlap,
+                       prewhiten=prewhiten, inference=inference, reps=reps, seed=seed,
+                       executor=executor)
 
 
 def bias_corrected_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str | None = None, *,
-                           trend: str = "constant", min_overlap: int = MIN_OVERLAP) -> TestResult:
+                           trend: str = "constant", min_overlap: int = MIN_OVERLAP,
+                           prewhiten: bool = True, inference: str | None = None, reps: int = REPS,
+                           seed: Seed = DEFAULT_SEED, executor: Any = "serial") -> TestResult:
     """Baltagi–Feng–Kao bias-corrected scaled LM test (balanced panels; fixed-effects residuals).
+
+    Options as in :func:`pesaran_cd_test` (by default the p-value is simulated for a prewhitened
+    balanced panel: the asymptotic approximations of the LM family reject 9–18 % of the time at
+    5 % for N = 20, T = 30).
 
     Notes
     -----
@@ -330,19 +475,6 @@ def bias_corrected_lm_test(data: Panel | pd.Series | pd.DataFrame, column: str |
     ----------
     bfk2012 (see the module docstring).
     """
-    trend = check_trend(trend, ("constant", "trend"))
-    c = _as_wide(data, column, trend, _check(min_overlap))
-    if not c.balanced or c.excluded_pairs:
-        return TestResult.inapplicable(
-            "Baltagi-Feng-Kao bias-corrected LM",
-            reason="the bias correction is derived for balanced panels; this panel is unbalanced "
-                   "(use the scaled LM or CD test).", nobs=c.nobs, reference="bfk2012")
-    nobs_t = int(c.overlap[0])
-    n = c.n_units
-    stat = float(np.sum(nobs_t * c.rho ** 2 - 1.0) / math.sqrt(n * (n - 1)) - n / (2.0 * (nobs_t - 1)))
-    return TestResult(test="Baltagi-Feng-Kao bias-corrected LM", statistic=stat,
-                      pvalue=float(stats.norm.sf(stat)),
-                      critical_values={a: float(stats.norm.isf(a)) for a in (0.01, 0.05, 0.10)},
-                      null=NULL, alternative=ALT, nobs=c.nobs,
-                      details={**_details(c, trend, min_overlap), "periods": nobs_t},
-                      reference="bfk2012", warnings=tuple(_warnings(c) + _time_effects_warning(c)))
+    return _dependence("bc", data, column, trend=trend, min_overlap=min_overlap,
+                       prewhiten=prewhiten, inference=inference, reps=reps, seed=seed,
+                       executor=executor)
