@@ -202,8 +202,8 @@ def test_westerlund_bootstrap_reproducible_and_backends_agree():
 def test_westerlund_bootstrap_processes_backend():
     y, x = simulate(np.random.default_rng(15), 6, 36, coint=False, common=1.0)
     panel = to_panel(y, x)
-    a = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=9, seed=5)
-    b = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=9, seed=5,
+    a = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=19, seed=5)
+    b = westerlund_test(panel, "y", "x1", inference="bootstrap", reps=19, seed=5,
                         executor="processes")
     assert [r.pvalue for r in a] == [r.pvalue for r in b]
 

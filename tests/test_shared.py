@@ -106,6 +106,11 @@ def test_arrays_short_and_constant_units():
     assert "Aldwyr" not in panel.arrays(["gdp"], constant="exclude").units
     with pytest.raises(DataError, match="needs at least 40"):
         ev.demo_panel().arrays("gdp", min_years=40)
+    # every unit left out (a ratio of a column to itself): a DataError naming the reason, not a
+    # numpy error (found by the study-file fuzz)
+    frame["gdp"] = 5.0
+    with pytest.raises(DataError, match=r"no unit has usable data.*'gdp' is constant"):
+        ev.load_panel(frame.reset_index()).arrays(["gdp"], span="own", constant="exclude")
 
 
 def test_clean_series_numbers_years_from_one_and_refuses_bad_input():
