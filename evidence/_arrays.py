@@ -284,14 +284,11 @@ def panel_arrays(frame: pd.DataFrame, columns: Sequence[str], *, span: str = "co
                                 f"'{unit}' over {full[lo]}:{full[hi]}; {purpose} needs variation in "
                                 "every unit. Drop the unit or choose another column.")
             drop(i, full[lo:hi + 1], f"unit excluded: '{cols[flat[0]]}' is constant")
-    if not keep.any():
-        reasons = sorted({str(row["reason"]) for row in excluded})
-        raise DataError(f"no unit has usable data for {col_label}: every unit was left out "
-                        f"({'; '.join(reasons[:3]) or 'no complete years'}); {purpose} needs at least "
-                        "one. Check the column (is it a ratio of a column to itself?) and the window.")
-    if keep.sum() < require_units:
+    if keep.sum() < max(require_units, 1):
+        reasons = sorted({str(row["reason"]) for row in excluded if str(row["reason"]).startswith("unit")})
         raise DataError(f"{int(keep.sum())} unit(s) have usable data for {col_label}; {purpose} needs "
-                        f"at least {require_units}.")
+                        f"at least {max(require_units, 1)}. Left out: {'; '.join(reasons[:3]) or 'none'}. "
+                        "Check the column (a ratio of a column to itself is constant) and the window.")
     idx = np.flatnonzero(keep)
     first, last = first[idx], last[idx]
     if span == "common":

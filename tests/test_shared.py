@@ -109,7 +109,7 @@ def test_arrays_short_and_constant_units():
     # every unit left out (a ratio of a column to itself): a DataError naming the reason, not a
     # numpy error (found by the study-file fuzz)
     frame["gdp"] = 5.0
-    with pytest.raises(DataError, match=r"no unit has usable data.*'gdp' is constant"):
+    with pytest.raises(DataError, match=r"0 unit\(s\) have usable data for gdp.*'gdp' is constant"):
         ev.load_panel(frame.reset_index()).arrays(["gdp"], span="own", constant="exclude")
 
 
