@@ -62,3 +62,36 @@ def test_blocks_join_to_the_same_panel(tmp_path, monkeypatch):
     pieces = ev.load_panel(path, unit="region")
     pd.testing.assert_frame_equal(whole.frame, pieces.frame)
     assert len(pieces.audit) == 1
+
+
+PARQUET_CASES = {
+    "numbers": pd.DataFrame({"region": ["B", "A", "B", "A"], "year": [2001, 2001, 2000, 2000],
+                             "gdp": [3.2, 1.6, 3.0, 1.5], "ghg": [4.1, np.nan, 4.0, 2.0]}),
+    "text cells": pd.DataFrame({"region": ["A", "A", "B", "B"], "year": ["2000", "2001", "2000", "2001"],
+                                "gdp": ["1.5", "..", "3", "3.2"], "ghg": [2.0, 2.1, 4.0, 4.1]}),
+    "categorical units": pd.DataFrame({"region": pd.Categorical(["A", "A", "B", "B"]),
+                                       "year": [2000, 2001, 2000, 2001],
+                                       "gdp": [1.5, 1.6, 3.0, 3.2], "ghg": [2, 3, 4, 5]}),
+    "all missing column": pd.DataFrame({"region": ["A", "A", "B", "B"], "year": [2000, 2001] * 2,
+                                        "gdp": [1.5, 1.6, 3.0, 3.2], "ghg": [None] * 4}),
+}
+
+
+@pytest.mark.parametrize("name", sorted(PARQUET_CASES))
+def test_parquet_batches_equal_pandas_reader(tmp_path, monkeypatch, name):
+    # reference: pandas.read_parquet (the plain path); the batch reader must give the same panel
+    path = tmp_path / "panel.parquet"
+    PARQUET_CASES[name].to_parquet(path, index=False)
+    fast = ev.load_panel(path, unit="region")
+    monkeypatch.setattr(_loading, "_read_parquet_typed", lambda *args: None)
+    plain = ev.load_panel(path, unit="region")
+    pd.testing.assert_frame_equal(fast.frame, plain.frame, check_index_type=False)
+    pd.testing.assert_frame_equal(fast.audit, plain.audit)
+    assert fast.units == plain.units
+
+
+def test_parquet_with_a_named_index_reads_as_pandas_does(tmp_path):
+    frame = PARQUET_CASES["numbers"].set_index("region")
+    path = tmp_path / "indexed.parquet"
+    frame.to_parquet(path)
+    assert _loading._read_parquet_typed(path) is None   # left to pandas.read_parquet
