@@ -62,9 +62,9 @@ def main() -> int:
         y = np.cumsum(rng.standard_normal((50, 500)), axis=1)
         e, _ = static_residuals(y, x, "constant")
         raw = pedroni_raw(e, np.diff(y, axis=1), np.diff(x, axis=1), np.zeros(50, int),
-                          trend="constant", bandwidth=0)
+                          trend="constant", hac_lags=0)
         draws.append([raw[k] / np.sqrt(50) for k in names])
-        k = kao_raw(y, x, 0, bandwidth=0)
+        k = kao_raw(y, x, 0, hac_lags=0)
         kao.append((k["t_rho"], k["t_df"]))
     mean, var = np.mean(draws, axis=0), np.var(np.array(draws) * np.sqrt(50), axis=0)
     mu, v = _pedroni_tables.MOMENTS["constant"][1]

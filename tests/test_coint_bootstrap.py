@@ -157,17 +157,17 @@ def test_batched_statistics_equal_one_panel_at_a_time():
     panels = [simulate(rng, 6, 35, coint=False) for _ in range(3)]
     ys = np.stack([p[0] for p in panels])
     xs = np.stack([p[1] for p in panels])
-    ped, _ = pedroni_statistics(ys, xs, trend="constant", lags="aic", max_lags=2, bandwidth=3)
-    kao = kao_statistics(ys, xs, lags="bic", max_lags=2, bandwidth=3)
+    ped, _ = pedroni_statistics(ys, xs, trend="constant", lags="aic", max_lags=2, hac_lags=3)
+    kao = kao_statistics(ys, xs, lags="bic", max_lags=2, hac_lags=3)
     wes, p_i, q_i = westerlund_statistics(ys, xs, "aic", 0, max_lags=2, max_leads=0,
                                           trend="constant")
     for r, (y, x) in enumerate(panels):
         e, _ = static_residuals(y, x, "constant")
         one = pedroni_raw(e, np.diff(y, axis=1), np.diff(x, axis=1), select_adf_lags(e, 2, "aic"),
-                          trend="constant", bandwidth=3)
+                          trend="constant", hac_lags=3)
         assert_allclose([ped[k][r] for k in ("panel v", "group ADF")],
                         [one["panel v"], one["group ADF"]], rtol=1e-10)
-        single = kao_raw(y, x, int(kao["adf_lags"][r]), bandwidth=3)
+        single = kao_raw(y, x, int(kao["adf_lags"][r]), hac_lags=3)
         assert_allclose(kao["t_adf"][r], single["t_adf"], rtol=1e-10)
         raw = westerlund_raw(y, x, p_i[r], q_i[r], "constant")
         assert_allclose([wes[k][r] for k in ("Gt", "Pa")], [raw["Gt"], raw["Pa"]], rtol=1e-10)

@@ -71,7 +71,7 @@ def test_pedroni_moments_reproduced_by_simulation():
         y = np.cumsum(rng.standard_normal((50, 500)), axis=1)
         e, _ = static_residuals(y, x, "constant")
         raw = pedroni_raw(e, np.diff(y, axis=1), np.diff(x, axis=1), np.zeros(50, int),
-                          trend="constant", bandwidth=0)
+                          trend="constant", hac_lags=0)
         draws.append([raw[k] / np.sqrt(50) for k in names])
     mean = np.mean(draws, axis=0)
     mu = np.array(_pedroni_tables.MOMENTS["constant"][1][0])
@@ -90,7 +90,7 @@ def test_kao_constants_by_simulation():
     for _ in range(300):
         x = np.cumsum(rng.standard_normal((100, 400)), axis=1)[:, :, None]
         y = np.cumsum(rng.standard_normal((100, 400)), axis=1)
-        raw = kao_raw(y, x, 0, bandwidth=0)
+        raw = kao_raw(y, x, 0, hac_lags=0)
         t_rho.append(raw["t_rho"])
         t_df.append(raw["t_df"])
     t_rho, t_df = np.array(t_rho), np.array(t_df)

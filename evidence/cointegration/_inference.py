@@ -29,7 +29,7 @@ from evidence.results import TestResult
 
 __all__ = ["INFERENCES", "CHUNK", "resolve_inference", "run_bootstrap", "bootstrap_pvalue",
            "drift_report", "drifting", "size_warning", "size_options", "relation_results",
-           "bootstrap_options", "seed_record", "max_lags_option", "bandwidth_option", "probe_years"]
+           "bootstrap_options", "seed_record", "max_lags_option", "hac_lags_option", "probe_years"]
 
 _NULL = "no cointegration"
 _LEVELS = (0.01, 0.05, 0.10)
@@ -141,7 +141,7 @@ def max_lags_option(max_lags: int | None, n_years: int, parameter: str = "max_la
     return default_max_lags(n_years) if checked is None else checked
 
 
-def bandwidth_option(hac_lags: int | None, nobs: int) -> int:
+def hac_lags_option(hac_lags: int | None, nobs: int) -> int:
     """``hac_lags`` checked, or the Newey–West rule for ``nobs``."""
     checked = check_int("hac_lags", hac_lags, minimum=0, allow_none=True)
     return newey_west_lags(nobs) if checked is None else checked

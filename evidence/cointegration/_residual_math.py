@@ -75,17 +75,17 @@ def select_adf_lags(e: np.ndarray, max_lags: int, method: str) -> np.ndarray:
 
 
 def _pedroni_units(e: np.ndarray, dy: np.ndarray, dx: np.ndarray, adf_lags: np.ndarray, *,
-                   trend: str, bandwidth: int) -> dict[str, np.ndarray]:
+                   trend: str, hac_lags: int) -> dict[str, np.ndarray]:
     """The unit pieces of Pedroni's sums (every array (M,) for M units)."""
     n_units = e.shape[0]
     # L11^2: long-run variance of the residual of Δy on Δx (and a constant with a trend).
     zd = dx if trend != "trend" else np.concatenate([np.ones((*dx.shape[:2], 1)), dx], axis=2)
     _, eta, _ = batch_ols(dy, zd)
-    l11 = long_run_cov(eta[:, :, None], bandwidth)[1][:, 0, 0]
+    l11 = long_run_cov(eta[:, :, None], hac_lags)[1][:, 0, 0]
     # Non-parametric (rho, PP) terms from e_t = gamma e_{t-1} + u_t.
     el, de, u = adf_terms(e, 0)
     nobs = de.shape[1]
-    lrc = long_run_cov(u[:, :, None], bandwidth)
+    lrc = long_run_cov(u[:, :, None], hac_lags)
     s2, sig2 = lrc.short_run[:, 0, 0], lrc.long_run[:, 0, 0]
     lam = 0.5 * (sig2 - s2)
     see = np.sum(el * el, axis=1)                          # sum_t e_{t-1}^2, per unit
@@ -129,13 +129,13 @@ def _pedroni_combine(units: dict[str, np.ndarray]) -> dict[str, np.ndarray]:
 
 
 def pedroni_raw(e: np.ndarray, dy: np.ndarray, dx: np.ndarray, adf_lags: np.ndarray, *,
-                trend: str, bandwidth: int) -> dict[str, np.ndarray | float]:
+                trend: str, hac_lags: int) -> dict[str, np.ndarray | float]:
     """Pedroni's (1999) seven statistics before standardisation (see ``pedroni_test``).
 
     ``e`` (N, T) static residuals, ``dy`` (N, T-1) and ``dx`` (N, T-1, m) first differences,
     ``adf_lags`` (N,) lag orders of the ADF regressions.
     """
-    units = _pedroni_units(e, dy, dx, adf_lags, trend=trend, bandwidth=bandwidth)
+    units = _pedroni_units(e, dy, dx, adf_lags, trend=trend, hac_lags=hac_lags)
     out: dict[str, np.ndarray | float] = {k: float(v) for k, v in _pedroni_combine(units).items()}
     out.update({"l11": units["l11"], "lambda": units["lambda"], "sigma2": units["sigma2"],
                 "s2": units["s2"], "nobs": int(units["nobs"][0])})
@@ -143,7 +143,7 @@ def pedroni_raw(e: np.ndarray, dy: np.ndarray, dx: np.ndarray, adf_lags: np.ndar
 
 
 def pedroni_statistics(y: np.ndarray, x: np.ndarray, *, trend: str, lags: int | str,
-                       max_lags: int, bandwidth: int) -> tuple[dict[str, np.ndarray], np.ndarray]:
+                       max_lags: int, hac_lags: int) -> tuple[dict[str, np.ndarray], np.ndarray]:
     """The seven raw statistics of panels ``y`` (..., N, T), ``x`` (..., N, T, k).
 
     ``lags`` an int fixes every unit's ADF order; "aic"/"bic" choose it per unit up to
@@ -159,7 +159,7 @@ def pedroni_statistics(y: np.ndarray, x: np.ndarray, *, trend: str, lags: int | 
     else:
         adf_lags = np.full(yf.shape[0], int(lags))
     units = _pedroni_units(e, np.diff(yf, axis=1), np.diff(xf, axis=1), adf_lags, trend=trend,
-                           bandwidth=bandwidth)
+                           hac_lags=hac_lags)
     shaped = {key: value.reshape(*lead, n_units) for key, value in units.items()}
     return _pedroni_combine(shaped), adf_lags.reshape(*lead, n_units)
 
@@ -183,7 +183,7 @@ def _adf_design(el: np.ndarray, de: np.ndarray, lags: int, first: int) -> tuple[
 
 
 def kao_statistics(y: np.ndarray, x: np.ndarray, *, lags: int | str, max_lags: int,
-                   bandwidth: int) -> dict[str, np.ndarray]:
+                   hac_lags: int) -> dict[str, np.ndarray]:
     """Kao's (1999) pooled quantities for panels ``y`` (..., N, T), ``x`` (..., N, T, k).
 
     Returns, shaped like the leading axes: ``t_rho`` (= T(ρ̂ − 1)), ``t_df``, ``t_adf``,
@@ -226,7 +226,7 @@ def kao_statistics(y: np.ndarray, x: np.ndarray, *, lags: int | str, max_lags: i
     # Variances of u = Δe conditional on Δx, contemporaneous and long run, averaged over units.
     w = np.concatenate([de[..., None], np.diff(xr, axis=2)], axis=3)
     w = w - w.mean(axis=2, keepdims=True)
-    sigma, omega, _ = long_run_cov(w, bandwidth)
+    sigma, omega, _ = long_run_cov(w, hac_lags)
     sigma, omega = sigma.mean(axis=1), omega.mean(axis=1)
 
     def conditional(m: np.ndarray) -> np.ndarray:
@@ -256,12 +256,12 @@ def kao_standardise(raw: dict[str, np.ndarray], n_units: int) -> dict[str, np.nd
     }
 
 
-def kao_raw(y: np.ndarray, x: np.ndarray, lags: int, *, bandwidth: int) -> dict[str, float]:
+def kao_raw(y: np.ndarray, x: np.ndarray, lags: int, *, hac_lags: int) -> dict[str, float]:
     """Kao's (1999) pooled DF and ADF quantities from the within (fixed-effects) regression.
 
     One panel ``y`` (N, T), ``x`` (N, T, k), a fixed pooled ADF order: see :func:`kao_statistics`.
     """
-    raw = kao_statistics(y[None], x[None], lags=int(lags), max_lags=int(lags), bandwidth=bandwidth)
+    raw = kao_statistics(y[None], x[None], lags=int(lags), max_lags=int(lags), hac_lags=hac_lags)
     out: dict[str, Any] = {key: float(value[0]) for key, value in raw.items() if key != "beta"}
     out["beta"] = raw["beta"][0]
     out.update({"n_units": y.shape[0], "n_years": y.shape[1]})

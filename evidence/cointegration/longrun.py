@@ -58,7 +58,7 @@ def _det(trend: str, n_units: int, n: int) -> np.ndarray:
 
 
 def _pooled_dols(y: np.ndarray, x: np.ndarray, trend: str, lags: int, leads: int,
-                 bandwidth: int | None) -> tuple[np.ndarray, np.ndarray, dict]:
+                 hac_lags: int | None) -> tuple[np.ndarray, np.ndarray, dict]:
     n_units, n_years, k = x.shape
     dx = np.concatenate([np.full((n_units, 1, k), np.nan), np.diff(x, axis=1)], axis=1)
     rows = slice(lags + 1, n_years - leads)
@@ -70,7 +70,7 @@ def _pooled_dols(y: np.ndarray, x: np.ndarray, trend: str, lags: int, leads: int
     xx = np.einsum("nti,ntj->ij", x_t, x_t)
     beta = np.linalg.solve(xx, np.einsum("nti,nt->i", x_t, y_t))
     resid = y_t - np.einsum("ntk,k->nt", x_t, beta)
-    band = newey_west_lags(resid.shape[1]) if bandwidth is None else bandwidth
+    band = newey_west_lags(resid.shape[1]) if hac_lags is None else hac_lags
     omega = long_run_cov(resid[:, :, None], band)[1][:, 0, 0]
     meat = np.einsum("n,nti,ntj->ij", omega, x_t, x_t)
     xx_inv = np.linalg.inv(xx)
@@ -78,7 +78,7 @@ def _pooled_dols(y: np.ndarray, x: np.ndarray, trend: str, lags: int, leads: int
 
 
 def _pooled_fmols(y: np.ndarray, x: np.ndarray, trend: str,
-                  bandwidth: int | None) -> tuple[np.ndarray, np.ndarray, dict]:
+                  hac_lags: int | None) -> tuple[np.ndarray, np.ndarray, dict]:
     n_units, n_years, k = x.shape
     d = _det(trend, n_units, n_years)
     _, u, _ = batch_ols(y, np.concatenate([d, x], axis=2))
@@ -89,7 +89,7 @@ def _pooled_fmols(y: np.ndarray, x: np.ndarray, trend: str,
         dx = np.diff(x, axis=1)
     wv = np.concatenate([u[:, 1:, None], dx], axis=2)  # not centred (as arch)
     n = wv.shape[1]
-    band = newey_west_lags(n) if bandwidth is None else bandwidth
+    band = newey_west_lags(n) if hac_lags is None else hac_lags
     _, omega, delta = long_run_cov(wv, band)
     o_xx_inv = np.linalg.inv(omega[:, 1:, 1:])
     corr = np.einsum("nij,nj->ni", o_xx_inv, omega[:, 1:, 0])           # Ω_xx^-1 Ω_xu

@@ -42,9 +42,9 @@ from evidence._typing import DEFAULT_SEED, Seed
 from evidence._validation import check_lags, check_trend
 from evidence.cointegration._data import as_columns, relation_block
 from evidence.cointegration._inference import (
-    bandwidth_option,
     bootstrap_options,
     drift_report,
+    hac_lags_option,
     max_lags_option,
     probe_years,
     relation_results,
@@ -79,7 +79,7 @@ def _pedroni_draw(spec: tuple[SieveModel, dict[str, Any]], rng: np.random.Genera
     model, opts = spec
     ys, xs = sieve_draws(model, rng, reps, block_length=opts["block_length"])
     out, _ = pedroni_statistics(ys, xs, trend=opts["trend"], lags=opts["lags"],
-                                max_lags=opts["max_lags"], bandwidth=opts["bandwidth"])
+                                max_lags=opts["max_lags"], hac_lags=opts["hac_lags"])
     return out
 
 
@@ -88,7 +88,7 @@ def _kao_draw(spec: tuple[SieveModel, dict[str, Any]], rng: np.random.Generator,
     model, opts = spec
     ys, xs = sieve_draws(model, rng, reps, block_length=opts["block_length"])
     raw = kao_statistics(ys, xs, lags=opts["lags"], max_lags=opts["max_lags"],
-                         bandwidth=opts["bandwidth"])
+                         hac_lags=opts["hac_lags"])
     return kao_standardise(raw, ys.shape[1])
 
 
@@ -173,9 +173,9 @@ def pedroni_test(panel: Panel, dependent: str, regressors: str | Sequence[str], 
     block = relation_block(panel, dependent, cols, min_years=max(10, used_max + len(cols) + 8),
                            purpose=f"pedroni_test with lags up to {used_max}")
     n_units, n_years = block.n_units, block.n_years
-    band = bandwidth_option(hac_lags, n_years - 1)
+    band = hac_lags_option(hac_lags, n_years - 1)
     raw, adf_lags = pedroni_statistics(block.y[None], block.x[None], trend=trend, lags=lags,
-                                       max_lags=max_l, bandwidth=band)
+                                       max_lags=max_l, hac_lags=band)
     values = {name: float(raw[name][0]) for name in PEDRONI_NAMES}
     mu, var = PEDRONI_MOMENTS[trend][len(cols)]
 
@@ -187,7 +187,7 @@ def pedroni_test(panel: Panel, dependent: str, regressors: str | Sequence[str], 
     boot: dict[str, Any] = {}
     if inference == "bootstrap":
         model = fit_sieve(block.y, block.x, max_lags=max_l)
-        opts = {"trend": trend, "lags": lags, "max_lags": max_l, "bandwidth": band,
+        opts = {"trend": trend, "lags": lags, "max_lags": max_l, "hac_lags": band,
                 "block_length": length}
         draws = run_bootstrap(_pedroni_draw, (model, opts), reps=reps, seed=seed, executor=executor)
         boot = {"reps": reps, "block_length": length, "seed": seed_record(seed),
@@ -271,15 +271,15 @@ def kao_test(panel: Panel, dependent: str, regressors: str | Sequence[str], *,
     block = relation_block(panel, dependent, cols, min_years=max(8, used_max + 6),
                            purpose=f"kao_test with lags up to {used_max}")
     n_units, n_years = block.n_units, block.n_years
-    band = bandwidth_option(hac_lags, n_years - 1)
-    raw = kao_statistics(block.y[None], block.x[None], lags=lags, max_lags=max_l, bandwidth=band)
+    band = hac_lags_option(hac_lags, n_years - 1)
+    raw = kao_statistics(block.y[None], block.x[None], lags=lags, max_lags=max_l, hac_lags=band)
     standard = kao_standardise(raw, n_units)
     values = {name: float(standard[name][0]) for name in KAO_NAMES}
     draws = None
     boot: dict[str, Any] = {}
     if inference == "bootstrap":
         model = fit_sieve(block.y, block.x, max_lags=max_l)
-        opts = {"lags": lags, "max_lags": max_l, "bandwidth": band, "block_length": length}
+        opts = {"lags": lags, "max_lags": max_l, "hac_lags": band, "block_length": length}
         draws = run_bootstrap(_kao_draw, (model, opts), reps=reps, seed=seed, executor=executor)
         boot = {"reps": reps, "block_length": length, "seed": seed_record(seed),
                 "sieve_lags": model.order.tolist(),

@@ -56,7 +56,7 @@ def main(n_units: int = 500, n_years: int = 40) -> None:
     yb, xb = yl[:20, :30], xl[:20, :30]
     model = fit_sieve(yb, xb, max_lags=2)
     ys, xs = sieve_draws(model, np.random.default_rng(1), 199)
-    opts = {"trend": "constant", "lags": "aic", "max_lags": 2, "bandwidth": 3}
+    opts = {"trend": "constant", "lags": "aic", "max_lags": 2, "hac_lags": 3}
 
     def batched():
         return pedroni_statistics(ys, xs, **opts)[0]["group ADF"]
