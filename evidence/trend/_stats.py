@@ -199,10 +199,40 @@ def _store(out: dict[str, np.ndarray], name: str, est: np.ndarray, se: np.ndarra
     out[f"est_{name}"], out[f"se_{name}"] = est, se
 
 
+def _quasi_gls(u: np.ndarray, x: np.ndarray, a: np.ndarray,
+               contrast: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """OLS of the quasi-differences ``u_1, u_t - a u_{t-1}`` on those of ``x``, one ``a`` per column.
+
+    ``u`` ``(T, m)``, ``x`` ``(T, k)``, ``a`` ``(m,)``. Every cross-product of quasi-differences is
+    a quadratic in ``a`` of plain cross-products (``Σ_t (x_t - a x_{t-1})(x_t - a x_{t-1})' =
+    A - a (B + B') + a² C``), so nothing of size ``(m, T, k)`` is formed. Returns the coefficients
+    ``(k, m)``, the residual variances ``e'e / (T - k)`` and ``c' (X*'X*)^-1 c`` per column.
+    """
+    n, k = x.shape
+    lag, cur = x[:-1], x[1:]
+    big_a, big_b, big_c = x.T @ x, cur.T @ lag, lag.T @ lag
+    a2 = a * a
+    xx = (big_a[None] - a[:, None, None] * (big_b + big_b.T)[None]
+          + a2[:, None, None] * big_c[None])                                    # (m, k, k)
+    xu = (x.T @ u - a * (cur.T @ u[:-1] + lag.T @ u[1:]) + a2 * (lag.T @ u[:-1])).T  # (m, k)
+    uu = (np.einsum("tm,tm->m", u, u) - 2.0 * a * np.einsum("tm,tm->m", u[1:], u[:-1])
+          + a2 * np.einsum("tm,tm->m", u[:-1], u[:-1]))
+    rhs = np.concatenate([xu[:, :, None], np.broadcast_to(contrast[None, :, None], (*xu.shape, 1))],
+                         axis=2)
+    try:
+        sol = np.linalg.solve(xx, rhs)
+    except np.linalg.LinAlgError:  # a dummy that quasi-differencing makes redundant
+        sol = np.linalg.pinv(xx) @ rhs
+    coef = sol[:, :, 0]
+    ssr = np.maximum(uu - np.einsum("mk,mk->m", coef, xu), 0.0)
+    return coef.T, ssr / (n - k), sol[:, :, 1] @ contrast
+
+
 def perron_yabu_parts(y: np.ndarray, d: Design | None = None) -> dict[str, np.ndarray]:
     """The pieces of Perron & Yabu's (2009) feasible quasi-GLS test of ``c'β``.
 
-    1. OLS residuals ``u_t`` on the trend terms (without further columns); the AR(1) coefficient
+    1. OLS residuals ``u_t`` on the design's columns (the trend terms and any further columns,
+       such as recession dummies; the calibration simulates the same estimator); the AR(1) coefficient
        ``α̂ = sum u_t u_{t-1} / sum u_{t-1}^2`` with the first-order bias correction
        ``α̂ + (1 + 3 α̂) / T`` for a fitted trend (in place of the paper's Roy–Fuller estimator),
        at most 1;
@@ -216,8 +246,6 @@ def perron_yabu_parts(y: np.ndarray, d: Design | None = None) -> dict[str, np.nd
     y = _as_2d(y)
     n = y.shape[0]
     d = design(n) if d is None else d
-    # the AR(1) estimate comes from the trend terms alone: further columns (recession dummies)
-    # would absorb the persistence the truncation has to see
     _, resid = _ols(y, d)
     alpha = (np.einsum("tn,tn->n", resid[1:], resid[:-1])
              / np.maximum(np.einsum("tn,tn->n", resid[:-1], resid[:-1]), 1e-300))
@@ -234,21 +262,12 @@ def perron_yabu_parts(y: np.ndarray, d: Design | None = None) -> dict[str, np.nd
     est = d.contrast @ coef
     se = np.sqrt(s2 * float(d.contrast @ diff_inv @ d.contrast))
     _store(out, "diff", est, se)
-    # a = α̂ (quasi-differences): one design per series
-    ys = np.vstack([y[:1], y[1:] - alpha * y[:-1]])                              # (T, m)
-    xs = np.concatenate([d.x[None, :1, :].repeat(y.shape[1], 0),
-                         d.x[None, 1:, :] - alpha[:, None, None] * d.x[None, :-1, :]],
-                        axis=1)                                                   # (m, T, k)
-    xtx = np.einsum("mtk,mtl->mkl", xs, xs)
-    try:
-        inv = np.linalg.inv(xtx)
-    except np.linalg.LinAlgError:  # a dummy that quasi-differencing makes redundant
-        inv = np.linalg.pinv(xtx)
-    coef = np.einsum("mkl,ml->mk", inv, np.einsum("mtl,tm->ml", xs, ys))
-    e = ys.T - np.einsum("mtk,mk->mt", xs, coef)
-    s2 = np.einsum("mt,mt->m", e, e) / (n - k)
-    _store(out, "gls", coef @ d.contrast,
-           np.sqrt(s2 * np.einsum("k,mkl,l->m", d.contrast, inv, d.contrast)))
+    # a = α̂ (quasi-differences): one design per series. GLS of y equals GLS of the OLS residuals
+    # plus the OLS coefficients (X b quasi-differences into the span of the quasi-differenced X),
+    # and the residuals keep the moments below free of cancellation.
+    coef, s2, var = _quasi_gls(resid, d.x, alpha, d.contrast)
+    ols_coef = d.xtx_inv @ d.x.T @ y                                             # (k, m)
+    _store(out, "gls", d.contrast @ (coef + ols_coef), np.sqrt(s2 * var))
     return out
 
 
