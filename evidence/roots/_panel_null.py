@@ -73,6 +73,10 @@ class PanelNull:
         lo = np.floor(pos).astype(int)
         return lo, np.minimum(lo + 1, grid.size - 1), pos - lo
 
+    def _row_weights(self, phi: float) -> tuple[int, int, float]:
+        lo, hi, w = self._weights(np.asarray(phi, dtype=float))
+        return int(lo), int(hi), float(w)
+
     def plugin_pvalue(self, stat: Any, phi: Any, tail: str = "lower") -> np.ndarray:
         """The share of draws at least as extreme, ``(count + 1)/(R + 1)``, in the rows around
         ``phi`` (interpolated linearly); vectorised over ``stat`` and ``phi``."""
@@ -109,7 +113,7 @@ class PanelNull:
         if self.phi_hat is None:
             return plug
         pivot = self._pivot(tail)
-        lo, hi, w = (int(v) if i < 2 else float(v) for i, v in enumerate(self._weights(np.asarray(phi))))
+        lo, hi, w = self._row_weights(phi)
         share = lambda g: (np.searchsorted(pivot[g], plug, side="right") + 1.0) / (pivot.shape[1] + 1.0)  # noqa: E731
         return float(min(1.0, (1.0 - w) * share(lo) + w * share(hi)))
 
@@ -121,7 +125,7 @@ class PanelNull:
         if grid.size == 1 or phi is None:
             row = self.draws[0 if grid.size == 1 else list(self.grid).index(0.0)]
             return {a: float(np.quantile(row, a)) for a in levels}
-        lo, hi, w = (int(v) if i < 2 else float(v) for i, v in enumerate(self._weights(np.asarray(phi))))
+        lo, hi, w = self._row_weights(phi)
         out = {}
         for a in levels:
             level = a
