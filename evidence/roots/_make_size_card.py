@@ -49,7 +49,7 @@ N_UNITS = 20
 YEARS = (30, 40)
 SINGLE_UNITS = 2
 #: Default panels per null process (``--reps``) and per alternative (``--power-reps``).
-REPS, POWER_REPS = 300, 200
+REPS, POWER_REPS = 600, 200
 #: Tests applied to single series (their entries have ``n_units`` 1).
 SINGLE = ("ADF", "Phillips-Perron", "DF-GLS", "KPSS", "Zivot-Andrews", "Lee-Strazicich")
 OUTPUT = Path(__file__).resolve().parents[1] / "_sizes" / "roots.json"
