@@ -17,7 +17,7 @@ from evidence.trend import MIN_YEARS, trend_batch
 from evidence.trend.robust import CALIBRATED
 
 __all__ = ["recession_years", "set_apart", "recession_dummies", "direction_tests", "latest_regime_test",
-           "decline_runs", "smoothed_run", "subwindow_shares", "hp_trends",
+           "decline_runs", "smoothed_run", "subwindow_shares", "subwindow_shares_batch", "hp_trends",
            "bootstrap_change_interval", "claim_level"]
 
 
@@ -198,29 +198,55 @@ def subwindow_shares(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray, *,
                      alpha: float, min_window: int, test: str) -> tuple[float, np.ndarray]:
     """Share of all sub-windows (every start and end year, at least ``min_window`` years) in
     which the claim holds under the same test, and the start × end matrix of outcomes (1 holds,
-    0 not, NaN too short). Sub-windows of one length are tested in one batch.
+    0 not, NaN too short). One unit of :func:`subwindow_shares_batch`.
     """
-    n = years.size
-    matrix = np.full((n, n), np.nan)
-    recession = recession_years(log_a)
+    return subwindow_shares_batch([(log_p, log_a, claim)], years.size, alpha=alpha,
+                                  min_window=min_window, test=test)[0]
+
+
+def subwindow_shares_batch(units: list[tuple[np.ndarray, np.ndarray, str]], n: int, *,
+                           alpha: float, min_window: int,
+                           test: str) -> list[tuple[float, np.ndarray]]:
+    """:func:`subwindow_shares` of several units of the same length ``n``: ``units`` holds each
+    unit's ``(log_p, log_a, claim)``. The sub-windows of one length are tested in one batch over
+    every unit (each column is tested on its own, so a unit's outcome does not depend on the
+    others in the batch).
+    """
+    k = len(units)
+    matrices = np.full((k, n, n), np.nan)
+    absolute = np.array([claim == "absolute" for _, _, claim in units])
+    log_a = np.column_stack([a for _, a, _ in units])                         # (n, k)
+    # recession changes set to zero (the critical values of the plain trend design, so the
+    # share is descriptive)
+    adjusted = np.column_stack([set_apart(p, recession_years(a)) for p, a, _ in units])
+    intensity = np.column_stack([p - a for p, a, _ in units])
     for length in range(min_window, n + 1):
         starts = np.arange(0, n - length + 1)
         idx = starts[None, :] + np.arange(length)[:, None]  # (length, windows)
-        if claim == "absolute":
-            up = trend_batch(log_a[idx], test=test, alternative="increase", alpha=alpha)["pvalue"]
-            # recession changes set to zero (one batch per length; the critical values of the
-            # plain trend design, so the share is descriptive)
-            adjusted = set_apart(log_p, recession)
-            down = trend_batch(adjusted[idx], test=test, alternative="decrease",
-                               alpha=alpha)["pvalue"]
-            holds = (down < alpha) & (up < alpha)
-        else:
-            down = trend_batch((log_p - log_a)[idx], test=test, alternative="decrease",
-                               alpha=alpha)["pvalue"]
-            holds = down < alpha
-        matrix[starts, starts + length - 1] = holds.astype(float)
-    finite = np.isfinite(matrix)
-    return (float(matrix[finite].mean()) if finite.any() else math.nan), matrix
+        holds = np.zeros((starts.size, k), dtype=bool)
+        if absolute.any():
+            cols = np.flatnonzero(absolute)
+            holds[:, cols] = ((_window_pvalues(adjusted[:, cols], idx, test, "decrease", alpha) < alpha)
+                              & (_window_pvalues(log_a[:, cols], idx, test, "increase", alpha) < alpha))
+        if (~absolute).any():
+            cols = np.flatnonzero(~absolute)
+            holds[:, cols] = _window_pvalues(intensity[:, cols], idx, test, "decrease", alpha) < alpha
+        matrices[:, starts, starts + length - 1] = holds.T.astype(float)
+    out = []
+    for matrix in matrices:
+        finite = np.isfinite(matrix)
+        out.append(((float(matrix[finite].mean()) if finite.any() else math.nan), matrix))
+    return out
+
+
+def _window_pvalues(values: np.ndarray, idx: np.ndarray, test: str, alternative: str,
+                    alpha: float) -> np.ndarray:
+    """p-values of the trend test on every window ``idx`` ``(length, windows)`` of every column of
+    ``values`` ``(n, c)``, as ``(windows, c)``, in one batch."""
+    length, windows = idx.shape
+    batch = values[idx].reshape(length, windows * values.shape[1])
+    out = trend_batch(batch, test=test, alternative=alternative, alpha=alpha)["pvalue"]
+    return out.reshape(windows, values.shape[1])
 
 
 def _window_recessions(recession: np.ndarray, start: int, length: int) -> np.ndarray:

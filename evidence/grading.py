@@ -163,24 +163,35 @@ class GradeResult(ResultProtocol):
 
 # ----------------------------------------------------------------------------- one unit
 def _latest_break(log_p: np.ndarray, years: np.ndarray, crit: Criteria) -> dict[str, Any]:
-    """The latest trend break of ``ln P`` by :func:`evidence.breaks.find_breaks` (reported only)."""
-    from evidence.breaks import find_breaks
+    """The latest trend break of ``ln P`` (reported only): Bai–Perron global least squares with
+    the number of breaks chosen by BIC — the partition and last-regime slope that
+    :func:`evidence.breaks.find_breaks` gives with ``model="trend", select="bic"`` (to rounding), from its
+    arithmetic alone (no tests or intervals, which the grade does not use)."""
+    from evidence.breaks._batch import piecewise_fit
+    from evidence.breaks._input import check_breaks
+    from evidence.breaks.find import information_criteria
+    from evidence.breaks.segment import optimal_partitions, ssr_tables
 
     status = ("reported only: the break search (Bai-Perron, BIC) is not shown to hold its size "
               "under autocorrelated noise at this length; the rung uses the test of the latest "
               f"{crit.sustained_years} years instead")
     trim = next((t for t in (crit.trim, 0.20, 0.25) if t >= crit.trim and
                  math.floor(t * years.size) >= 3), crit.trim)
+    n = log_p.size
     try:
-        res = find_breaks(pd.Series(log_p, index=years), model="trend",
-                          max_breaks=crit.max_breaks, trim=trim, select="bic")
+        h = check_breaks("ln P", n, 2, 0, trim, crit.max_breaks, int(years[0]), int(years[-1]))
     except (DataError, SpecError) as exc:
         return {"latest_break": None, "break_slope": math.nan, "break_years": None,
                 "break_status": f"not searched: {exc}"}
-    slopes = res.regimes.xs("trend", level="term")["estimate"].to_numpy()
-    return {"latest_break": res.break_years[-1] if res.break_years else None,
-            "break_slope": float(slopes[-1]) if slopes.size else math.nan,
-            "break_years": list(res.break_years), "break_trim": trim, "break_status": status}
+    y = np.asarray(log_p, dtype=float)[None]
+    ssr, breaks = optimal_partitions(ssr_tables(y, "trend", h), crit.max_breaks, h)
+    bic, _ = information_criteria(ssr[0], n, 2, 0)
+    m = int(np.nanargmin(bic))
+    cut = breaks[0, m, :m]
+    slope = float(piecewise_fit(y, cut[None], "trend")["slope"][0, -1])
+    found = [int(years[b]) for b in cut]
+    return {"latest_break": found[-1] if found else None, "break_slope": slope,
+            "break_years": found, "break_trim": trim, "break_status": status}
 
 
 def _unit_axes(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray, crit: Criteria,
@@ -199,10 +210,8 @@ def _unit_axes(log_p: np.ndarray, log_a: np.ndarray, years: np.ndarray, crit: Cr
                                          math.expm1(log_p[-1] - log_p[0]))[0])
     claim = "absolute" if rec["pressure_trend"] < 0 < rec["activity_trend"] else "relative"
     rec["claim_tested"] = claim
-    share, matrix = (axes.subwindow_shares(log_p, log_a, years, claim=claim, alpha=crit.alpha,
-                                           min_window=min(crit.min_window, years.size), test=test)
-                     if crit.subwindows else (math.nan, np.full((years.size,) * 2, np.nan)))
-    rec["subwindow_share"], rec["subwindow_matrix"] = share, matrix
+    # the sub-window axis is added by _chunk_axes, for the units of a chunk at once
+    rec["subwindow_share"], rec["subwindow_matrix"] = math.nan, np.full((years.size,) * 2, np.nan)
     trend_p, trend_a = axes.hp_trends(log_p, log_a, crit.smoothing)
     smooth_p, smooth_a = np.polyfit(years, trend_p, 1)[0], np.polyfit(years, trend_a, 1)[0]
     rec["survives_filter"] = (bool(smooth_p < 0 < smooth_a) if claim == "absolute"
@@ -378,8 +387,22 @@ def _in_chunks(runner: Any, func: Any, items: list[Any]) -> list[Any]:
 
 def _chunk_axes(blocks: list[tuple[np.ndarray, np.ndarray]], crit: Criteria,
                 with_break: bool) -> list[dict[str, Any]]:
-    """The axes of a chunk of units (one task of the executor)."""
-    return [_unit_axes(logs[:, 0], logs[:, 1], years, crit, with_break) for logs, years in blocks]
+    """The axes of a chunk of units (one task of the executor); the sub-window axis in one batch
+    per span length."""
+    recs = [_unit_axes(logs[:, 0], logs[:, 1], years, crit, with_break) for logs, years in blocks]
+    if crit.subwindows:
+        by_length: dict[int, list[int]] = {}
+        for i, (_, years) in enumerate(blocks):
+            by_length.setdefault(int(years.size), []).append(i)
+        for n, members in by_length.items():
+            units = [(blocks[i][0][:, 0], blocks[i][0][:, 1], recs[i]["claim_tested"])
+                     for i in members]
+            shares = axes.subwindow_shares_batch(units, n, alpha=crit.alpha,
+                                                 min_window=min(crit.min_window, n),
+                                                 test=crit.trend_test)
+            for i, (share, matrix) in zip(members, shares, strict=True):
+                recs[i]["subwindow_share"], recs[i]["subwindow_matrix"] = share, matrix
+    return recs
 
 
 def _collect(pressure: str, blocks: dict[str, tuple[np.ndarray, np.ndarray]],
