@@ -125,3 +125,31 @@ def test_cli_battery_on_every_demo_column(capsys):
     for column in ev.demo_panel().columns:
         assert main(["roots", DEMO_CSV, "--column", column]) == 0, column
         assert "decision" in capsys.readouterr().out
+
+
+@pytest.mark.parametrize("options", [{"tests": ("adf", "pp", "kpss"), "trend": "trend"},
+                                     {"tests": ("adf", "kpss", "dfgls"), "trend": "constant",
+                                      "lags": 1},
+                                     {"tests": ("adf",), "trend": "none", "lags": "bic"}])
+def test_batched_series_tests_equal_the_one_unit_path(monkeypatch, options):
+    # The battery computes ADF, PP and KPSS for all units of a length at once; every row must
+    # equal the one the one-unit functions (arch's statistics) give, on an unbalanced panel.
+    from evidence.roots import battery
+
+    rng = np.random.default_rng(8)
+    years = np.arange(1990, 2022)
+    frames = []
+    for i in range(9):
+        y = np.cumsum(0.02 + 0.03 * rng.standard_normal(years.size))
+        keep = years >= (1990 + 4 * (i % 3))            # three different spans
+        frames.append(pd.DataFrame({"unit": f"u{i}", "year": years[keep], "y": y[keep]}))
+    panel = ev.load_panel(pd.concat(frames), unit="unit", time="year")
+    batched = root_battery(panel, "y", **options)
+    monkeypatch.setattr(battery, "BATCHED", ())
+    plain = root_battery(panel, "y", **options)
+    num = ["statistic", "pvalue", "cv"]
+    np.testing.assert_allclose(batched.table[num].to_numpy(float), plain.table[num].to_numpy(float),
+                               rtol=1e-8, atol=1e-10)
+    other = [c for c in plain.table.columns if c not in num]
+    pd.testing.assert_frame_equal(batched.table[other], plain.table[other])
+    pd.testing.assert_frame_equal(batched.decisions, plain.decisions)

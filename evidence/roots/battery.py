@@ -193,6 +193,75 @@ def _panel_test(test: str, panel: Panel, column: str, trend: Trend, lags: Any, m
     return panel_tests.cips_test(panel, column, trend=trend)
 
 
+#: Series tests the battery computes for all units of a panel at once (equal to the one-unit
+#: functions: the same statistics, tables and warnings; ``tests/test_roots_battery.py``).
+BATCHED = ("adf", "pp", "kpss")
+
+
+def _batched_rows(panel: Panel, column: str, series: str, tests: tuple[str, ...], trend: Trend,
+                  lags: Any, max_lags: Any, alpha: float) -> dict[tuple[str, str, str], dict[str, Any]]:
+    """Rows of the :data:`BATCHED` tests for every unit of ``column``, computed per span length
+    in one batch; empty when any unit needs the one-unit path (a gap, a short or constant unit,
+    a unit without values, a singular regression), whose error rows say why."""
+    from evidence._hac import newey_west_lags
+    from evidence.roots._calibrate import TAILS, phi_hat_of, unit_null
+    from evidence.roots._common import N_DETERMINISTIC, column_block, lag_bound, size_details
+    from evidence.roots._unit_batch import adf_select, adf_tstats, kpss_eta, pp_tau
+
+    mine = [t for t in tests if t in BATCHED]
+    if not mine:
+        return {}
+    fixed = lags if isinstance(lags, int) else None
+    kpss_trend = _with_constant(trend)
+    need = max(4 + N_DETERMINISTIC[kpss_trend if t == "kpss" else trend]
+               + ((fixed or 0) if t == "adf" else 0) for t in mine)
+    try:
+        block = column_block(panel, column, min_obs=need, purpose="the unit-root battery")
+    except (DataError, SpecError):
+        return {}
+    if len(block.excluded):
+        return {}
+    out: dict[tuple[str, str, str], dict[str, Any]] = {}
+    for length in np.unique(block.lengths):
+        members = np.flatnonzero(block.lengths == length)
+        y = np.column_stack([block.unit_values(int(i)) for i in members])
+        n = int(length)
+        for test in mine:
+            tr = kpss_trend if test == "kpss" else trend
+            kind, name = {"adf": ("adf", "ADF"), "pp": ("pp", "Phillips-Perron"),
+                          "kpss": ("kpss", "KPSS")}[test]
+            with np.errstate(all="ignore"):
+                if test == "adf":
+                    if fixed is not None:
+                        stat, order, bound = adf_tstats(y, tr, fixed), np.full(y.shape[1], fixed), None
+                    else:
+                        bound = lag_bound(n, tr) if max_lags is None else max_lags
+                        stat, order, _ = adf_select(y, tr, bound, lags)
+                    table = unit_null(kind, n, tr, lags=fixed, max_lags=bound or 0,
+                                      rule=lags if fixed is None else "aic")
+                    shown = [str(int(v)) for v in order]
+                else:
+                    band = newey_west_lags(n)
+                    stat = (pp_tau if test == "pp" else kpss_eta)(y, tr, band)
+                    table = unit_null(kind, n, tr, hac_lags=band)
+                    shown = [str(band)] * y.shape[1]
+            if not np.isfinite(stat).all():
+                return {}
+            phi = phi_hat_of(kind, y, tr)
+            pvalue = table.pvalue(stat, phi, tail=TAILS[kind])
+            _, warn = size_details(name, None, n, "simulated", tr)
+            note = "; ".join(warn)
+            for j, i in enumerate(members):
+                cv = table.quantiles(float(phi[j]), (0.01, 0.05, 0.10), tail=TAILS[kind])
+                p = float(pvalue[j])
+                out[(block.units[int(i)], series, test)] = {
+                    "unit": block.units[int(i)], "series": series, "test": test,
+                    "statistic": float(stat[j]), "pvalue": p,
+                    "cv": cv.get(round(alpha, 2), math.nan), "lags": shown[j],
+                    "reject": bool(p < alpha), "note": note}
+    return out
+
+
 def _row(unit: str, series: str, test: str, res: TestResult, alpha: float) -> dict[str, Any]:
     lags = res.details.get("lags", res.details.get("hac_lags", ""))
     if isinstance(lags, (list, tuple)):
@@ -250,6 +319,16 @@ def _decide(rows: list[dict[str, Any]], differences: bool) -> tuple[str, str]:
     if diff == "stationary":
         return "I(1)", f"levels: {level_words}; differences: {diff_words}"
     return "inconclusive", f"levels: {level_words}; differences not clearly stationary: {diff_words}"
+
+
+def _unit_series(data: Any, dpanel: Any, unit: str, column: str | None, diff_name: str,
+                 series: str, given: pd.Series | None) -> pd.Series:
+    """One unit's levels or first differences (``given``: the series of a one-series battery)."""
+    if given is not None:
+        return given if series == "level" else given.diff()
+    if series == "level":
+        return data.series(unit, column).rename(f"{unit}: {column}")
+    return dpanel.series(unit, diff_name)
 
 
 def _span(y: pd.Series) -> str:
@@ -313,18 +392,30 @@ def root_battery(data: Panel | pd.Series | np.ndarray, column: str | None = None
     if is_panel:
         assert isinstance(data, Panel) and column is not None  # checked above
         dpanel = data.with_difference(column, name=diff_name) if differences else None
-        units = [(u, data.series(u, column).rename(f"{u}: {column}")) for u in data.units]
+        units = [(u, None) for u in data.units]   # each unit's series is read when needed
     else:
         dpanel = None
         y = data if isinstance(data, pd.Series) else pd.Series(
             np.asarray(data, dtype=float), index=np.arange(1, np.asarray(data).size + 1))
         units = [(str(y.name) if y.name is not None else "series", y)]
-    for unit, y in units:
-        diff = dpanel.series(unit, diff_name) if is_panel and dpanel is not None else y.diff()
-        for series, values, tr in (("level", y, trend), ("difference", diff, diff_trend)):
+    batched: dict[tuple[str, str, str], dict[str, Any]] = {}
+    if is_panel:
+        assert isinstance(data, Panel) and column is not None  # checked above
+        batched.update(_batched_rows(data, column, "level", chosen, trend, lags, max_lags, alpha))
+        if dpanel is not None:
+            batched.update(_batched_rows(dpanel, diff_name, "difference", chosen, diff_trend,
+                                         lags, max_lags, alpha))
+    for unit, given in units:
+        for series, tr in (("level", trend), ("difference", diff_trend)):
             if series == "difference" and not differences:
                 continue
+            values: pd.Series | None = None
             for test in (t for t in chosen if t in SERIES_TESTS):
+                if (unit, series, test) in batched:
+                    rows.append(batched[(unit, series, test)])
+                    continue
+                if values is None:
+                    values = _unit_series(data, dpanel, unit, column, diff_name, series, given)
                 try:
                     rows.append(_row(unit, series, test, _series_test(test, values, tr, lags,
                                                                        max_lags), alpha))
