@@ -67,17 +67,23 @@ def ar_residuals(wide: np.ndarray, trend: str) -> tuple[np.ndarray, np.ndarray]:
 
 
 def dependence_statistics(u: np.ndarray) -> np.ndarray:
-    """CD, LM, scaled LM and bias-corrected LM of balanced residual panels ``(R, T, N)``: ``(4, R)``."""
+    """CD, LM, scaled LM and bias-corrected LM of balanced residual panels ``(R, T, N)``: ``(4, R)``.
+
+    With ``z_i`` the demeaned, unit-norm residuals of unit ``i``: ``Σ_{i<j} ρ_ij =
+    (||Σ_i z_i||² − N) / 2`` and ``Σ_{i<j} ρ_ij² = (||Z Z'||²_F − N) / 2`` (``Z`` is ``T × N``),
+    so the cost is ``O(T² N)`` per panel rather than ``O(T N²)`` for the N × N correlations.
+    """
     _, nobs, n_units = u.shape
     u = u - u.mean(axis=1, keepdims=True)
     u = u / np.sqrt(np.einsum("rtn,rtn->rn", u, u))[:, None, :]
-    corr = np.einsum("rti,rtj->rij", u, u)
-    iu = np.triu_indices(n_units, k=1)
-    rho = corr[:, iu[0], iu[1]]
-    pairs = rho.shape[1]
-    cd = np.sqrt(nobs) * rho.sum(axis=1) / np.sqrt(pairs)
-    lm = nobs * np.sum(rho ** 2, axis=1)
-    scaled = np.sum(nobs * rho ** 2 - 1.0, axis=1) / np.sqrt(2.0 * pairs)
+    total = u.sum(axis=2)                                            # (R, T)
+    rho_sum = (np.einsum("rt,rt->r", total, total) - n_units) / 2.0
+    gram = np.einsum("rtn,rsn->rts", u, u)                          # (R, T, T)
+    rho_sq = (np.einsum("rts,rts->r", gram, gram) - n_units) / 2.0
+    pairs = n_units * (n_units - 1) / 2.0
+    cd = np.sqrt(nobs) * rho_sum / np.sqrt(pairs)
+    lm = nobs * rho_sq
+    scaled = (nobs * rho_sq - pairs) / np.sqrt(2.0 * pairs)
     corrected = scaled - n_units / (2.0 * (nobs - 1))
     return np.stack([cd, lm, scaled, corrected])
 
