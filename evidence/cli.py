@@ -35,6 +35,7 @@ from evidence._files import DEFAULT_MAX_MB
 from evidence._version import __version__
 from evidence.errors import EvidenceError
 from evidence.indicators import rates
+from evidence.parallel import one_blas_thread
 from evidence.study import run_demo, run_study
 from evidence.study.spec import check_executor
 from evidence.tables import audit_table, rates_table, render_frame
@@ -227,7 +228,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     previous = _install_signals()
     limit = os.environ.get("EVIDENCE_MAX_INPUT_MB")
     try:
-        return _dispatch(args, debug)
+        with one_blas_thread():
+            return _dispatch(args, debug)
     finally:
         for signum, handler in previous.items():
             signal.signal(signum, handler)

@@ -42,7 +42,7 @@ from evidence._validation import (
 from evidence.errors import DataError, SpecError
 from evidence.indicators import budget_rate, tapio_class
 from evidence.panel import Panel
-from evidence.parallel import ExecutorLike, using_executor
+from evidence.parallel import ExecutorLike, one_blas_thread, using_executor
 from evidence.results import ResultProtocol
 from evidence.trend import MIN_YEARS, TREND_TESTS, test_label, trend_batch
 
@@ -345,7 +345,7 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
     records: dict[tuple[str, str], dict[str, Any]] = {}
     excluded: list[dict[str, Any]] = []
     spans: list[int] = []
-    with using_executor(executor) as runner:
+    with using_executor(executor) as runner, one_blas_thread():
         for pressure in pressures:
             blocks = _unit_blocks(panel, [pressure, activity], (start, end), crit, excluded)
             axes_of = _in_chunks(runner, partial(_chunk_axes, crit=crit, with_break=latest_break),

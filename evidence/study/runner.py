@@ -27,7 +27,7 @@ from evidence._validation import format_years
 from evidence._version import __version__
 from evidence.errors import DataError, EvidenceError
 from evidence.panel import Panel, load_panel
-from evidence.parallel import ExecutorLike, using_executor
+from evidence.parallel import ExecutorLike, one_blas_thread, using_executor
 from evidence.results import ResultProtocol
 from evidence.study import figures as figs
 from evidence.study._long import shorten_rows
@@ -229,7 +229,7 @@ def run_study(spec: str | Path | StudySpec, out: str | Path = "results", *,
         chosen = check_executor(chosen)
     inputs = [spec.data_file, *([source] if source is not None else [])]
     hashes = _input_hashes(spec, source)
-    with OutputFolder(out, overwrite=overwrite, inputs=inputs) as folder:
+    with OutputFolder(out, overwrite=overwrite, inputs=inputs) as folder, one_blas_thread():
         return run_into(spec, folder, chosen, hashes, progress=progress)
 
 
