@@ -35,7 +35,7 @@ from evidence._files import DEFAULT_MAX_MB
 from evidence._version import __version__
 from evidence.errors import EvidenceError
 from evidence.indicators import rates
-from evidence.parallel import one_blas_thread
+from evidence.parallel import one_blas_thread, reporting
 from evidence.study import run_demo, run_study
 from evidence.study.spec import check_executor
 from evidence.tables import audit_table, rates_table, render_frame
@@ -94,8 +94,9 @@ def demo(out: Path, executor: str | None, overwrite: bool, quiet: bool) -> None:
     executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("demo study: analyses", quiet=quiet)
     try:
-        result = run_demo(out, executor=executor, overwrite=overwrite,
-                          progress=progress.update if progress else None)
+        with reporting(progress.units if progress else None):
+            result = run_demo(out, executor=executor, overwrite=overwrite,
+                              progress=progress.update if progress else None)
     finally:
         if progress:
             progress.close()
@@ -151,7 +152,7 @@ def study(spec: Path, out: Path, executor: str | None, overwrite: bool, quiet: b
     executor = None if executor is None else check_executor(executor, "--executor")
     progress = progress_bar("study: analyses", quiet=quiet)
     try:
-        with profiling(profile):
+        with profiling(profile), reporting(progress.units if progress else None):
             result = run_study(spec, out, executor=executor, overwrite=overwrite,
                                progress=progress.update if progress else None)
     finally:

@@ -42,7 +42,7 @@ from evidence._validation import (
 from evidence.errors import DataError, SpecError
 from evidence.indicators import budget_rate, tapio_class
 from evidence.panel import Panel
-from evidence.parallel import ExecutorLike, one_blas_thread, using_executor
+from evidence.parallel import ExecutorLike, one_blas_thread, unit_progress, using_executor
 from evidence.results import ResultProtocol
 from evidence.trend import MIN_YEARS, TREND_TESTS, test_label, trend_batch
 
@@ -349,7 +349,7 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
         for pressure in pressures:
             blocks = _unit_blocks(panel, [pressure, activity], (start, end), crit, excluded)
             axes_of = _in_chunks(runner, partial(_chunk_axes, crit=crit, with_break=latest_break),
-                                 list(blocks.values()))
+                                 list(blocks.values()), f"grade of {pressure}: units")
             other = (consumption or {}).get(pressure)
             gaps = (_basis_gaps(panel, pressure, other, activity, (start, end), crit, runner)
                     if other and blocks else {})
@@ -378,11 +378,15 @@ def grade(panel: Panel, pressures: Sequence[str] | str, activity: str, *,
 CHUNK = 25
 
 
-def _in_chunks(runner: Any, func: Any, items: list[Any]) -> list[Any]:
+def _in_chunks(runner: Any, func: Any, items: list[Any], label: str = "grade") -> list[Any]:
     """``func`` (taking a list of items, returning a list) over ``items`` in chunks of
-    :data:`CHUNK` through the executor; the results in the order of ``items``."""
+    :data:`CHUNK` through the executor; the results in the order of ``items``. Units done are
+    reported under ``label`` (:func:`evidence.parallel.unit_progress`)."""
     tasks = [items[k:k + CHUNK] for k in range(0, len(items), CHUNK)]
-    return list(chain.from_iterable(runner.map(func, tasks))) if tasks else []
+    if not tasks:
+        return []
+    progress = unit_progress(label, [len(t) for t in tasks])
+    return list(chain.from_iterable(runner.map(func, tasks, progress=progress)))
 
 
 def _chunk_axes(blocks: list[tuple[np.ndarray, np.ndarray]], crit: Criteria,
@@ -464,7 +468,8 @@ def _basis_gaps(panel: Panel, pressure: str, other: str, activity: str, window: 
     """Gap between the bases per unit over the longest span in which both (and activity) exist."""
     sink: list[dict[str, Any]] = []
     blocks = _unit_blocks(panel, [pressure, other, activity], window, crit, sink)
-    found = _in_chunks(runner, partial(_chunk_gaps, crit=crit), list(blocks.values()))
+    found = _in_chunks(runner, partial(_chunk_gaps, crit=crit), list(blocks.values()),
+                       f"basis gap of {pressure}: units")
     return dict(zip(blocks, found, strict=True))
 
 

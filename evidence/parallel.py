@@ -13,6 +13,7 @@ import os
 from collections.abc import Callable, Iterator, Sequence
 from concurrent.futures import ProcessPoolExecutor
 from contextlib import contextmanager
+from contextvars import ContextVar
 from typing import Any, Protocol, TypeVar, cast
 
 import numpy as np
@@ -23,12 +24,39 @@ from evidence.errors import SpecError
 
 __all__ = ["BACKENDS", "Executor", "SerialExecutor", "ProcessExecutor", "DaskExecutor",
            "get_executor", "using_executor", "task_seeds", "run_tasks", "ExecutorLike",
-           "one_blas_thread"]
+           "one_blas_thread", "reporting", "unit_progress"]
 
 BACKENDS = ("serial", "processes", "dask")
 T = TypeVar("T")
 R = TypeVar("R")
 Progress = Callable[[int, int], None]
+
+
+_REPORTER: ContextVar[Callable[[str, int, int], None] | None] = ContextVar("evidence_reporter",
+                                                                          default=None)
+
+
+@contextmanager
+def reporting(callback: Callable[[str, int, int], None] | None) -> Iterator[None]:
+    """Inside the block, long per-unit steps call ``callback(label, done, total)`` (units done so
+    far of ``total``); the command line draws it as a progress line with rate and time left."""
+    token = _REPORTER.set(callback)
+    try:
+        yield
+    finally:
+        _REPORTER.reset(token)
+
+
+def unit_progress(label: str, sizes: Sequence[int]) -> Progress | None:
+    """An executor ``progress`` callback that reports units (not tasks) under ``label``, or
+    ``None`` when nothing listens; ``sizes`` holds the number of units of each task."""
+    callback = _REPORTER.get()
+    if callback is None:
+        return None
+    done = np.cumsum([0, *sizes])
+    total = int(done[-1])
+    callback(label, 0, total)
+    return lambda finished, _tasks: callback(label, int(done[finished]), total)
 
 
 @contextmanager

@@ -54,3 +54,34 @@ def test_cache_round_trip(tmp_path, monkeypatch):
     assert cache_key("demo", params) == cache_key("demo", dict(reversed(params.items())))
     monkeypatch.setenv("EVIDENCE_CACHE_DIR", "off")
     assert load_cached("demo", params) is None
+
+
+def test_grade_reports_units_done_to_a_listener():
+    # Long per-unit steps report units done / total to whoever listens (the command line draws
+    # it with the rate and the time left); with no listener nothing is reported.
+    import evidence as ev
+    from evidence.parallel import reporting, unit_progress
+
+    panel = ev.demo_panel()
+    calls = []
+    with reporting(lambda label, done, total: calls.append((label, done, total))):
+        res = ev.grade(panel, ["ghg_territorial"], "gdp", latest_break=False)
+    mine = [c for c in calls if c[0].startswith("grade of ghg_territorial")]
+    assert mine[0][1] == 0 and mine[-1][1] == mine[-1][2] == len(res.table)
+    assert [c[1] for c in mine] == sorted(c[1] for c in mine)
+    assert unit_progress("nobody listens", [3, 4]) is None
+
+
+def test_progress_bar_shows_units_rate_and_time_left():
+    from evidence._commands._common import _Progress
+
+    bar = _Progress("study: analyses")
+    try:
+        bar.units("grade: units", 0, 50)
+        bar.units("grade: units", 25, 50)
+        task = bar._bar.tasks[-1]
+        assert task.completed == 25 and "/s" in task.description and "left" in task.description
+        bar.units("grade: units", 50, 50)
+        assert len(bar._bar.tasks) == 1
+    finally:
+        bar.close()

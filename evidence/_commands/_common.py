@@ -8,6 +8,7 @@ import sys
 import tempfile
 from collections.abc import Callable
 from pathlib import Path
+from typing import Any
 
 import click
 
@@ -124,10 +125,29 @@ class _Progress:
         self._bar = Progress(TextColumn("{task.description}"), BarColumn(), MofNCompleteColumn(),
                              TimeElapsedColumn(), console=Console(stderr=True), transient=True)
         self._task = self._bar.add_task(label, total=None)
+        self._units: dict[str, Any] = {}
         self._bar.start()
 
     def update(self, done: int, total: int) -> None:
         self._bar.update(self._task, completed=done, total=total)
+
+    def units(self, label: str, done: int, total: int) -> None:
+        """A second line for a long per-unit step: units done / total, rate and time left."""
+        import time
+
+        now = time.monotonic()
+        if label not in self._units or done == 0:
+            if label in self._units:
+                self._bar.remove_task(self._units[label][0])
+            self._units[label] = (self._bar.add_task(label, total=total), now)
+        task, start = self._units[label]
+        rate = done / max(now - start, 1e-9)
+        left = f", {(total - done) / rate:.0f} s left" if 0 < done < total else ""
+        self._bar.update(task, completed=done, total=total,
+                         description=f"{label} ({rate:.1f}/s{left})" if done else label)
+        if done >= total:
+            self._bar.remove_task(task)
+            del self._units[label]
 
     def close(self) -> None:
         self._bar.stop()
