@@ -161,3 +161,20 @@ def test_power_against_a_two_percent_decline():
     # 2 %/yr decline, AR(1) rho 0.5 noise with innovations of 3 %, T = 30
     power = _rate("perron-yabu", 30, 0.5, 10000, 15, slope=-0.02, scale=0.03)
     assert power > 0.9
+
+
+def test_calibration_pieces_equal_the_perron_yabu_parts():
+    # The design calibrations compute the Perron-Yabu pieces from cross-products of the noise
+    # with the design; they must equal perron_yabu_parts on the same series (to rounding).
+    from evidence._grading_axes import recession_dummies
+    from evidence.trend import _calibrate, _stats
+
+    recession = np.zeros(30, dtype=bool)
+    recession[[9, 10, 11, 20]] = True
+    for segment in (None, 10):
+        d = _stats.with_columns(_stats.design(30, segment), recession_dummies(recession))
+        for _rho, u, sums in _calibrate._noise(30, segment, "py", 500, 7):
+            fast = _calibrate._py_pieces(u, sums, d)
+            plain = _stats.perron_yabu_parts(u, d)
+            for key in ("alpha", "t_gls", "t_diff"):
+                np.testing.assert_allclose(fast[key], plain[key], rtol=1e-9, atol=1e-12)
