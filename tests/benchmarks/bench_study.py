@@ -300,8 +300,11 @@ def main() -> None:
               f"{peak:,.0f} MiB (this process {ours['peak_mib']:,.0f}, largest worker "
               f"{ours['peak_child_mib']:,.0f}); {ours['files']} files, {ours['figures']} figures (PNG); "
               f"{ours['new_cache_entries']} null distributions simulated and cached on this run")
-        print(f"  goals at 3,000 units: < 180 s {'met' if ours['seconds'] < 180 else 'NOT met'}, "
-              f"< 4 GB {'met' if peak < 4096 else 'NOT met'}")
+        if args.units >= 3000:
+            print(f"  goals at 3,000 units: < 180 s {'met' if ours['seconds'] < 180 else 'NOT met'}, "
+                  f"< 4 GB {'met' if peak < 4096 else 'NOT met'}")
+        else:
+            print(f"  (the goals are stated at 3,000 units; this run has {args.units})")
         frame = pd.read_csv(folder / "counties.csv")
         per_ref = reference_seconds_per_unit(frame, args.reference_units)
         per_ours = ours["seconds"] / args.units
