@@ -198,3 +198,18 @@ def test_serial_and_process_executors_agree():
     a = pedroni_test(panel, "y", "x1", reps=60, seed=4)
     b = pedroni_test(panel, "y", "x1", reps=60, seed=4, executor="processes")
     assert [r.pvalue for r in a] == [r.pvalue for r in b]
+
+
+def test_drifts_are_shrunk_towards_the_panel_mean_only_as_far_as_their_noise():
+    # Empirical Bayes: equal true drifts estimated with noise collapse to their mean; drifts that
+    # differ by far more than their noise are kept.
+    from evidence.cointegration._sieve import shrunk_drifts
+
+    rng = np.random.default_rng(3)
+    noise = np.full((40, 1), 0.01 ** 2)
+    same = 0.02 + 0.01 * rng.standard_normal((40, 1))
+    shrunk = shrunk_drifts(same, noise)
+    assert np.std(shrunk) < 0.5 * np.std(same)
+    assert abs(shrunk.mean() - same.mean()) < 1e-12
+    apart = np.linspace(-0.2, 0.2, 40)[:, None] + 0.01 * rng.standard_normal((40, 1))
+    np.testing.assert_allclose(shrunk_drifts(apart, noise), apart, atol=0.002)

@@ -10,7 +10,8 @@ the bootstrap keeps
 
 * the drift of every series that drifts: regressors that drift change the limit of the
   residual-based statistics (Hansen 1992), and the bootstrap reproduces the drift the data have.
-  A variable's drifts are kept only when the panel shows drift (:func:`drifts`): the statistics
+  A variable's drifts are kept only when the panel shows drift (:func:`drifts`), each shrunk
+  towards the panel's mean drift (:func:`shrunk_drifts`): the statistics
   depend on the drift through ``μ √T / σ``, which the sample mean estimates with an error of order
   one, so a drift estimated where there is none would put a spurious trend into the bootstrap
   panels (measured: Pedroni's bootstrap rejected 0–2 % at 5 % nominal when every estimated drift
@@ -50,8 +51,8 @@ from evidence._resample import (
     var_design,
 )
 
-__all__ = ["SieveModel", "fit_sieve", "sieve_draws", "drifts", "drift_tstats", "DRIFT_T",
-           "bias_corrected"]
+__all__ = ["SieveModel", "fit_sieve", "sieve_draws", "drifts", "drift_tstats", "shrunk_drifts",
+           "DRIFT_T", "bias_corrected"]
 
 #: Periods simulated and discarded before each bootstrap sample (the VAR starts at its mean).
 BURN = 30
@@ -72,6 +73,26 @@ def drifts(tstats: np.ndarray) -> np.ndarray:
     count = np.sum(np.abs(tstats) > DRIFT_T, axis=0)
     cutoff = int(stats.binom.isf(0.01, n_units, 0.05)) + 1    # smallest c with P(X >= c) <= 1 %
     return count >= cutoff
+
+
+def shrunk_drifts(mean: np.ndarray, noise: np.ndarray) -> np.ndarray:
+    """Each unit's drift shrunk towards the panel's mean drift (empirical Bayes, per variable).
+
+    ``mean`` (N, m) the unit means of the differences, ``noise`` (N, m) the variance of each mean.
+    ``μ̃_i = μ̄ + λ (μ̂_i − μ̄)`` with ``λ = max(0, 1 − mean noise / cross-unit variance of μ̂)``
+    (James & Stein 1961, Efron & Morris 1973; from memory): the spread of the estimated drifts
+    is the spread of the true drifts plus the estimation noise, and only the first belongs in the
+    bootstrap. The statistics depend on the drift through ``μ √T / σ``; the unshrunk estimates
+    put that ratio too far from zero on average (``E μ̂² = μ² + Var μ̂``), and with autocorrelated
+    differences (a larger ``Var μ̂``) the bootstrap rejected too often. Measured at N = 20, drifting
+    ``x`` with AR(0.5) differences, 1000 panels: Westerlund's Ga and Pa 7.8–7.9 % at 5 % nominal
+    with the unit estimates, 5.5–6.4 % shrunk (T = 40). Panels whose units drift at clearly
+    different rates keep them (``λ`` near one).
+    """
+    centre = mean.mean(axis=0, keepdims=True)
+    spread = mean.var(axis=0, ddof=1, keepdims=True) if mean.shape[0] > 1 else np.zeros_like(centre)
+    weight = np.clip(1.0 - noise.mean(axis=0, keepdims=True) / np.maximum(spread, 1e-300), 0.0, 1.0)
+    return centre + weight * (mean - centre)
 
 
 def drift_tstats(w: np.ndarray) -> np.ndarray:
@@ -128,7 +149,7 @@ def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
     units of each unit's AIC on the common sample (the periods after the first ``max_lags``). The
     lag coefficients are pooled over units (within estimator) and their first-order bias removed
     (:func:`bias_corrected` with ``pooled=True``); each unit keeps its own residuals, centred, and
-    its drift where the drift is significant (``|t| > DRIFT_T``).
+    its drift (shrunk towards the panel mean, :func:`shrunk_drifts`) where the panel drifts.
 
     Why one order for all units, pooled and bias-corrected: the non-parametric statistics
     (Pedroni's v, rho and PP) move a lot with the autoregressive coefficient of the differences at T = 30.
@@ -166,7 +187,9 @@ def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
     inv = np.linalg.inv(total)
     sigma_i = np.swapaxes(resid, 1, 2) @ resid / size
     lrv = np.diagonal(inv @ sigma_i @ np.swapaxes(inv, 1, 2), axis1=1, axis2=2)
-    mean = np.where(drifts(mean / np.sqrt(np.maximum(lrv, 1e-300) / size)), mean, 0.0)
+    noise = np.maximum(lrv, 1e-300) / size                                      # Var of each mean
+    keep = drifts(mean / np.sqrt(noise))
+    mean = np.where(keep, shrunk_drifts(mean, noise), 0.0)
     intercept = (total @ mean[..., None])[..., 0]
     order_all = np.full(n_units, order)
     start = np.concatenate([y[:, :1], x[:, 0, :]], axis=1)
