@@ -142,7 +142,8 @@ def size_notes(results: Any) -> list[str]:
     from evidence.tables.tests import flatten_tests
 
     tests = flatten_tests(results)
-    known, unknown = [], []
+    known: dict[str, dict[str, list[str]]] = {}
+    unknown = []
     for res in tests:
         size = res.details.get("size") if isinstance(res.details, Mapping) else None
         if not res.applicable:
@@ -150,14 +151,18 @@ def size_notes(results: Any) -> list[str]:
         if isinstance(size, Mapping) and "measured" in size:
             where = ", ".join(f"{k}={v}" for k, v in (("N", size.get("n_units")),
                                                       ("T", size.get("n_years"))) if v)
-            state = ("within" if size.get("controlled") else "OUTSIDE")
-            known.append(f"{res.test} {_pct(size['measured'])} at {where} ({state} 3 %–7.5 %)")
+            state = "within 3 %–7.5 %" if size.get("controlled") else "OUTSIDE 3 %–7.5 %"
+            known.setdefault(where, {}).setdefault(state, []).append(
+                f"{res.test} {_pct(size['measured'])}")
         else:
             unknown.append(res.test)
     notes = []
     if known:
+        # one clause per card point and state, so that a long test table keeps short notes
+        parts = [f"at {where}, {state}: " + ", ".join(names)
+                 for where, states in known.items() for state, names in states.items()]
         notes.append("Size at 5 % nominal, measured by Monte Carlo at the size card's point "
-                     "nearest this N and T (docs/methods/size.md): " + "; ".join(known) + ".")
+                     "nearest this N and T (docs/methods/size.md): " + "; ".join(parts) + ".")
     if unknown:
         notes.append("Not on the size card (p-values not checked by simulation at this N and T): "
                       + ", ".join(dict.fromkeys(unknown)) + ".")
