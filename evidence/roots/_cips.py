@@ -40,7 +40,7 @@ from evidence.roots._common import (
     size_details,
 )
 from evidence.roots._panel_null import panel_null, pooled_phi, register
-from evidence.roots._unit_batch import ols_tstat_batch, trend_columns
+from evidence.roots._unit_batch import trend_columns
 
 __all__ = ["cips_test", "cadf_tstats", "cips_statistic", "simulate_cips", "table_critical_values"]
 
@@ -60,28 +60,58 @@ def cadf_tstats(y: np.ndarray, trend: str, lags: int) -> np.ndarray:
     single = y.ndim == 2
     if single:
         y = y[None]
-    reps, nobs, n_units = y.shape
+    reps, nobs, _ = y.shape
     ybar = y.mean(axis=2, keepdims=True)
     dy, dbar = np.diff(y, axis=1), np.diff(ybar, axis=1)
     rows = nobs - lags - 1
     sl = slice(lags, nobs - 1)                       # Δ index for t = p+2..T
-
-    def full(a: np.ndarray) -> np.ndarray:
-        return np.broadcast_to(a, (reps, rows, n_units))
-
-    cols = [y[:, lags:nobs - 1, :], full(ybar[:, lags:nobs - 1, :]), full(dbar[:, sl, :])]
-    for j in range(1, lags + 1):
-        cols.append(full(dbar[:, lags - j:nobs - 1 - j, :]))
-        cols.append(dy[:, lags - j:nobs - 1 - j, :])
+    # Frisch–Waugh: the regressors shared by every unit of a panel (ȳ_{t-1}, Δȳ_{t-j},
+    # deterministic terms) are partialled out once per panel; each unit then has a regression on
+    # its own columns y_{i,t-1}, Δy_{i,t-j} only (the same OLS, regrouped)
     det = trend_columns(rows, trend)
-    for k in range(det.shape[1]):
-        cols.append(full(det[:, k][None, :, None]))
-    x = np.stack(cols, axis=3)                       # (R, rows, N, k)
-    x = np.moveaxis(x, 2, 1).reshape(reps * n_units, rows, len(cols))
-    lhs = np.moveaxis(dy[:, sl, :], 2, 1).reshape(reps * n_units, rows)
-    _, t = ols_tstat_batch(lhs, x, 0)
-    t = t.reshape(reps, n_units)
+    common = [ybar[:, lags:nobs - 1, 0], dbar[:, sl, 0]]
+    common += [dbar[:, lags - j:nobs - 1 - j, 0] for j in range(1, lags + 1)]
+    common += [np.broadcast_to(det[:, k], (reps, rows)) for k in range(det.shape[1])]
+    w = np.stack(common, axis=2)                                           # (R, rows, kc)
+    own = [y[:, lags:nobs - 1, :]] + [dy[:, lags - j:nobs - 1 - j, :] for j in range(1, lags + 1)]
+    z = np.stack(own, axis=3)                                              # (R, rows, N, ko)
+    lhs = dy[:, sl, :]                                                     # (R, rows, N)
+    wtw_inv, bad_panel = _inverse(np.einsum("rtk,rtl->rkl", w, w))
+
+    def partial(v: np.ndarray) -> np.ndarray:     # residuals on w, per panel: (R, rows, ...)
+        flat = v.reshape(reps, rows, -1)
+        coef = wtw_inv @ np.einsum("rtk,rtm->rkm", w, flat)
+        return (flat - w @ coef).reshape(v.shape)
+
+    zt = partial(z)
+    et = partial(lhs)
+    zz = np.einsum("rtnk,rtnl->rnkl", zt, zt)                             # (R, N, ko, ko)
+    ze = np.einsum("rtnk,rtn->rnk", zt, et)
+    ee = np.einsum("rtn,rtn->rn", et, et)
+    ko = z.shape[3]
+    zz_inv, bad_unit = _inverse(zz)
+    bad_unit |= bad_panel[:, None]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        beta = np.einsum("rnkl,rnl->rnk", zz_inv, ze)
+        ssr = ee - np.einsum("rnk,rnk->rn", beta, ze)
+        s2 = ssr / (rows - (w.shape[2] + ko))
+        var = s2 * zz_inv[..., 0, 0]
+        t = beta[..., 0] / np.sqrt(np.where(var > 0, var, np.nan))
+    t = np.where(bad_unit, np.nan, t)
     return t[0] if single else t
+
+
+def _inverse(a: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Inverses of a stack of square matrices and which are singular (those get the identity;
+    their regressions give NaN, as :func:`evidence.roots._unit_batch.ols_tstat_batch` does)."""
+    bad = np.zeros(a.shape[:-2], dtype=bool)
+    try:
+        return np.linalg.inv(a), bad
+    except np.linalg.LinAlgError:
+        bad = np.linalg.matrix_rank(a) < a.shape[-1]
+        a = a.copy()
+        a[bad] = np.eye(a.shape[-1])
+        return np.linalg.inv(a), bad
 
 
 def cips_statistic(t: np.ndarray, trend: str, truncate: bool) -> np.ndarray:
