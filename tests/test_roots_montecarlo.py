@@ -271,3 +271,20 @@ def test_pooled_null_calibration_removes_the_plugin_conservatism(capsys):
         print(f"\nLLC trend N=20 T=40: calibrated {size:.3f}, plug-in {size_plugin:.3f}")
     assert 0.035 <= size <= 0.065
     assert size_plugin < size
+
+
+def test_calibrated_critical_values_match_the_calibrated_pvalues():
+    # With noisy phi-hat the critical value at level a is read at the plug-in level whose
+    # calibrated p-value is a: the p-value of the 5 % critical value is 5 % (to Monte Carlo error).
+    from evidence.roots._panel_null import PanelNull
+
+    rng = np.random.default_rng(5)
+    reps = 4000
+    phi_hat = np.array([[0.0], [0.2]]) + 0.05 * rng.standard_normal((2, reps))
+    stats = rng.standard_normal((2, reps)) + 2.0 * (phi_hat - np.array([[0.0], [0.2]]))
+    order = np.argsort(stats, axis=1)
+    null = PanelNull((0.0, 0.2), np.take_along_axis(stats, order, 1), "test",
+                     np.take_along_axis(phi_hat, order, 1))
+    for phi in (0.0, 0.1, 0.2):
+        for level, cv in null.quantiles(phi, (0.01, 0.05, 0.10)).items():
+            assert abs(null.pvalue(cv, phi) - level) < 0.006
