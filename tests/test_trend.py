@@ -163,18 +163,14 @@ def test_power_against_a_two_percent_decline():
     assert power > 0.9
 
 
-def test_calibration_pieces_equal_the_perron_yabu_parts():
-    # The design calibrations compute the Perron-Yabu pieces from cross-products of the noise
-    # with the design; they must equal perron_yabu_parts on the same series (to rounding).
-    from evidence._grading_axes import recession_dummies
-    from evidence.trend import _calibrate, _stats
+def test_design_calibration_reuses_the_noise_of_its_length():
+    # Every recession design of one length is calibrated on the same seeded noise (drawn once and
+    # kept); the draws must be those simulate_null drew before the noise was kept.
+    from evidence._montecarlo import ar1
+    from evidence.trend import _calibrate
 
-    recession = np.zeros(30, dtype=bool)
-    recession[[9, 10, 11, 20]] = True
-    for segment in (None, 10):
-        d = _stats.with_columns(_stats.design(30, segment), recession_dummies(recession))
-        for _rho, u, sums in _calibrate._noise(30, segment, "py", 500, 7):
-            fast = _calibrate._py_pieces(u, sums, d)
-            plain = _stats.perron_yabu_parts(u, d)
-            for key in ("alpha", "t_gls", "t_diff"):
-                np.testing.assert_allclose(fast[key], plain[key], rtol=1e-9, atol=1e-12)
+    noise = _calibrate._noise(25, None, "py", 200, 11)
+    rng = np.random.default_rng([11, 25, 0, 2])
+    for rho, u in noise:
+        shocks = rng.standard_normal((25, 200))
+        np.testing.assert_array_equal(u, shocks.cumsum(axis=0) if rho == 1.0 else ar1(shocks, rho))

@@ -18,7 +18,7 @@ one table serves every series of that length. Each draw keeps the statistic and 
 the data would give (the first-order autocorrelation of Δy, or of the KPSS residuals).
 
 * A series' p-value is the share of draws at least as extreme *among draws whose φ̂ is near the
-  series' own φ̂* (Gaussian kernel, bandwidth ``0.3/sqrt(T)``), in the rows of the grid around
+  series' own φ̂* (Gaussian kernel of width ``0.3/sqrt(T)``), in the rows of the grid around
   the bias-corrected estimate (Kendall's first-order correction), interpolated linearly. Reading
   the distribution conditional on φ̂ removes most of the dependence on the unknown φ (a plug-in
   AR(1) bootstrap is 1–3 points off at T = 30 because the statistic and φ̂ are correlated).
@@ -72,7 +72,7 @@ class NullTable:
     label: str
 
     @property
-    def bandwidth(self) -> float:
+    def kernel_width(self) -> float:
         return 0.3 / math.sqrt(self.n_years)
 
     def phi_tilde(self, phi_hat: np.ndarray) -> np.ndarray:
@@ -99,7 +99,7 @@ class NullTable:
         phi_hat = np.broadcast_to(np.asarray(phi_hat, dtype=float), stat.shape)
         lo, hi, w = self._weights(self.phi_tilde(phi_hat))
         out = np.empty(stat.size)
-        h = self.bandwidth
+        h = self.kernel_width
         for start in range(0, stat.size, chunk):
             sl = slice(start, start + chunk)
             p_rows = []
@@ -118,7 +118,7 @@ class NullTable:
         lo, hi, w = self._weights(self.phi_tilde(np.array([phi_hat])))
         draws = np.concatenate([self.draws[lo[0]], self.draws[hi[0]]])
         kern = np.exp(-0.5 * ((np.concatenate([self.phis[lo[0]], self.phis[hi[0]]]) - phi_hat)
-                              / self.bandwidth) ** 2)
+                              / self.kernel_width) ** 2)
         kern[:self.draws.shape[1]] *= 1 - w[0]
         kern[self.draws.shape[1]:] *= w[0]
         order = np.argsort(draws)

@@ -26,12 +26,11 @@ from __future__ import annotations
 import sys
 from functools import lru_cache
 from pathlib import Path
-from typing import Any
 
 import numpy as np
 
 from evidence._montecarlo import ar1
-from evidence.trend._stats import design, park_j, robust_t, with_columns
+from evidence.trend._stats import design, park_j, perron_yabu_parts, robust_t, with_columns
 
 __all__ = ["RHOS", "ALPHAS", "calibrate", "simulate_null", "statistic", "on_demand", "TABLE_SEED",
            "TABLE_REPS"]
@@ -56,76 +55,30 @@ def simulate_null(nobs: int, segment: int | None, kind: str, *, reps: int, seed:
         d = with_columns(d, extra)
     out = []
     noise = (_noise_cached if reps * nobs <= 400_000 else _noise)(nobs, segment, kind, reps, seed)
-    for _rho, u, sums in noise:
+    for _rho, u in noise:
         if kind == "py":
-            out.append(_py_pieces(u, sums, d))
+            parts = perron_yabu_parts(u, d)
+            out.append({"alpha": parts["alpha"], "t_gls": parts["t_gls"], "t_diff": parts["t_diff"]})
         else:
             out.append({"t": robust_t(u, d, kind)[0], "j": park_j(u, d)})
     return out
 
 
 def _noise(nobs: int, segment: int | None, kind: str, reps: int,
-           seed: int) -> tuple[tuple[float, np.ndarray, np.ndarray], ...]:
-    """The seeded noise of :func:`simulate_null` for each ρ and its sums ``Σ u_t²``,
-    ``Σ u_t u_{t-1}``, ``Σ u_{t-1}²`` (the same draws serve every design of this length)."""
+           seed: int) -> tuple[tuple[float, np.ndarray], ...]:
+    """The seeded noise of :func:`simulate_null` for each ρ (the same draws serve every design
+    of this length)."""
     code = {"dan": 0, "ps": 1, "py": 2}[kind]
     rng = np.random.default_rng([seed, nobs, segment or 0, code])
     out = []
     for rho in RHOS:
         shocks = rng.standard_normal((nobs, reps))
-        u = shocks.cumsum(axis=0) if rho == 1.0 else ar1(shocks, rho)
-        sums = np.stack([np.einsum("tm,tm->m", u, u), np.einsum("tm,tm->m", u[1:], u[:-1]),
-                         np.einsum("tm,tm->m", u[:-1], u[:-1])])
-        out.append((rho, u, sums))
+        out.append((rho, shocks.cumsum(axis=0) if rho == 1.0 else ar1(shocks, rho)))
     return tuple(out)
 
 
 #: The draws of the design calibrations (small), kept for the next design of the same length.
 _noise_cached = lru_cache(maxsize=4)(_noise)
-
-
-def _py_pieces(u: np.ndarray, sums: np.ndarray, d: Any) -> dict[str, np.ndarray]:
-    """``alpha``, ``t_gls`` and ``t_diff`` of :func:`perron_yabu_parts` on the columns of ``u``,
-    from cross-products of ``u`` with the design (the arithmetic is the same, regrouped: the OLS
-    residual moments and the quasi-differenced regressions are quadratics in the plain sums)."""
-    x, contrast = d.x, d.contrast
-    n, k = x.shape
-    lag, cur = x[:-1], x[1:]
-    big_a, big_b, big_c = x.T @ x, cur.T @ lag, lag.T @ lag
-    p_all, q_cur, q_lag, r_lag = x.T @ u, cur.T @ u[:-1], lag.T @ u[1:], lag.T @ u[:-1]
-    b = d.xtx_inv @ p_all                                                        # (k, m)
-    # AR(1) of the OLS residuals r = u - X b, with the first-order bias correction
-    num = (sums[1] - np.einsum("km,km->m", b, q_cur + q_lag)
-           + np.einsum("km,kl,lm->m", b, big_b, b))
-    den = sums[2] - 2.0 * np.einsum("km,km->m", b, r_lag) + np.einsum("km,kl,lm->m", b, big_c, b)
-    alpha = num / np.maximum(den, 1e-300)
-    alpha = np.minimum(alpha + (1.0 + 3.0 * alpha) / n, 1.0)
-    out = {"alpha": alpha}
-    # a = 1 (first differences): one design for every series, as in perron_yabu_parts
-    diff_inv = np.linalg.pinv(big_a - (big_b + big_b.T) + big_c)
-    xu = p_all - (q_cur + q_lag) + r_lag                                         # (k, m)
-    coef = diff_inv @ xu
-    ssr = np.maximum(sums[0] - 2.0 * sums[1] + sums[2] - np.einsum("km,km->m", coef, xu), 0.0)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        out["t_diff"] = (contrast @ coef) / np.sqrt(ssr / (n - k) * (contrast @ diff_inv @ contrast))
-    for name, a in (("t_gls", alpha),):
-        a2 = a * a
-        xx = (big_a[None] - a[:, None, None] * (big_b + big_b.T)[None]
-              + a2[:, None, None] * big_c[None])
-        xu = (p_all - a * (q_cur + q_lag) + a2 * r_lag).T
-        uu = sums[0] - 2.0 * a * sums[1] + a2 * sums[2]
-        rhs = np.concatenate([xu[:, :, None],
-                              np.broadcast_to(contrast[None, :, None], (*xu.shape, 1))], axis=2)
-        try:
-            sol = np.linalg.solve(xx, rhs)
-        except np.linalg.LinAlgError:
-            sol = np.linalg.pinv(xx) @ rhs
-        coef = sol[:, :, 0]
-        ssr = np.maximum(uu - np.einsum("mk,mk->m", coef, xu), 0.0)
-        se = np.sqrt(ssr / (n - k) * (sol[:, :, 1] @ contrast))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            out[name] = (coef @ contrast) / se
-    return out
 
 
 def statistic(kind: str, pieces: dict[str, np.ndarray], theta: float, nobs: int) -> np.ndarray:
