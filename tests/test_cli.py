@@ -337,3 +337,20 @@ def test_long_and_slashed_column_names_in_a_study(tmp_path, capsys):
     assert main(["study", str(tmp_path / "s.toml"), "--out", str(tmp_path / "out")]) == 0
     names = [p.name for p in (tmp_path / "out" / "tables").iterdir()]
     assert all(len(n) < 100 for n in names) and len([n for n in names if n.startswith("rates_")]) == 4
+
+
+def test_a_workbook_with_an_unsupported_compression_method(tmp_path, capsys):
+    # zipfile raises NotImplementedError for a compression method it does not know (an encrypted
+    # or exotic archive): the user gets one line naming the file, exit 2, no traceback.
+    pytest.importorskip("openpyxl")
+    path = tmp_path / "odd.xlsx"
+    _workbook(path)
+    data = bytearray(path.read_bytes())
+    for signature, offset in ((b"PK\x03\x04", 8), (b"PK\x01\x02", 10)):   # local / central headers
+        start = 0
+        while (start := data.find(signature, start)) != -1:
+            data[start + offset:start + offset + 2] = (99).to_bytes(2, "little")
+            start += 4
+    path.write_bytes(bytes(data))
+    err = _one_line_exit_2(["inspect", str(path)], capsys)
+    assert "cannot be read" in err and "odd.xlsx" in err
