@@ -282,3 +282,17 @@ labels = {gdp = "GDP", ghg_territorial = "GHG (territorial)"}
 def test_caution_passed_as_a_note_stays_once_and_last():
     out = render_frame(pd.DataFrame({"a": [1.0]}), notes=[CAUTION, "other"])
     assert out.count("not a policy verdict") == 1 and out.rstrip().endswith("publish.")
+
+
+def test_a_warning_shared_by_every_test_is_said_once_for_all():
+    from evidence.results import TestResult
+    from evidence.tables.tests import hypothesis_notes
+
+    def result(name, warnings):
+        return TestResult(test=name, statistic=1.0, pvalue=0.5, critical_values={}, null="no link",
+                          alternative="a link", nobs=30, details={}, reference="",
+                          warnings=tuple(warnings))
+
+    both = [result("A", ["drift found"]), result("B", ["drift found", "short"])]
+    notes = hypothesis_notes(both, ["A", "B"])
+    assert "Every test: drift found" in notes and "B: short" in notes

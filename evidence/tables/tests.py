@@ -39,7 +39,8 @@ def _symbols(text: str) -> str:
 
 def hypothesis_notes(results: Sequence[TestResult], names: Sequence[str]) -> list[str]:
     """H0 of every test in one line when they agree, else one line per distinct H0; then why a
-    test was not computed; then each distinct warning with the tests it concerns."""
+    test was not computed; then each distinct warning with the tests it concerns ("every test"
+    when it concerns them all)."""
     nulls = [_symbols(r.null) for r in results]
     notes: list[str] = []
     if nulls and all(n == nulls[0] for n in nulls) and nulls[0]:
@@ -57,7 +58,9 @@ def hypothesis_notes(results: Sequence[TestResult], names: Sequence[str]) -> lis
             continue
         for warning in res.warnings:
             warned.setdefault(warning, []).append(name)
-    notes += [f"{', '.join(dict.fromkeys(who))}: {w}" for w, who in warned.items()]
+    every = len(dict.fromkeys(names)) > 1
+    notes += [f"{'Every test' if every and set(who) == set(names) else ', '.join(dict.fromkeys(who))}"
+              f": {w}" for w, who in warned.items()]
     return notes
 
 
