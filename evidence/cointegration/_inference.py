@@ -117,8 +117,9 @@ def size_warning(test: str, n_units: int, n_years: int,
         return note, None
     low, high = CONTROLLED
     text = (f"{options.split(',')[0].split('=')[-1]} p-value not calibrated: under H0 it rejected "
-            f"{note['measured']:.0%} of the time at 5 % nominal (N={note['n_units']}, "
-            f"T={note['n_years']}, {note['process']}; controlled means {low:.0%} to {high:.1%}); "
+            f"{100 * note['measured']:.1f} % of the time at 5 % nominal (N={note['n_units']}, "
+            f"T={note['n_years']}, {note['process']}; controlled means {100 * low:g} % to "
+            f"{100 * high:g} %); "
             "see docs/methods/size.md.")
     return note, text
 

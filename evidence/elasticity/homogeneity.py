@@ -37,9 +37,9 @@ from evidence._resample import (
     pooled_var,
     resample_residuals,
 )
-from evidence._size_card import size_note
 from evidence._typing import DEFAULT_SEED, Seed, Window
 from evidence._validation import check_choice, check_int, check_seed
+from evidence.cointegration._inference import size_warning
 from evidence.elasticity._design import build_design, unit_blocks
 from evidence.errors import DataError
 from evidence.panel import Panel
@@ -259,13 +259,11 @@ def slope_homogeneity_test(panel: Panel, pressure: str, activity: str, *,
                         "common_shocks": bool(model["common"]),
                         "seed": seed if isinstance(seed, int) else "generator"})
     warnings = []
-    note = size_note(name, n_units, round(t_bar), options=f"inference={inference}")
+    note, text = size_warning(name, n_units, round(t_bar), f"inference={inference}")
     if note:
         details["size"] = note
-        if not note.get("controlled", True):
-            warnings.append(f"{inference} p-value not calibrated: under H0 it rejected "
-                            f"{note['measured']:.0%} of the time at 5 % nominal (N={note['n_units']}, "
-                            f"T={note['n_years']}, {note['process']}); see docs/methods/size.md.")
+    if text:
+        warnings.append(text)
     return TestResult(
         test=name, statistic=stat, pvalue=pvalue, critical_values=crit,
         null="slopes are equal across units", alternative="slopes differ across units",
