@@ -42,10 +42,8 @@ from scipy import stats
 
 from evidence._hac import long_run_variance, newey_west_lags
 from evidence._resample import (
-    MAX_ROOT,
     bias_corrected,
     common_shocks,
-    largest_root,
     pooled_var,
     resample_residuals,
     var_design,
@@ -159,22 +157,26 @@ def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
     the bias correction 1–3 %, pooled with the per-series (Pope) correction up to 15 %, pooled
     with the within-estimator correction 2–7 %. The summed BIC chose no lags for 15 % of such
     panels (then Kao's bootstrap rejected 10–18 %); the summed AIC does not miss them and still
-    chooses no lags on independent random walks.
+    chooses no lags on independent random walks. Every unit counts in the sum whatever its own
+    fit (a unit is left out only when its residual covariance is singular at some order): when a
+    unit whose own VAR had a root near one ruled an order out for the whole panel, the search
+    chose no lags in 37 % of panels with AR(0.8) differences at N = 40, T = 25, the drifts were
+    then judged against a far too small long-run variance, and Kao's bootstrap rejected 34–40 %
+    at 5 % nominal (4–5 % since; our seeded check, 300 panels).
     """
     w = np.concatenate([np.diff(y, axis=1)[:, :, None], np.diff(x, axis=1)], axis=2)
     n_units, n_obs, m = w.shape
     max_lags = int(max(0, min(max_lags, (n_obs - 1 - m) // (m + 1) - 1)))
     first = max_lags
     size = n_obs - first
-    scores = []
+    fits = []
     for p in range(max_lags + 1):
-        coef, resid = _fit(w, p, first)
-        sigma = np.swapaxes(resid, 1, 2) @ resid / size
-        sign, logdet = np.linalg.slogdet(sigma)
-        lag_blocks = np.moveaxis(coef[:, 1:, :].reshape(n_units, p, m, m), 3, 2)
-        ok = (sign > 0) & (largest_root(lag_blocks) < MAX_ROOT)
-        scores.append(np.sum(np.where(ok, logdet + 2.0 * (m * m * p + m) / size, np.inf)))
-    order = int(np.argmin(scores))
+        _, resid = _fit(w, p, first)
+        sign, logdet = np.linalg.slogdet(np.swapaxes(resid, 1, 2) @ resid / size)
+        fits.append(np.where(sign > 0, logdet + 2.0 * (m * m * p + m) / size, np.nan))
+    scores = np.asarray(fits)                                                  # (orders, N)
+    usable = np.all(np.isfinite(scores), axis=0)       # units with a non-singular fit at every order
+    order = int(np.argmin(scores[:, usable].sum(axis=1))) if usable.any() else 0
     lags = np.zeros((n_units, max(order, 1), m, m))
     _, blocks, resid = pooled_var(w, order, first)
     resid = resid - resid.mean(axis=1, keepdims=True)
