@@ -134,6 +134,22 @@ def test_drift_decision_is_panel_wide():
     t[:4, 0] = 3.0
     t[:, 1] = 2.5
     assert drifts(t).tolist() == [False, True]
+    # a mean drift whose t-ratio exceeds 1.96 counts even when few units show it on their own
+    assert drifts(t, np.array([2.1, 0.0])).tolist() == [True, True]
+    assert drifts(t, np.array([-1.9, 0.0])).tolist() == [False, True]
+
+
+def test_sieve_finds_a_common_drift_hidden_by_persistent_noise():
+    # x drifts by 1 per period in every unit, AR(0.8) differences with unit shocks, N = 20, T = 30:
+    # each unit's t-ratio is about 1, the panel's mean drift is clear (seeded panel)
+    rng = np.random.default_rng(23)
+    e = rng.standard_normal((2, 20, 50))
+    w = np.zeros_like(e)
+    for s in range(1, 50):
+        w[:, :, s] = 0.8 * w[:, :, s - 1] + e[:, :, s]
+    y, x = w[0, :, 20:].cumsum(axis=1), (1.0 + w[1, :, 20:]).cumsum(axis=1)[:, :, None]
+    model = fit_sieve(y, x, max_lags=2)
+    assert np.all(model.mean[:, 1] > 0) and np.all(model.mean[:, 0] == 0)
 
 
 def test_sieve_null_model():

@@ -40,6 +40,8 @@ COINTEGRATION_NULLS = [
     ("walks", {"drift": 1.0, "rho": 0.5}, "independent I(1), x drifting, AR(0.5) differences"),
     ("walks", {"drift": 1.0, "factor": 0.5},
      "independent I(1), x drifting, a common factor (half the shock variance)"),
+    ("walks", {"rho": 0.8}, "independent I(1) series, AR(0.8) differences"),
+    ("walks", {"drift": 1.0, "rho": 0.8}, "independent I(1), x drifting, AR(0.8) differences"),
 ]
 COINTEGRATION_ALTERNATIVE = ("cointegrated", {"drift": 1.0, "rho": 0.5},
                              "cointegrated, slope 0.7, AR(0.5) error, x drifting")

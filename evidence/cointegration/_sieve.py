@@ -58,19 +58,28 @@ BURN = 30
 DRIFT_T = 1.96
 
 
-def drifts(tstats: np.ndarray) -> np.ndarray:
+def drifts(tstats: np.ndarray, mean_t: np.ndarray | None = None) -> np.ndarray:
     """Which variables drift, panel-wide: ``(m,)`` booleans from the unit t-ratios ``(N, m)``.
 
     A variable drifts when more units have ``|t| > DRIFT_T`` than ``Binomial(N, 0.05)`` gives with
-    probability 1 % (so about 4 of 20 units, 6 of 40); then every unit keeps its own estimated
-    drift, otherwise none does. Deciding unit by unit puts spurious drifts into 5 % of the units,
-    which pooled statistics (Kao, Westerlund's Pt and Pa) magnify: Kao's bootstrap rejected 8–13 %
-    at 5 % nominal with unit-by-unit decisions on panels without drift.
+    probability 1 % (so about 4 of 20 units, 6 of 40), or when the t-ratio of the panel's mean
+    drift ``mean_t`` (m,) exceeds ``DRIFT_T``; then every unit keeps its (shrunk) estimated
+    drift, otherwise none does.
+
+    * Deciding unit by unit puts spurious drifts into 5 % of the units, which pooled statistics
+      (Kao, Westerlund's Pt and Pa) magnify: Kao's bootstrap rejected 8–13 % at 5 % nominal with
+      unit-by-unit decisions on panels without drift.
+    * Counting units alone misses a common drift that is small against persistent noise: with
+      AR(0.8) differences each unit's t-ratio of a 2 %/yr drift is about 1 at T = 30, the count
+      found the drift in 43 % of panels (N = 20), and where it did not, the bootstrap without
+      drift rejected 12–15 % (Pedroni's v and ADF, Westerlund's Pt and Pa). The mean's t-ratio
+      finds it in nearly all (our seeded checks, 300 panels).
     """
     n_units = tstats.shape[0]
     count = np.sum(np.abs(tstats) > DRIFT_T, axis=0)
     cutoff = int(stats.binom.isf(0.01, n_units, 0.05)) + 1    # smallest c with P(X >= c) <= 1 %
-    return count >= cutoff
+    found = count >= cutoff
+    return found if mean_t is None else found | (np.abs(mean_t) > DRIFT_T)
 
 
 def shrunk_drifts(mean: np.ndarray, noise: np.ndarray) -> np.ndarray:
@@ -190,7 +199,11 @@ def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
     sigma_i = np.swapaxes(resid, 1, 2) @ resid / size
     lrv = np.diagonal(inv @ sigma_i @ np.swapaxes(inv, 1, 2), axis1=1, axis2=2)
     noise = np.maximum(lrv, 1e-300) / size                                      # Var of each mean
-    keep = drifts(mean / np.sqrt(noise))
+    # the panel's mean drift, with the long-run variance of the cross-section average of w
+    # (same VAR, innovations the cross-section mean of the residuals: common shocks stay in)
+    sigma_bar = np.atleast_2d(np.cov(resid.mean(axis=0).T, bias=True))
+    lrv_bar = np.diagonal(inv[0] @ sigma_bar @ inv[0].T)
+    keep = drifts(mean / np.sqrt(noise), mean.mean(axis=0) / np.sqrt(np.maximum(lrv_bar, 1e-300) / size))
     mean = np.where(keep, shrunk_drifts(mean, noise), 0.0)
     intercept = (total @ mean[..., None])[..., 0]
     order_all = np.full(n_units, order)
