@@ -14,7 +14,9 @@ of every variable are the common shocks ``f_s``; each unit's residual vector is 
 the common shocks are drawn once for all units (so common shocks stay common), the periods
 ``s_i*`` of the own parts independently for each unit (so no spurious correlation is added). The
 variables of one unit always share a period (their correlation, e.g. endogeneity, is kept). Both
-draws use circular blocks of ``block_length`` periods.
+draws use circular blocks of ``block_length`` periods. The common shocks are first rid of the
+mean of the own shocks they carry (:func:`deflate_common`), which the bootstrap would otherwise
+make common to all units.
 
 The split is made only when the residuals show dependence between units: Pesaran's (2004) CD
 statistic of some variable's residuals beyond ±2.576 (1 %, two-sided; :func:`common_shocks`).
@@ -22,7 +24,8 @@ Otherwise every unit draws its own periods. The split is not free: on independen
 cross-section mean still carries each unit's own residual with weight ``1/N``, and loadings
 estimated from ``S`` periods add pairwise correlations of order ``±1/sqrt(S)``; measured at
 N = 20, T = 30 on independent random walks, the split made Kao's bootstrap reject 2–4 % at 5 %
-nominal (its 5 % quantiles 0.1 too far left), resampling unit by unit 4–5 %.
+nominal (its 5 % quantiles 0.1 too far left) before :func:`deflate_common`, resampling unit by
+unit 4–5 %.
 
 References
 ----------
@@ -40,7 +43,7 @@ from __future__ import annotations
 
 import numpy as np
 
-__all__ = ["draw_periods", "split_common", "common_shocks", "cd_statistics", "CD_CRITICAL",
+__all__ = ["draw_periods", "split_common", "deflate_common", "common_shocks", "cd_statistics", "CD_CRITICAL",
            "resample_residuals", "var_design", "pooled_var",
            "companion", "largest_root", "bias_corrected", "MAX_ROOT"]
 
@@ -75,6 +78,40 @@ def split_common(resid: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]
     loadings = np.swapaxes(np.linalg.solve(gram, common.T @ resid), 1, 2)  # (N, m_eq, m_f)
     own = resid - np.einsum("nab,sb->nsa", loadings, common)
     return common, loadings, own
+
+
+def _sym_power(mat: np.ndarray, power: float) -> np.ndarray:
+    vals, vecs = np.linalg.eigh(mat)
+    return (vecs * np.maximum(vals, 1e-300) ** power) @ vecs.T
+
+
+def deflate_common(factors: np.ndarray, loadings: np.ndarray, own: np.ndarray
+                   ) -> tuple[np.ndarray, np.ndarray]:
+    """The common shocks less the own shocks they carry, and the own parts made up for it.
+
+    The cross-section mean ``f_s`` of the residuals is the common shock plus the mean of the own
+    shocks, whose covariance is about ``D = Σ_i η_i'η_i / (S N²)``. Drawn by whole periods for
+    every unit, that mean of own shocks becomes common to all units in the bootstrap, and the
+    own parts, drawn unit by unit, carry the own shocks again: the variance of a cross-section
+    sum grows by about ``N σ²_own`` (measured at N = 20, T = 30, a common factor taking half of the
+    shock variance, 1000 panels: the pooled statistics rejected 2.4–3.6 % at 5 % nominal, Kao's
+    DF ρ 2.9 %). The common shocks are therefore linearly transformed to the covariance
+    ``cov(f) − D`` (floored at a tenth of the smallest eigenvalue of ``cov(f)``), and each unit's
+    own part scaled up by the variance its common part lost, ``Λ_i D Λ_i'``, so that every
+    unit keeps its variance (same panels: 3.0–5.2 %, Kao's DF ρ 3.5 %; our seeded check).
+    Returns the transformed ``f`` (S, m) and the scaled own parts (N, S, m).
+    """
+    n_units, size, _m = own.shape
+    cov_f = factors.T @ factors / size
+    noise = np.einsum("nsa,nsb->ab", own, own) / (size * n_units * n_units)
+    vals, vecs = np.linalg.eigh(cov_f - noise)
+    floor = 0.1 * np.linalg.eigvalsh(cov_f).min()
+    target = (vecs * np.maximum(vals, floor)) @ vecs.T
+    transform = _sym_power(cov_f, -0.5) @ _sym_power(target, 0.5)
+    lost = np.einsum("nab,bc,nac->na", loadings, cov_f - target, loadings)     # (N, m)
+    own_var = np.sum(own ** 2, axis=1) / size
+    scale = np.sqrt((own_var + lost) / np.maximum(own_var, 1e-300))
+    return factors @ transform, own * scale[:, None, :]
 
 
 def cd_statistics(resid: np.ndarray) -> np.ndarray:
@@ -115,6 +152,7 @@ def resample_residuals(resid: np.ndarray, rng: np.random.Generator, reps: int, l
     if not common:
         return resid[np.arange(n_units)[None, :, None], solo]                 # (reps, N, length, m)
     factors, loadings, own = split_common(resid)
+    factors, own = deflate_common(factors, loadings, own)
     projected = np.einsum("nab,sb->nsa", loadings, factors)                  # (N, S, m)
     part_common = np.moveaxis(projected[:, shared], 0, 1)                    # (reps, N, length, m)
     part_own = own[np.arange(n_units)[None, :, None], solo]                   # (reps, N, length, m)

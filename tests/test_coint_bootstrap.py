@@ -7,14 +7,15 @@ from __future__ import annotations
 import numpy as np
 import pytest
 import statsmodels.api as sm
-from statsmodels.tsa.api import VAR
 from numpy.testing import assert_allclose
+from statsmodels.tsa.api import VAR
 from test_coint_sim import simulate, to_panel
 
 from evidence._resample import (
     bias_corrected,
     cd_statistics,
     common_shocks,
+    deflate_common,
     pooled_var,
     resample_residuals,
     split_common,
@@ -108,7 +109,7 @@ def test_resampling_keeps_common_shocks_common_and_own_shocks_apart():
     # 20 independent units: a bootstrap that draws whole periods hands every pair its sample
     # correlation (about ±0.15 with 25 periods). Without significant CD the units draw their own
     # periods (no correlation at all); forced to split, pairs share only the weak common part,
-    # with loadings estimated from the same sample (correlations 1/N on average, half as spread)
+    # which is the mean of the own shocks and deflated away (correlations near 0, half as spread)
     own = rng.standard_normal((20, 25, 1))
     pairs = np.triu_indices(20, 1)
     sample = np.corrcoef(own[:, :, 0])[pairs]
@@ -119,12 +120,29 @@ def test_resampling_keeps_common_shocks_common_and_own_shocks_apart():
     assert abs(np.mean(boot)) < 0.01 and np.mean(np.abs(boot)) < 0.03
     draws = resample_residuals(own, np.random.default_rng(6), 400, 25, common=True)[..., 0]
     boot = np.corrcoef(np.moveaxis(draws, 1, 0).reshape(20, -1))[pairs]
-    assert abs(np.mean(boot) - 1 / 20) < 0.02
+    assert abs(np.mean(boot)) < 0.02
     assert np.mean(np.abs(boot - np.mean(boot))) < np.mean(np.abs(sample)) / 2
     # the variables of one unit share a period: identical columns stay identical
     twin = np.repeat(rng.standard_normal((3, 20, 1)), 2, axis=2)
     draws = resample_residuals(twin, np.random.default_rng(7), 5, 20)
     assert_allclose(draws[..., 0], draws[..., 1], atol=1e-12)
+
+
+def test_deflated_common_shocks_keep_each_units_variance_and_the_true_covariance():
+    # units load on one common shock (variance 1) and own shocks (variance 1), N = 10, S = 400:
+    # the cross-section mean has covariance 1 + 1/N; deflated, about 1, and every unit's
+    # bootstrap variance Λ_i² var(f~) + var(η~_i) equals its sample variance
+    rng = np.random.default_rng(12)
+    load = rng.uniform(0.5, 1.5, 10)
+    resid = load[:, None, None] * rng.standard_normal((1, 400, 1)) + rng.standard_normal((10, 400, 1))
+    resid -= resid.mean(axis=1, keepdims=True)
+    common, loadings, own = split_common(resid)
+    deflated, scaled = deflate_common(common, loadings, own)
+    mean_load = load.mean()
+    assert abs(np.var(common) - (mean_load ** 2 + 0.1)) < 0.15
+    assert abs(np.var(deflated) - mean_load ** 2) < 0.15
+    total = loadings[:, 0, 0] ** 2 * np.mean(deflated[:, 0] ** 2) + np.mean(scaled[..., 0] ** 2, axis=1)
+    assert_allclose(total, np.mean(resid[..., 0] ** 2, axis=1), rtol=1e-10)
 
 
 # ---------------------------------------------------------------------------- sieve model
