@@ -146,6 +146,15 @@ def test_deflated_common_shocks_keep_each_units_variance_and_the_true_covariance
 
 
 # ---------------------------------------------------------------------------- sieve model
+def _ar_differences(seed: int, n_units: int, n_periods: int, rho: float, *, burn: int) -> np.ndarray:
+    """Seeded AR(rho) differences of y and x: (2, N, n_periods), the first ``burn`` dropped."""
+    e = np.random.default_rng(seed).standard_normal((2, n_units, burn + n_periods))
+    w = np.zeros_like(e)
+    for s in range(1, burn + n_periods):
+        w[:, :, s] = rho * w[:, :, s - 1] + e[:, :, s]
+    return w[:, :, burn:]
+
+
 def test_drift_decision_is_panel_wide():
     # Binomial(20, 0.05): 5 or more units with |t| > 1.96 happen with probability 0.26 %
     t = np.zeros((20, 2))
@@ -160,12 +169,8 @@ def test_drift_decision_is_panel_wide():
 def test_sieve_finds_a_common_drift_hidden_by_persistent_noise():
     # x drifts by 1 per period in every unit, AR(0.8) differences with unit shocks, N = 20, T = 30:
     # each unit's t-ratio is about 1, the panel's mean drift is clear (seeded panel)
-    rng = np.random.default_rng(23)
-    e = rng.standard_normal((2, 20, 50))
-    w = np.zeros_like(e)
-    for s in range(1, 50):
-        w[:, :, s] = 0.8 * w[:, :, s - 1] + e[:, :, s]
-    y, x = w[0, :, 20:].cumsum(axis=1), (1.0 + w[1, :, 20:]).cumsum(axis=1)[:, :, None]
+    w = _ar_differences(23, 20, 30, 0.8, burn=20)
+    y, x = w[0].cumsum(axis=1), (1.0 + w[1]).cumsum(axis=1)[:, :, None]
     model = fit_sieve(y, x, max_lags=2)
     assert np.all(model.mean[:, 1] > 0) and np.all(model.mean[:, 0] == 0)
 
@@ -191,12 +196,8 @@ def test_sieve_order_is_not_vetoed_by_one_units_explosive_fit():
     # the order is chosen on the summed AIC of every unit all the same (seeded panel; an order of
     # 0 here left the bootstrap without the persistence and Kao's bootstrap rejected 34-40 % at
     # 5 % nominal, our seeded check of 300 panels)
-    rng = np.random.default_rng(29)
-    e = rng.standard_normal((2, 40, 45))
-    w = np.zeros_like(e)
-    for s in range(1, 45):
-        w[:, :, s] = 0.8 * w[:, :, s - 1] + e[:, :, s]
-    y, x = w[0, :, 20:].cumsum(axis=1), w[1, :, 20:].cumsum(axis=1)[:, :, None]
+    w = _ar_differences(29, 40, 25, 0.8, burn=20)
+    y, x = w[0].cumsum(axis=1), w[1].cumsum(axis=1)[:, :, None]
     unit_roots = []
     for i in range(40):
         fit = VAR(np.column_stack([np.diff(y[i]), np.diff(x[i, :, 0])])).fit(1)
@@ -210,11 +211,7 @@ def test_sieve_order_is_not_vetoed_by_one_units_explosive_fit():
 def test_sieve_order_minimises_the_summed_unit_aic_of_statsmodels():
     # the score of an order is the sum over units of statsmodels' VAR AIC on the common sample
     # (statsmodels.tsa.api.VAR(...).fit(p).aic), the first max_lags differences held back
-    rng = np.random.default_rng(22)
-    e = rng.standard_normal((2, 12, 40))
-    w = np.zeros_like(e)
-    for s in range(1, 40):
-        w[:, :, s] = 0.5 * w[:, :, s - 1] + e[:, :, s]
+    w = _ar_differences(22, 12, 40, 0.5, burn=0)
     y, x = w[0].cumsum(axis=1), w[1].cumsum(axis=1)[:, :, None]
     diffs = np.stack([np.diff(y, axis=1), np.diff(x[:, :, 0], axis=1)], axis=2)
     totals = [sum(VAR(diffs[i, 2 - p:]).fit(p, trend="c").aic for i in range(12)) for p in range(3)]
