@@ -29,7 +29,7 @@ from evidence.cointegration._residual_math import (
     select_adf_lags,
     static_residuals,
 )
-from evidence.cointegration._sieve import drifts, fit_sieve, sieve_draws
+from evidence.cointegration._sieve import drifts, fit_sieve, sieve_draws, var_drift_tstats
 from evidence.cointegration._westerlund import westerlund_raw, westerlund_statistics
 from evidence.cointegration.panel import pedroni_test
 
@@ -164,6 +164,21 @@ def test_drift_decision_is_panel_wide():
     # a mean drift whose t-ratio exceeds 1.96 counts even when few units show it on their own
     assert drifts(t, np.array([2.1, 0.0])).tolist() == [True, True]
     assert drifts(t, np.array([-1.9, 0.0])).tolist() == [False, True]
+
+
+def test_drift_tstats_without_lags_equal_statsmodels_constant_only_regressions():
+    # with no VAR lags, a unit's t-ratio is the OLS t of its w on a constant, and the panel's the
+    # OLS t of the cross-section average of w on a constant (statsmodels OLS), variances over S
+    # rather than S - 1 (hence the factor sqrt(S / (S - 1)))
+    rng = np.random.default_rng(24)
+    w = 0.3 + rng.standard_normal((15, 28, 2)) + rng.standard_normal((1, 28, 2))
+    mean = w.mean(axis=1)
+    unit_t, mean_t, _ = var_drift_tstats(mean, w - mean[:, None, :], np.broadcast_to(np.eye(2), (15, 2, 2)))
+    factor = np.sqrt(28 / 27)
+    ones = np.ones(28)
+    assert_allclose(unit_t[4, 1], sm.OLS(w[4, :, 1], ones).fit().tvalues[0] * factor, rtol=1e-10)
+    assert_allclose(mean_t[0], sm.OLS(w[:, :, 0].mean(axis=0), ones).fit().tvalues[0] * factor,
+                    rtol=1e-10)
 
 
 def test_sieve_finds_a_common_drift_hidden_by_persistent_noise():

@@ -50,6 +50,7 @@ from evidence._resample import (
 )
 
 __all__ = ["SieveModel", "fit_sieve", "sieve_draws", "drifts", "drift_tstats", "shrunk_drifts",
+           "var_drift_tstats",
            "DRIFT_T", "bias_corrected"]
 
 #: Periods simulated and discarded before each bootstrap sample (the VAR starts at its mean).
@@ -113,6 +114,29 @@ def drift_tstats(w: np.ndarray) -> np.ndarray:
     flat = np.moveaxis(w, 1, 0).reshape(n_obs, n_units * m)
     lrv = long_run_variance(flat, newey_west_lags(n_obs), demean=True).reshape(n_units, m)
     return w.mean(axis=1) / np.sqrt(np.maximum(lrv, 1e-300) / n_obs)
+
+
+def var_drift_tstats(mean: np.ndarray, resid: np.ndarray, total: np.ndarray
+                     ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """t-ratios of the drifts under the fitted VAR: each unit's (N, m), the panel mean's (m,).
+
+    ``mean`` (N, m) the unit means of ``w``, ``resid`` (N, S, m) the centred VAR residuals,
+    ``total`` (N, m, m) ``I − Σ_j A_j``. The long-run variance of a unit's ``w`` is
+    ``(I − ΣA)⁻¹ Σ_i (I − ΣA)⁻ᵀ`` with ``Σ_i`` its residual covariance; that of the
+    cross-section average uses the covariance of the cross-section mean of the residuals (so a
+    common shock is not taken for a drift). Variances divide by ``S``. Also returns the
+    variance of each unit mean (N, m), which :func:`shrunk_drifts` uses.
+    """
+    size = resid.shape[1]
+    inv = np.linalg.inv(total)
+    sigma_i = np.swapaxes(resid, 1, 2) @ resid / size
+    noise = np.maximum(np.diagonal(inv @ sigma_i @ np.swapaxes(inv, 1, 2), axis1=1, axis2=2),
+                       1e-300) / size
+    average = resid.mean(axis=0)
+    sigma_bar = average.T @ average / size
+    lrv_bar = np.diagonal(inv[0] @ sigma_bar @ inv[0].T)
+    return (mean / np.sqrt(noise), mean.mean(axis=0) / np.sqrt(np.maximum(lrv_bar, 1e-300) / size),
+            noise)
 
 
 @dataclass(frozen=True, eq=False)
@@ -194,16 +218,8 @@ def fit_sieve(y: np.ndarray, x: np.ndarray, *, max_lags: int) -> SieveModel:
         lags[:, :order] = bias_corrected(blocks[None], sigma, size, pooled=True)
     total = np.eye(m) - lags.sum(axis=1)
     mean = w[:, first:].mean(axis=1)
-    # t-ratios of the drifts with the VAR's long-run variance (I - ΣA)^-1 Σ_i (I - ΣA)^-T
-    inv = np.linalg.inv(total)
-    sigma_i = np.swapaxes(resid, 1, 2) @ resid / size
-    lrv = np.diagonal(inv @ sigma_i @ np.swapaxes(inv, 1, 2), axis1=1, axis2=2)
-    noise = np.maximum(lrv, 1e-300) / size                                      # Var of each mean
-    # the panel's mean drift, with the long-run variance of the cross-section average of w
-    # (same VAR, innovations the cross-section mean of the residuals: common shocks stay in)
-    sigma_bar = np.atleast_2d(np.cov(resid.mean(axis=0).T, bias=True))
-    lrv_bar = np.diagonal(inv[0] @ sigma_bar @ inv[0].T)
-    keep = drifts(mean / np.sqrt(noise), mean.mean(axis=0) / np.sqrt(np.maximum(lrv_bar, 1e-300) / size))
+    unit_t, mean_t, noise = var_drift_tstats(mean, resid, total)
+    keep = drifts(unit_t, mean_t)
     mean = np.where(keep, shrunk_drifts(mean, noise), 0.0)
     intercept = (total @ mean[..., None])[..., 0]
     order_all = np.full(n_units, order)
