@@ -48,6 +48,7 @@ COINTEGRATION_ALTERNATIVE = ("cointegrated", {"drift": 1.0, "rho": 0.5},
 CAUSALITY_NULLS = [
     ("granger", {"rho": 0.7}, "no causality, stationary AR(0.7) series"),
     ("granger", {"rho": 0.7, "factor": 0.5}, "no causality, AR(0.7), a common factor"),
+    ("granger", {"rho": 0.8, "factor": 0.5}, "no causality, AR(0.8), a common factor"),
 ]
 CAUSALITY_ALTERNATIVE = ("granger", {"rho": 0.7, "effect": 0.3}, "x_t-1 enters y_t (0.3), AR(0.7)")
 HOMOGENEITY_NULLS = [
